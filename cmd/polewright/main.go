@@ -1,0 +1,27 @@
+// Command polewright designs active analog filters: from a requirement to
+// poles, zeros and op-amp sections, on the command line or in a browser.
+//
+// Usage:
+//
+//	polewright                                 same as serve
+//	polewright serve  [-addr 127.0.0.1:8080]   the workbench in a browser
+//	polewright design -spec FILE               design as JSON on stdout
+//	polewright export -spec FILE -as KIND      KIND: json (more kinds follow)
+//
+// -spec - reads standard input. A spec that cannot be built exits with
+// status 2 and one line on stderr that begins with "spec: ".
+package main
+
+import (
+	"context"
+	"os"
+	"os/signal"
+	"syscall"
+)
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	code := run(ctx, os.Args[1:], os.Stdin, os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
+}

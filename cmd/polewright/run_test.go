@@ -1,0 +1,121 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/require"
+)
+
+func runCLI(t *testing.T, stdin string, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errOut bytes.Buffer
+	code := run(context.Background(), args, strings.NewReader(stdin), &out, &errOut)
+	return code, out.String(), errOut.String()
+}
+
+func TestDesignCommand(t *testing.T) {
+	t.Parallel()
+	spec := `{"approximation":"chebyshev1","passband_hz":1000,"stopband_hz":3000,"passband_ripple_db":0.5,"stopband_atten_db":50}`
+	code, out, errOut := runCLI(t, spec, "design", "-spec", "-")
+	require.Equal(t, exitOK, code, errOut)
+	require.Empty(t, errOut)
+	var d map[string]any
+	require.NoError(t, json.Unmarshal([]byte(out), &d))
+	// scipy.signal.cheb1ord(1000, 3000, 0.5, 50, analog=True) returns 5
+	// (and the closed form acosh(√((10⁵−1)/(10^0.05−1)))/acosh(3) = 4.54).
+	require.InDelta(t, 5, d["order"], 0)
+	for _, k := range []string{"order", "poles_rad_s", "zeros_rad_s", "gain", "sections", "response", "meets_mask"} {
+		require.Contains(t, d, k)
+	}
+	require.Equal(t, true, d["meets_mask"])
+
+	// export -as json writes the same design.
+	code, out2, _ := runCLI(t, spec, "export", "-spec", "-", "-as", "json")
+	require.Equal(t, exitOK, code)
+	require.JSONEq(t, out, out2)
+}
+
+func TestDesignFromFile(t *testing.T) {
+	t.Parallel()
+	path := filepath.Join(t.TempDir(), "spec.json")
+	require.NoError(t, os.WriteFile(path, []byte(`{"passband_hz": 100, "order": 3}`), 0o600))
+	code, out, _ := runCLI(t, "", "design", "-spec", path)
+	require.Equal(t, exitOK, code)
+	require.Contains(t, out, `"poles_rad_s"`)
+}
+
+// TestBadSpecs checks INTERFACE.md's error contract: status 2, nothing on
+// stdout, one stderr line beginning "spec: " that names the field, and
+// quickly.
+func TestBadSpecs(t *testing.T) {
+	t.Parallel()
+	tests := []struct {
+		name  string
+		spec  string
+		field string
+	}{
+		{"negative passband", `{"passband_hz": -1}`, "passband_hz"},
+		{"stopband below", `{"passband_hz": 1000, "stopband_hz": 800}`, "stopband_hz"},
+		{"malformed", `{"passband_hz": `, "json"},
+		{"empty", ``, "json"},
+		{"unknown field", `{"passband_hz": 1000, "order": 2, "wobble": 1}`, "wobble"},
+		{"order 21", `{"passband_hz": 1000, "order": 21}`, "order"},
+		// Butterworth needs order 25 here: log10((10^8−1)/(10^0.1−1))/(2·log10(1.5)) = 24.4 (Amax 1 dB).
+		{"needs order above 20", `{"passband_hz": 1000, "stopband_hz": 1500, "stopband_atten_db": 80}`, "stopband_hz"},
+		{"oversized", `{"passband_hz": 1000, "order": 2` + strings.Repeat(" ", 1<<20) + `}`, "json"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			start := time.Now()
+			for _, cmd := range [][]string{{"design", "-spec", "-"}, {"export", "-spec", "-", "-as", "json"}} {
+				code, out, errOut := runCLI(t, tc.spec, cmd...)
+				require.Equal(t, exitUsage, code)
+				require.Empty(t, out)
+				require.True(t, strings.HasPrefix(errOut, "spec: "+tc.field+": "), errOut)
+				require.Equal(t, 1, strings.Count(errOut, "\n"), errOut)
+			}
+			require.Less(t, time.Since(start), 5*time.Second) // "in under a second" (issue 2), with slack for -race
+		})
+	}
+}
+
+func TestNeedsOrderMessage(t *testing.T) {
+	t.Parallel()
+	_, _, errOut := runCLI(t, `{"passband_hz": 1000, "stopband_hz": 1500, "stopband_atten_db": 80}`, "design", "-spec", "-")
+	// The order it would need: ceil(24.4) = 25 (closed form above).
+	require.Contains(t, errOut, "order 25")
+}
+
+func TestUsageErrors(t *testing.T) {
+	t.Parallel()
+	tests := []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"unknown command", []string{"frobnicate"}, "unknown command"},
+		{"no spec", []string{"design"}, "-spec FILE is required"},
+		{"missing file", []string{"design", "-spec", "/nonexistent/spec.json"}, "spec: json: cannot open"},
+		{"bad flag", []string{"design", "-bogus"}, "flag provided but not defined"},
+		{"no kind", []string{"export", "-spec", "-"}, "-as KIND is required"},
+		{"bad kind", []string{"export", "-spec", "-", "-as", "pdf"}, "not a kind"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			code, out, errOut := runCLI(t, `{"passband_hz": 100, "order": 2}`, tc.args...)
+			require.Equal(t, exitUsage, code)
+			require.Empty(t, out)
+			require.Contains(t, errOut, tc.want)
+			require.Equal(t, 1, strings.Count(errOut, "\n"), errOut)
+		})
+	}
+}

@@ -1,0 +1,46 @@
+package synth_test
+
+import (
+	"context"
+	"testing"
+
+	"github.com/polewright/polewright/synth"
+)
+
+// benchSpecs are the specs that testdata/scipy/bench_scipy.py times in
+// scipy too, so the two figures can be read side by side.
+var benchSpecs = []struct {
+	name string
+	spec synth.Spec
+}{
+	{"butterworth-8", withOrder(baseSpec(synth.Lowpass, "butterworth"), 8, 1)},
+	{"chebyshev1-8", withOrder(baseSpec(synth.Lowpass, "chebyshev1"), 8, 1)},
+	{"elliptic-8", withOrder(baseSpec(synth.Lowpass, "elliptic"), 8, 1)},
+	{"bessel-8", withOrder(baseSpec(synth.Lowpass, "bessel"), 8, 3.0102999566398121)},
+	{"bessel-20", withOrder(baseSpec(synth.Lowpass, "bessel"), 20, 3.0102999566398121)},
+}
+
+func withOrder(s synth.Spec, n int, rippleDB float64) synth.Spec {
+	s.Order = n
+	s.PassbandHz = []float64{1000}
+	s.PassbandRippleDB = rippleDB
+	s.StopbandAttenDB = 60
+	return s
+}
+
+// BenchmarkSynthesize times a whole design: prototype, transformation,
+// sections, headroom order, gain distribution, the response on the grid
+// (about 500 base points) and the mask check.
+func BenchmarkSynthesize(b *testing.B) {
+	for _, bs := range benchSpecs {
+		b.Run(bs.name, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			for b.Loop() {
+				if _, err := synth.Synthesize(ctx, bs.spec); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

@@ -1,0 +1,402 @@
+package synth
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/polewright/polewright/synth/proto"
+	"github.com/polewright/polewright/synth/response"
+	"github.com/polewright/polewright/synth/section"
+	"github.com/polewright/polewright/synth/xform"
+	"github.com/polewright/polewright/synth/zpk"
+)
+
+// ResponsePoints is the number of base points of the response grid; the
+// grid also holds points clustered round every pole pair and band edge.
+const ResponsePoints = 500
+
+// dbFloor is the lowest magnitude written to the design JSON: a zero that
+// falls exactly on a grid point would otherwise give −Inf.
+const dbFloor = -400
+
+// Design is the synthesised filter: its poles and zeros, its sections in
+// signal order, its response and how it sits against the mask. Field names
+// and JSON tags follow the project's INTERFACE.md.
+type Design struct {
+	// Spec is the validated spec, defaults filled in.
+	Spec Spec `json:"spec"`
+	// Order is the prototype order; a bandpass or bandstop has twice as many
+	// poles.
+	Order int `json:"order"`
+	// Poles are every pole in rad/s as [re, im], conjugates included, in
+	// section order.
+	Poles [][2]float64 `json:"poles_rad_s"`
+	// Zeros are every finite zero in rad/s, those at s = 0 included.
+	Zeros [][2]float64 `json:"zeros_rad_s"`
+	// Gain is the linear passband gain: the maximum of |H| in the passband.
+	Gain float64 `json:"gain"`
+	// Sections are the stages in signal order, input first.
+	Sections []Section `json:"sections"`
+	// Response is the response on a log grid.
+	Response Curves `json:"response"`
+	// MeetsMask reports whether the ideal response meets the mask over both
+	// bands (passband only, when the spec gives no stopband).
+	MeetsMask bool `json:"meets_mask"`
+	// Mask says how the ideal response sits against the mask.
+	Mask MaskReport `json:"mask"`
+
+	tf zpk.ZPK
+}
+
+// TransferFunction returns the design's whole transfer function, in rad/s.
+func (d *Design) TransferFunction() zpk.ZPK { return d.tf.Clone() }
+
+// Section is one first- or second-order stage of a [Design].
+type Section struct {
+	// Order is 1 or 2.
+	Order int `json:"order"`
+	// Kind is the response shape: lowpass, highpass, bandpass,
+	// lowpass-notch, highpass-notch or notch.
+	Kind section.Kind `json:"kind"`
+	// F0Hz is the natural frequency of the section's poles.
+	F0Hz float64 `json:"f0_hz"`
+	// Q is the pole quality factor; nil for a first-order section.
+	Q *float64 `json:"q"`
+	// ZeroHz is the frequency of the section's jω-axis zero pair, if any.
+	ZeroHz *float64 `json:"zero_hz"`
+	// Topology is the circuit that realises the section.
+	Topology string `json:"topology"`
+	// GainDB is the section's own gain at its reference frequency (DC for
+	// lowpass kinds, infinity for highpass kinds, f0 for bandpass).
+	GainDB float64 `json:"gain_db"`
+	// PeakGainDB is the peak over frequency of the chain's response at this
+	// stage's output, relative to the chain's passband gain.
+	PeakGainDB float64 `json:"peak_gain_db"`
+	// Poles and Zeros of this section in rad/s, as [re, im].
+	Poles [][2]float64 `json:"poles_rad_s"`
+	Zeros [][2]float64 `json:"zeros_rad_s"`
+	// Components are the parts of the stage.
+	Components []Component `json:"components"`
+	// Realized is the section as built; nil until a circuit is mapped.
+	Realized *Realized `json:"realized"`
+
+	sec section.Section
+}
+
+// Component is one part of a stage.
+type Component struct {
+	Ref   string  `json:"ref"`
+	Kind  string  `json:"kind"`
+	Value float64 `json:"value"`
+	Exact float64 `json:"exact"`
+}
+
+// Realized is a section's f0 and Q as built.
+type Realized struct {
+	F0Hz float64 `json:"f0_hz"`
+	Q    float64 `json:"q"`
+}
+
+// Curves is a response on a frequency grid.
+type Curves struct {
+	FreqHz []float64 `json:"freq_hz"`
+	// IdealDB is the magnitude of the ideal transfer function, floored at
+	// −400 dB where a zero falls on a grid point.
+	IdealDB []float64 `json:"ideal_db"`
+	// RealizedDB is the magnitude of the circuit as built; empty until a
+	// circuit is mapped.
+	RealizedDB []float64 `json:"realized_db"`
+	// PhaseDeg is the unwrapped phase of the ideal transfer function.
+	PhaseDeg []float64 `json:"phase_deg"`
+	// GroupDelayS is the group delay of the ideal transfer function.
+	GroupDelayS []float64 `json:"group_delay_s"`
+}
+
+// MaskReport says how the ideal response meets the mask.
+type MaskReport struct {
+	// PassbandMarginDB is Amax minus the largest loss found in the
+	// passband; negative when the passband fails.
+	PassbandMarginDB float64 `json:"passband_margin_db"`
+	// StopbandMarginDB is the least loss found in the stopband minus Amin;
+	// nil when the spec gives no stopband.
+	StopbandMarginDB *float64 `json:"stopband_margin_db"`
+	// MinOrder is the lowest order that meets the mask; nil without a
+	// stopband.
+	MinOrder *int `json:"min_order"`
+	// DesignPassbandHz are the passband edges the design is normalised to:
+	// the spec's, except for a bandstop whose order was lowered by moving
+	// an edge (see the package comment).
+	DesignPassbandHz []float64 `json:"design_passband_hz"`
+	// NormalizedStopband is the stopband edge of the lowpass prototype,
+	// ωs/ωp after the band transformation; nil without a stopband.
+	NormalizedStopband *float64 `json:"normalized_stopband"`
+}
+
+// maskTolDB is the slack allowed when checking the mask, so that a design
+// that meets an edge exactly is not failed by rounding.
+const maskTolDB = 1e-6
+
+// Synthesize designs the filter that s asks for. It returns a
+// [*FieldError] for a spec that cannot be built (for example a mask that
+// needs more than [MaxOrder]), and ctx.Err() if ctx is done first.
+func Synthesize(ctx context.Context, s Spec) (*Design, error) {
+	if err := s.Validate(); err != nil {
+		return nil, err
+	}
+	approx := proto.Approximation(s.Approximation)
+	amax, amin := s.PassbandRippleDB, s.StopbandAttenDB
+
+	designEdges := slices.Clone(s.PassbandHz)
+	var ratio float64
+	var minOrder int
+	mask := MaskReport{}
+	if s.HasStopband() {
+		ratio = normalizedStopband(s.Response, s.PassbandHz, s.StopbandHz)
+		n, err := proto.MinOrder(approx, amax, amin, ratio)
+		if s.Response == Bandstop {
+			// The lowest order over every arrangement of the passband edges.
+			if edges, r := optimalBandstopEdges(s.PassbandHz, s.StopbandHz); r > ratio {
+				if nOpt, errOpt := proto.MinOrder(approx, amax, amin, r); needed(nOpt, errOpt) < needed(n, err) {
+					n, err = nOpt, errOpt
+					if s.Order == 0 && errOpt == nil {
+						designEdges, ratio = edges, r
+					}
+				}
+			}
+		}
+		var oe *proto.OrderError
+		switch {
+		case err == nil:
+			minOrder = n
+			mask.MinOrder = &minOrder
+		case errors.As(err, &oe) && s.Order == 0:
+			return nil, fieldErr("stopband_hz", "the mask %s for %s; widen the transition band, relax stopband_atten_db or passband_ripple_db, or choose another approximation", oe.Error(), s.Approximation)
+		case errors.As(err, &oe):
+			// The given order is designed; the mask is only checked.
+		case s.Order == 0:
+			return nil, fieldErr("stopband_hz", "the lowest order cannot be computed for this mask (%v); widen the transition band", err)
+		}
+		r := ratio
+		mask.NormalizedStopband = &r
+	}
+	order := s.Order
+	if order == 0 {
+		order = minOrder
+	}
+	mask.DesignPassbandHz = designEdges
+
+	proto1, err := proto.Lowpass(approx, order, amax, amin)
+	if err != nil {
+		field := "passband_ripple_db"
+		switch {
+		case s.Order == 0:
+			field = "stopband_hz" // the order came from the mask: the transition band is the cause
+		case approx == proto.Chebyshev2 || approx == proto.Elliptic:
+			field = "stopband_atten_db"
+		}
+		return nil, fieldErr(field, "the %s prototype of order %d with passband_ripple_db %g and stopband_atten_db %g cannot be computed in double precision (%v); change the order or the losses", s.Approximation, order, amax, amin, err)
+	}
+	h := transform(proto1, s.Response, designEdges)
+	gain := math.Pow(10, s.GainDB/20)
+	h.Gain *= gain
+
+	secs, err := section.Factor(h)
+	if err != nil {
+		return nil, fmt.Errorf("synth: %w", err)
+	}
+	loHz, hiHz := gridRange(s, secs)
+	orderGrid := orderingGrid(secs, loHz, hiHz)
+	perm, _, err := section.Order(ctx, secs, orderGrid)
+	if err != nil {
+		return nil, err
+	}
+	// The programme is exact on its grid; between grid points the true
+	// peaks may differ by a hair, so keep ascending Q (the tie-break) when
+	// its refined worst peak is no higher.
+	if asc := section.AscendingQ(secs); !slices.Equal(asc, perm) &&
+		section.WorstRefinedDB(secs, asc, orderGrid) <= section.WorstRefinedDB(secs, perm, orderGrid)+1e-9 {
+		perm = asc
+	}
+	ordered := make([]section.Section, len(perm))
+	for i, k := range perm {
+		ordered[i] = secs[k]
+	}
+	peaks, err := section.Distribute(ordered, h.Gain, gain, orderGrid)
+	if err != nil {
+		return nil, fmt.Errorf("synth: %w", err)
+	}
+
+	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask}
+	d.tf = section.Cascade(ordered)
+	for i, sec := range ordered {
+		d.Sections = append(d.Sections, newSection(sec, peaks[i]))
+		d.Poles = append(d.Poles, pairs(sec.Poles)...)
+		d.Zeros = append(d.Zeros, pairs(sec.Zeros)...)
+	}
+	if d.Zeros == nil {
+		d.Zeros = [][2]float64{}
+	}
+	edges := append(slices.Clone(s.PassbandHz), s.StopbandHz...)
+	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, ResponsePoints, edges...))
+	d.checkMask()
+	return d, nil
+}
+
+// needed returns the order MinOrder found or, for an *proto.OrderError,
+// the order it would need (MaxInt when no order can meet the mask).
+func needed(n int, err error) int {
+	var oe *proto.OrderError
+	switch {
+	case err == nil:
+		return n
+	case errors.As(err, &oe) && !oe.Unreachable:
+		return oe.Needed
+	}
+	return math.MaxInt
+}
+
+func pairs(roots []complex128) [][2]float64 {
+	out := make([][2]float64, len(roots))
+	for i, r := range roots {
+		out[i] = [2]float64{real(r), imag(r)}
+	}
+	return out
+}
+
+func newSection(sec section.Section, peakDB float64) Section {
+	out := Section{
+		Order:      sec.Order(),
+		Kind:       sec.Kind(),
+		F0Hz:       sec.OmegaRadPerSec() / (2 * math.Pi),
+		GainDB:     20 * math.Log10(sec.ReferenceGain()),
+		PeakGainDB: peakDB,
+		Poles:      pairs(sec.Poles),
+		Zeros:      pairs(sec.Zeros),
+		Components: []Component{},
+		sec:        sec,
+	}
+	if sec.Order() == 2 {
+		q := sec.Q()
+		out.Q = &q
+	}
+	if wz, ok := sec.ZeroOmegaRadPerSec(); ok {
+		z := wz / (2 * math.Pi)
+		out.ZeroHz = &z
+	}
+	return out
+}
+
+// transform maps the 1 rad/s prototype onto the response and edges (Hz).
+func transform(p zpk.ZPK, r Response, edgesHz []float64) zpk.ZPK {
+	w := func(f float64) float64 { return response.RadPerSec(f) }
+	switch r {
+	case Highpass:
+		return xform.LowpassToHighpass(p, w(edgesHz[0]))
+	case Bandpass:
+		return xform.LowpassToBandpass(p, w(math.Sqrt(edgesHz[0]*edgesHz[1])), w(edgesHz[1]-edgesHz[0]))
+	case Bandstop:
+		return xform.LowpassToBandstop(p, w(math.Sqrt(edgesHz[0]*edgesHz[1])), w(edgesHz[1]-edgesHz[0]))
+	}
+	return xform.LowpassToLowpass(p, w(edgesHz[0]))
+}
+
+// normalizedStopband returns the prototype frequency (passband edge = 1) to
+// which the stopband edges map: the smaller image for band responses.
+func normalizedStopband(r Response, p, st []float64) float64 {
+	switch r {
+	case Highpass:
+		return p[0] / st[0]
+	case Bandpass:
+		w0sq, b := p[0]*p[1], p[1]-p[0]
+		img := func(f float64) float64 { return math.Abs(f*f-w0sq) / (b * f) }
+		return math.Min(img(st[0]), img(st[1]))
+	case Bandstop:
+		return bandstopImage(p, st)
+	}
+	return st[0] / p[0]
+}
+
+func bandstopImage(p, st []float64) float64 {
+	w0sq, b := p[0]*p[1], p[1]-p[0]
+	img := func(f float64) float64 { return b * f / math.Abs(w0sq-f*f) }
+	return math.Min(img(st[0]), img(st[1]))
+}
+
+// optimalBandstopEdges moves one passband edge of a bandstop towards the
+// stopband until ω0² = s1·s2, which maximises the smaller stopband image
+// (see the package comment), and returns the edges and that image.
+func optimalBandstopEdges(p, st []float64) ([]float64, float64) {
+	s1s2 := st[0] * st[1]
+	edges := slices.Clone(p)
+	if p[0]*p[1] < s1s2 {
+		edges[0] = s1s2 / p[1] // raise the lower edge
+	} else {
+		edges[1] = s1s2 / p[0] // lower the upper edge
+	}
+	return edges, bandstopImage(edges, st)
+}
+
+// gridRange returns the frequency range of the response grid: a decade
+// beyond every band edge and section frequency.
+func gridRange(s Spec, secs []section.Section) (float64, float64) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, f := range append(slices.Clone(s.PassbandHz), s.StopbandHz...) {
+		lo, hi = math.Min(lo, f), math.Max(hi, f)
+	}
+	for _, sec := range secs {
+		f := sec.OmegaRadPerSec() / (2 * math.Pi)
+		lo, hi = math.Min(lo, f), math.Max(hi, f)
+		if wz, ok := sec.ZeroOmegaRadPerSec(); ok {
+			lo, hi = math.Min(lo, wz/(2*math.Pi)), math.Max(hi, wz/(2*math.Pi))
+		}
+	}
+	return lo / 10, hi * 10
+}
+
+func curves(h zpk.ZPK, grid []float64) Curves {
+	c := Curves{
+		FreqHz:      grid,
+		IdealDB:     response.MagnitudeDB(nil, h, grid),
+		RealizedDB:  []float64{},
+		PhaseDeg:    response.PhaseDeg(nil, h, grid),
+		GroupDelayS: response.GroupDelayS(nil, h, grid),
+	}
+	for i, v := range c.IdealDB {
+		if v < dbFloor || math.IsNaN(v) {
+			c.IdealDB[i] = dbFloor
+		}
+	}
+	for i, v := range c.GroupDelayS {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			c.GroupDelayS[i] = 0 // only exactly on a jω-axis zero, where the delay is a Dirac term
+		}
+	}
+	return c
+}
+
+// orderingGrid returns the grid on which sections are ordered and node
+// peaks found: 64 log-spaced points over [loHz, hiHz] and 11 more round
+// every resonant pole pair, spread over f0·e^(±2/Q), where its peak and the
+// peaks of products with it lie. Node peaks are refined between these
+// points, so the grid only has to bracket them.
+func orderingGrid(secs []section.Section, loHz, hiHz float64) []float64 {
+	grid := response.LogSpaceHz(make([]float64, 0, 64+11*len(secs)), loHz, hiHz, 64)
+	for _, sec := range secs {
+		q := sec.Q()
+		if q <= 0.5 {
+			continue
+		}
+		f0 := sec.OmegaRadPerSec() / (2 * math.Pi)
+		span := math.Min(2/q, 1)
+		for k := -5; k <= 5; k++ {
+			if f := f0 * math.Exp(span*float64(k)/5); f > loHz && f < hiHz {
+				grid = append(grid, f)
+			}
+		}
+	}
+	slices.Sort(grid)
+	return slices.Compact(grid)
+}

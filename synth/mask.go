@@ -1,0 +1,152 @@
+package synth
+
+import (
+	"math"
+	"slices"
+
+	"github.com/polewright/polewright/synth/response"
+	"github.com/polewright/polewright/synth/section"
+)
+
+// maskPoints is the number of log-spaced points per band region on which
+// the mask is checked before each local extremum is refined.
+const maskPoints = 200
+
+// maskDecades is how far beyond its edge an open band (the passband of a
+// lowpass, say) is checked, in decades.
+const maskDecades = 4
+
+// checkMask fills d.Mask's margins and d.MeetsMask from the ideal response.
+func (d *Design) checkMask() {
+	s := d.Spec
+	p, st := s.PassbandHz, s.StopbandHz
+	ref := 20 * math.Log10(d.Gain)
+	secs := make([]section.Section, len(d.Sections))
+	for i := range d.Sections {
+		secs[i] = d.Sections[i].sec
+	}
+	loss := func(f float64) float64 {
+		return ref - 10*math.Log10(section.MagnitudeSquared(secs, response.RadPerSec(f)))
+	}
+	wide := math.Pow(10, maskDecades)
+	var pass, stop [][2]float64
+	switch s.Response {
+	case Lowpass:
+		pass = [][2]float64{{p[0] / wide, p[0]}}
+		if s.HasStopband() {
+			stop = [][2]float64{{st[0], st[0] * wide}}
+		}
+	case Highpass:
+		pass = [][2]float64{{p[0], p[0] * wide}}
+		if s.HasStopband() {
+			stop = [][2]float64{{st[0] / wide, st[0]}}
+		}
+	case Bandpass:
+		pass = [][2]float64{{p[0], p[1]}}
+		if s.HasStopband() {
+			stop = [][2]float64{{st[0] / wide, st[0]}, {st[1], st[1] * wide}}
+		}
+	case Bandstop:
+		pass = [][2]float64{{p[0] / wide, p[0]}, {p[1], p[1] * wide}}
+		if s.HasStopband() {
+			stop = [][2]float64{{st[0], st[1]}}
+		}
+	}
+	worstPass := math.Inf(-1)
+	for _, r := range pass {
+		worstPass = math.Max(worstPass, extremum(loss, r[0], r[1], true))
+	}
+	d.Mask.PassbandMarginDB = s.PassbandRippleDB - worstPass
+	d.MeetsMask = d.Mask.PassbandMarginDB >= -maskTolDB
+	if len(stop) > 0 {
+		var zerosHz []float64 // the loss is unimodal between transmission zeros
+		for _, sec := range secs {
+			if wz, ok := sec.ZeroOmegaRadPerSec(); ok {
+				zerosHz = append(zerosHz, wz/(2*math.Pi))
+			}
+		}
+		least := math.Inf(1)
+		for _, r := range stop {
+			least = math.Min(least, extremum(loss, r[0], r[1], false))
+			cuts := []float64{r[0]}
+			for _, z := range zerosHz {
+				if z > r[0] && z < r[1] {
+					cuts = append(cuts, z)
+				}
+			}
+			cuts = append(cuts, r[1])
+			slices.Sort(cuts)
+			for i := 1; i < len(cuts); i++ {
+				neg := func(x float64) float64 { return -loss(math.Exp(x)) }
+				least = math.Min(least, -golden(neg, math.Log(cuts[i-1]), math.Log(cuts[i])))
+			}
+		}
+		m := least - s.StopbandAttenDB
+		if math.IsInf(m, 1) {
+			m = math.MaxFloat64
+		}
+		d.Mask.StopbandMarginDB = &m
+		d.MeetsMask = d.MeetsMask && m >= -maskTolDB
+	}
+}
+
+// extremum returns the largest (max true) or smallest value of f over
+// [lo, hi]: a log grid of maskPoints, the two ends, and a golden-section
+// refinement of every interior local extremum of the grid.
+func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
+	sign := 1.0
+	if !max {
+		sign = -1
+	}
+	g := func(x float64) float64 { // in log frequency, maximised
+		v := sign * f(math.Exp(x))
+		if math.IsNaN(v) {
+			return math.Inf(-1)
+		}
+		return v
+	}
+	a, b := math.Log(lo), math.Log(hi)
+	n := maskPoints
+	xs := make([]float64, n)
+	vs := make([]float64, n)
+	for i := range xs {
+		xs[i] = a + (b-a)*float64(i)/float64(n-1)
+		vs[i] = g(xs[i])
+	}
+	top := slices.Max(vs)
+	best := top
+	for i := 1; i < n-1; i++ {
+		// Refine the interior local extrema that could be the answer: a
+		// grid this fine is within hundredths of a dB of every smooth
+		// extremum, so those more than 0.05 dB from the best are skipped.
+		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top-0.05 {
+			best = math.Max(best, golden(g, xs[i-1], xs[i+1]))
+		}
+	}
+	return sign * best
+}
+
+// golden maximises g on [a, b] by golden-section search and returns the
+// largest value it saw.
+func golden(g func(float64) float64, a, b float64) float64 {
+	const r = 0.6180339887498949
+	c, d := b-r*(b-a), a+r*(b-a)
+	gc, gd := g(c), g(d)
+	best := math.Max(gc, gd)
+	for range 40 {
+		if gc >= gd {
+			b, d, gd = d, c, gc
+			c = b - r*(b-a)
+			gc = g(c)
+		} else {
+			a, c, gc = c, d, gd
+			d = a + r*(b-a)
+			gd = g(d)
+		}
+		best = math.Max(best, math.Max(gc, gd))
+		if b-a < 1e-13 {
+			break
+		}
+	}
+	return best
+}

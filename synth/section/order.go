@@ -1,0 +1,236 @@
+package section
+
+import (
+	"context"
+	"math"
+	"math/bits"
+	"slices"
+
+	"github.com/polewright/polewright/synth/response"
+)
+
+// MaxExact is the largest number of sections that [Order] orders exactly;
+// its dynamic programme costs 2ⁿ·len(grid) additions.
+const MaxExact = 12
+
+// tieDB is the margin within which two peaks count as equal when ordering.
+const tieDB = 1e-9
+
+// Order returns the permutation of secs (indices into secs, in signal order)
+// that minimises the worst peak, over the grid gridHz, of the partial
+// products at every stage output. Ties go to ascending Q, then ascending f0.
+// Up to [MaxExact] sections the result is exact on the grid; above that it is
+// the better of a greedy build-up and ascending Q. The second result is the
+// worst peak in dB of the chosen order, relative to unit gain.
+//
+// Order checks ctx between subsets and returns ctx.Err() if it is done.
+func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float64, error) {
+	n := len(secs)
+	if n == 0 {
+		return nil, math.Inf(-1), nil
+	}
+	db := make([][]float64, n)
+	for i, s := range secs {
+		db[i] = sectionDB(s, gridHz)
+	}
+	asc := ascendingQ(secs)
+	if n > MaxExact {
+		g, gPeak := greedy(secs, db)
+		if aPeak := worstPeak(asc, db); aPeak <= gPeak+tieDB {
+			return asc, aPeak, nil
+		}
+		return g, gPeak, nil
+	}
+
+	// peak[S] is the peak of the product of the sections in subset S, found
+	// by a Gray-code walk that adds or removes one section's row per step;
+	// best[S] is the least, over orders of S, of the worst prefix peak.
+	size := 1 << n
+	peak := make([]float64, size)
+	best := make([]float64, size)
+	acc := make([]float64, len(gridHz))
+	for k := 1; k < size; k++ {
+		if k&1023 == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, 0, err
+			}
+		}
+		bit := bits.TrailingZeros(uint(k))
+		gray := k ^ (k >> 1)
+		sign := -1.0
+		if gray&(1<<bit) != 0 {
+			sign = 1
+		}
+		peak[gray] = addMax(acc, db[bit], sign)
+	}
+	best[0] = math.Inf(-1)
+	for S := 1; S < size; S++ {
+		m := math.Inf(1)
+		for rest := S; rest != 0; rest &= rest - 1 {
+			i := bits.TrailingZeros(uint(rest))
+			m = math.Min(m, best[S&^(1<<i)])
+		}
+		best[S] = math.Max(peak[S], m)
+	}
+
+	// Reconstruct from the end: the last section is the feasible one with
+	// the highest Q, so that ties fall back to ascending Q.
+	rank := make([]int, n) // position of each section in ascending-Q order
+	for pos, i := range asc {
+		rank[i] = pos
+	}
+	order := make([]int, n)
+	S := size - 1
+	for pos := n - 1; pos >= 0; pos-- {
+		pick := -1
+		for i := 0; i < n; i++ {
+			if S&(1<<i) == 0 {
+				continue
+			}
+			if math.Max(peak[S], best[S&^(1<<i)]) <= best[S]+tieDB && (pick < 0 || rank[i] > rank[pick]) {
+				pick = i
+			}
+		}
+		order[pos] = pick
+		S &^= 1 << pick
+	}
+	return order, best[size-1], nil
+}
+
+// AscendingQ returns the indices of secs in ascending Q, then ascending f0:
+// the common-practice order that [Order] falls back to on ties.
+func AscendingQ(secs []Section) []int { return ascendingQ(secs) }
+
+// WorstRefinedDB returns the worst node peak, refined between grid points
+// by [NodePeaks], of secs taken in the given order, in dB.
+func WorstRefinedDB(secs []Section, order []int, gridHz []float64) float64 {
+	ordered := make([]Section, len(order))
+	for i, k := range order {
+		ordered[i] = secs[k]
+	}
+	return 20 * math.Log10(slices.Max(NodePeaks(ordered, gridHz)))
+}
+
+// ascendingQ returns the indices of secs sorted by ascending Q, then f0.
+func ascendingQ(secs []Section) []int {
+	idx := make([]int, len(secs))
+	for i := range idx {
+		idx[i] = i
+	}
+	slices.SortStableFunc(idx, func(a, b int) int {
+		if c := cmpFloat(secs[a].Q(), secs[b].Q()); c != 0 {
+			return c
+		}
+		return cmpFloat(secs[a].OmegaRadPerSec(), secs[b].OmegaRadPerSec())
+	})
+	return idx
+}
+
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
+
+// greedy appends, at each step, the section that gives the lowest peak at
+// the new node (ties to lower Q).
+func greedy(secs []Section, db [][]float64) ([]int, float64) {
+	n := len(secs)
+	used := make([]bool, n)
+	acc := make([]float64, len(db[0]))
+	trial := make([]float64, len(acc))
+	order := make([]int, 0, n)
+	worst := math.Inf(-1)
+	for len(order) < n {
+		pick, pickPeak := -1, math.Inf(1)
+		for i := 0; i < n; i++ {
+			if used[i] {
+				continue
+			}
+			for g := range acc {
+				trial[g] = acc[g] + db[i][g]
+			}
+			p := slices.Max(trial)
+			if p < pickPeak-tieDB || (p <= pickPeak+tieDB && pick >= 0 && secs[i].Q() < secs[pick].Q()) {
+				pick, pickPeak = i, p
+			}
+		}
+		used[pick] = true
+		order = append(order, pick)
+		for g := range acc {
+			acc[g] += db[pick][g]
+		}
+		worst = math.Max(worst, pickPeak)
+	}
+	return order, worst
+}
+
+// worstPeak returns the worst prefix peak of order on the grid.
+func worstPeak(order []int, db [][]float64) float64 {
+	acc := make([]float64, len(db[0]))
+	worst := math.Inf(-1)
+	for _, i := range order {
+		for g := range acc {
+			acc[g] += db[i][g]
+		}
+		worst = math.Max(worst, slices.Max(acc))
+	}
+	return worst
+}
+
+// WorstPeakDB returns the worst peak over gridHz, in dB, of the partial
+// products of secs taken in the given order. It is the figure that [Order]
+// minimises.
+func WorstPeakDB(secs []Section, order []int, gridHz []float64) float64 {
+	db := make([][]float64, len(secs))
+	for i, s := range secs {
+		db[i] = sectionDB(s, gridHz)
+	}
+	return worstPeak(order, db)
+}
+
+// sectionDB returns 20·log10|H(j2πf)| of s on the grid; a zero that falls
+// exactly on a grid point gives a large negative number rather than −Inf so
+// that sums stay finite.
+func sectionDB(s Section, gridHz []float64) []float64 {
+	out := make([]float64, len(gridHz))
+	for g, f := range gridHz {
+		out[g] = 10 * math.Log10(math.Max(s.magSq(response.RadPerSec(f)), 1e-300))
+	}
+	return out
+}
+
+// addMax adds sign·row to acc and returns the largest element of the
+// result, in one pass with four independent maxima.
+func addMax(acc, row []float64, sign float64) float64 {
+	row = row[:len(acc)]
+	m0, m1, m2, m3 := math.Inf(-1), math.Inf(-1), math.Inf(-1), math.Inf(-1)
+	g := 0
+	for ; g+4 <= len(acc); g += 4 {
+		a0, a1, a2, a3 := acc[g]+sign*row[g], acc[g+1]+sign*row[g+1], acc[g+2]+sign*row[g+2], acc[g+3]+sign*row[g+3]
+		acc[g], acc[g+1], acc[g+2], acc[g+3] = a0, a1, a2, a3
+		if a0 > m0 {
+			m0 = a0
+		}
+		if a1 > m1 {
+			m1 = a1
+		}
+		if a2 > m2 {
+			m2 = a2
+		}
+		if a3 > m3 {
+			m3 = a3
+		}
+	}
+	for ; g < len(acc); g++ {
+		acc[g] += sign * row[g]
+		if acc[g] > m0 {
+			m0 = acc[g]
+		}
+	}
+	return math.Max(math.Max(m0, m1), math.Max(m2, m3))
+}

@@ -1,0 +1,119 @@
+package synth_test
+
+import (
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/synth"
+)
+
+func TestParseSpecDefaults(t *testing.T) {
+	t.Parallel()
+	// Defaults as INTERFACE.md's spec table states them.
+	s, err := synth.ParseSpecBytes([]byte(`{"passband_hz": 1000, "stopband_hz": 3000}`))
+	require.NoError(t, err)
+	require.Equal(t, synth.Lowpass, s.Response)
+	require.Equal(t, "butterworth", s.Approximation)
+	require.Equal(t, []float64{1000}, s.PassbandHz)
+	require.Equal(t, []float64{3000}, s.StopbandHz)
+	require.InDelta(t, 1.0, s.PassbandRippleDB, 0)
+	require.InDelta(t, 40.0, s.StopbandAttenDB, 0)
+	require.Equal(t, 0, s.Order)
+	require.InDelta(t, 0.0, s.GainDB, 0)
+	require.Equal(t, "auto", s.Topology)
+	require.Equal(t, "E96", s.ResistorSeries)
+	require.Equal(t, "E12", s.CapacitorSeries)
+	require.Equal(t, synth.OpAmp{GBWHz: 10e6, DCGainDB: 100}, s.OpAmp)
+	require.Equal(t, "series", s.Values)
+
+	// Bessel's default Amax is 10·log10(2) dB, its −3 dB point (INTERFACE.md).
+	b, err := synth.ParseSpecBytes([]byte(`{"approximation": "bessel", "passband_hz": 1000, "order": 4}`))
+	require.NoError(t, err)
+	require.InDelta(t, 3.0102999566398121, b.PassbandRippleDB, 1e-15)
+
+	bp, err := synth.ParseSpecBytes([]byte(`{"response": "bandpass", "passband_hz": [900, 1100], "stopband_hz": [500, 2000],
+		"opamp": {"ideal": true}, "values": "exact", "resistor_series": "e24"}`))
+	require.NoError(t, err)
+	require.Equal(t, []float64{900, 1100}, bp.PassbandHz)
+	require.True(t, bp.OpAmp.Ideal)
+	require.Equal(t, "E24", bp.ResistorSeries)
+}
+
+func TestParseSpecErrors(t *testing.T) {
+	t.Parallel()
+	// Each row: a bad spec, the field the error must name, and a fragment
+	// of the reason. The rules are those of INTERFACE.md and issue 2.
+	tests := []struct {
+		name   string
+		spec   string
+		field  string
+		reason string
+	}{
+		{"empty", ``, "json", "empty"},
+		{"blank", "  \n", "json", "empty"},
+		{"not an object", `[1, 2]`, "json", "object"},
+		{"malformed", `{"passband_hz": 1000,`, "json", ""},
+		{"trailing data", `{"passband_hz": 1000, "order": 3} {}`, "json", "after"},
+		{"unknown field", `{"passband_hz": 1000, "order": 3, "cutoff": 5}`, "cutoff", "unknown field"},
+		{"missing passband", `{"stopband_hz": 1000}`, "passband_hz", "required"},
+		{"null passband", `{"passband_hz": null, "order": 2}`, "passband_hz", "required"},
+		{"passband string", `{"passband_hz": "1k", "order": 2}`, "passband_hz", "number"},
+		{"negative passband", `{"passband_hz": -1, "order": 2}`, "passband_hz", "1 mHz"},
+		{"passband too high", `{"passband_hz": 2e8, "order": 2}`, "passband_hz", "100 MHz"},
+		{"passband too low", `{"passband_hz": 1e-4, "order": 2}`, "passband_hz", "1 mHz"},
+		{"pair for lowpass", `{"passband_hz": [1, 2], "order": 2}`, "passband_hz", "single number"},
+		{"single for bandpass", `{"response": "bandpass", "passband_hz": 1000, "order": 2}`, "passband_hz", "[lo, hi]"},
+		{"band edges unordered", `{"response": "bandpass", "passband_hz": [2000, 1000], "order": 2}`, "passband_hz", "lo must be below hi"},
+		{"no stopband, no order", `{"passband_hz": 1000}`, "stopband_hz", "required unless order"},
+		{"lowpass stopband below", `{"passband_hz": 1000, "stopband_hz": 800}`, "stopband_hz", "must be above passband_hz for a lowpass (got 800 <= 1000)"},
+		{"highpass stopband above", `{"response": "highpass", "passband_hz": 1000, "stopband_hz": 1200}`, "stopband_hz", "below passband_hz"},
+		{"bandpass stop inside", `{"response": "bandpass", "passband_hz": [1000, 2000], "stopband_hz": [1100, 3000]}`, "stopband_hz", "lower edge"},
+		{"bandpass stop hi inside", `{"response": "bandpass", "passband_hz": [1000, 2000], "stopband_hz": [500, 1900]}`, "stopband_hz", "upper edge"},
+		{"bandstop stop outside", `{"response": "bandstop", "passband_hz": [1000, 2000], "stopband_hz": [900, 1500]}`, "stopband_hz", "lower edge"},
+		{"bandstop stop hi outside", `{"response": "bandstop", "passband_hz": [1000, 2000], "stopband_hz": [1200, 2100]}`, "stopband_hz", "upper edge"},
+		{"ripple zero", `{"passband_hz": 1000, "order": 2, "passband_ripple_db": 0}`, "passband_ripple_db", "above 0"},
+		{"ripple above atten", `{"passband_hz": 1000, "stopband_hz": 2000, "passband_ripple_db": 50, "stopband_atten_db": 40}`, "passband_ripple_db", "below stopband_atten_db"},
+		{"atten too high", `{"passband_hz": 1000, "stopband_hz": 2000, "stopband_atten_db": 250}`, "stopband_atten_db", "200"},
+		{"order fraction", `{"passband_hz": 1000, "order": 2.5}`, "order", "whole number"},
+		{"order negative", `{"passband_hz": 1000, "order": -1}`, "order", "0 to 20"},
+		{"order too high", `{"passband_hz": 1000, "order": 21}`, "order", "0 to 20"},
+		{"gain too high", `{"passband_hz": 1000, "order": 2, "gain_db": 61}`, "gain_db", "-40 to +60"},
+		{"gain too low", `{"passband_hz": 1000, "order": 2, "gain_db": -41}`, "gain_db", "-40 to +60"},
+		{"bad response", `{"response": "allpass", "passband_hz": 1000, "order": 2}`, "response", "one of"},
+		{"bad approximation", `{"approximation": "gauss", "passband_hz": 1000, "order": 2}`, "approximation", "one of"},
+		{"bad topology", `{"topology": "ladder", "passband_hz": 1000, "order": 2}`, "topology", "one of"},
+		{"bad series", `{"resistor_series": "E7", "passband_hz": 1000, "order": 2}`, "resistor_series", "one of"},
+		{"bad cap series", `{"capacitor_series": 12, "passband_hz": 1000, "order": 2}`, "capacitor_series", "string"},
+		{"bad values", `{"values": "rounded", "passband_hz": 1000, "order": 2}`, "values", "one of"},
+		{"gbw zero", `{"passband_hz": 1000, "order": 2, "opamp": {"gbw_hz": 0}}`, "opamp.gbw_hz", "1 kHz"},
+		{"dc gain low", `{"passband_hz": 1000, "order": 2, "opamp": {"dc_gain_db": 3}}`, "opamp.dc_gain_db", "20 to 200"},
+		{"opamp unknown", `{"passband_hz": 1000, "order": 2, "opamp": {"slew": 3}}`, "opamp.slew", "unknown field"},
+		{"ideal with gbw", `{"passband_hz": 1000, "order": 2, "opamp": {"ideal": true, "gbw_hz": 1e6}}`, "opamp.ideal", "ideal"},
+		{"huge number", `{"passband_hz": 1e400, "order": 2}`, "passband_hz", ""},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			_, err := synth.ParseSpecBytes([]byte(tc.spec))
+			require.Error(t, err)
+			fe, ok := synth.IsFieldError(err)
+			require.True(t, ok, "error %v is not a FieldError", err)
+			require.Equal(t, tc.field, fe.Field, "error: %v", err)
+			require.Contains(t, fe.Reason, tc.reason)
+			require.True(t, strings.HasPrefix(err.Error(), "spec: "+tc.field+": "), err.Error())
+			require.NotContains(t, err.Error(), "\n")
+		})
+	}
+}
+
+func TestParseSpecOversized(t *testing.T) {
+	t.Parallel()
+	big := `{"passband_hz": 1000, "order": 2` + strings.Repeat(" ", synth.MaxSpecBytes) + `}`
+	_, err := synth.ParseSpec(strings.NewReader(big))
+	fe, ok := synth.IsFieldError(err)
+	require.True(t, ok)
+	require.Equal(t, "json", fe.Field)
+	require.Contains(t, fe.Reason, "1 MiB")
+}
