@@ -14,9 +14,32 @@ import (
 	"github.com/polewright/polewright/synth/zpk"
 )
 
-// ResponsePoints is the number of base points of the response grid; the
-// grid also holds points clustered round every pole pair and band edge.
-const ResponsePoints = 500
+// ResponsePoints is about the number of points of the response grid: log-
+// spaced base points plus the points that [response.Grid] clusters round
+// every pole pair and jω-axis zero and puts at the band edges. The base
+// never drops below MinBasePoints, so a high-order design has somewhat
+// more points in all.
+const (
+	ResponsePoints = 500
+	MinBasePoints  = 200
+)
+
+// basePoints returns the number of base points that brings the grid of h
+// to about ResponsePoints.
+func basePoints(h zpk.ZPK, extra int) int {
+	pairs, axis := 0, 0
+	for _, p := range h.Poles {
+		if imag(p) > 0 {
+			pairs++
+		}
+	}
+	for _, z := range h.Zeros {
+		if imag(z) > 0 {
+			axis++
+		}
+	}
+	return max(MinBasePoints, ResponsePoints-response.GridPointsPerPole*pairs-response.GridPointsPerZero*axis-extra)
+}
 
 // dbFloor is the lowest magnitude written to the design JSON: a zero that
 // falls exactly on a grid point would otherwise give −Inf.
@@ -240,7 +263,7 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 		d.Zeros = [][2]float64{}
 	}
 	edges := append(slices.Clone(s.PassbandHz), s.StopbandHz...)
-	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, ResponsePoints, edges...))
+	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, basePoints(d.tf, len(edges)), edges...))
 	d.checkMask()
 	return d, nil
 }
