@@ -77,6 +77,20 @@ type Design struct {
 // TransferFunction returns the design's whole transfer function, in rad/s.
 func (d *Design) TransferFunction() zpk.ZPK { return d.tf.Clone() }
 
+// Cascade returns the design's sections, in signal order and with their
+// distributed gains, as [section.Section] values (copies).
+func (d *Design) Cascade() []section.Section {
+	out := make([]section.Section, len(d.Sections))
+	for i, s := range d.Sections {
+		out[i] = section.Section{
+			Poles: slices.Clone(s.sec.Poles),
+			Zeros: slices.Clone(s.sec.Zeros),
+			Gain:  s.sec.Gain,
+		}
+	}
+	return out
+}
+
 // Section is one first- or second-order stage of a [Design].
 type Section struct {
 	// Order is 1 or 2.
