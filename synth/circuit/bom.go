@@ -1,0 +1,81 @@
+package circuit
+
+import (
+	"encoding/csv"
+	"io"
+	"strconv"
+	"strings"
+)
+
+// BOMHeader is the header row of the bill of materials, as written.
+const BOMHeader = "ref,kind,value,unit,series,tolerance,stage"
+
+var bomHeader = strings.Split(BOMHeader, ",")
+
+// KindOpAmp is the kind column of an op-amp's row in the bill of materials.
+const KindOpAmp = "opamp"
+
+// formatValue writes v exactly, in the shortest form that reads back as
+// the same float64 ("10200", "1e-08").
+func formatValue(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// WriteBOM writes the bill of materials as CSV: the header row [BOMHeader]
+// (ref,kind,value,unit,series,tolerance,stage), then one row per part and
+// per op-amp, stage by stage, each stage's parts in their order followed by
+// its op-amps.
+//
+//   - ref is the chain-wide designator ([Chain.Ref]); in the SPICE deck the
+//     same name is the element, with an X prefix for op-amps ([SpiceName]).
+//   - kind is "resistor", "capacitor" or "opamp".
+//   - value is the value as built (Part.Value), exactly, in the shortest
+//     form that reads back as the same number; unit is "Ohm" or "F".
+//   - series is the part's E-series ("E96"), or "exact" for an unrounded
+//     value; tolerance is the tolerance in percent with a % sign ("1%"),
+//     or empty when it is 0 (unspecified).
+//   - stage is the 1-based stage number.
+//
+// An op-amp's row has value = the model's gain-bandwidth product and unit
+// "Hz", or value and unit empty for the ideal model; series and tolerance
+// are empty. The chain is validated first; an invalid chain returns an
+// error wrapping [ErrInvalid] and writes nothing.
+func (c Chain) WriteBOM(w io.Writer) error {
+	if err := c.Validate(); err != nil {
+		return err
+	}
+	cw := csv.NewWriter(w)
+	if err := cw.Write(bomHeader); err != nil {
+		return err
+	}
+	for k, st := range c.Stages {
+		stage := strconv.Itoa(k + 1)
+		for _, p := range st.Parts {
+			unit := "Ohm"
+			if p.Kind == Capacitor {
+				unit = "F"
+			}
+			series := p.Series
+			if series == "" {
+				series = "exact"
+			}
+			tol := ""
+			if p.TolerancePct != 0 {
+				tol = formatValue(p.TolerancePct) + "%"
+			}
+			row := []string{c.Ref(k+1, p.Ref), string(p.Kind), formatValue(p.Value), unit, series, tol, stage}
+			if err := cw.Write(row); err != nil {
+				return err
+			}
+		}
+		for _, u := range st.OpAmps {
+			value, unit := "", ""
+			if !c.Model.Ideal {
+				value, unit = formatValue(c.Model.GBWHz), "Hz"
+			}
+			if err := cw.Write([]string{c.Ref(k+1, u.Ref), KindOpAmp, value, unit, "", "", stage}); err != nil {
+				return err
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}

@@ -1,0 +1,76 @@
+package circuit
+
+// PartKind names the kind of a passive part.
+type PartKind string
+
+// The part kinds.
+const (
+	Resistor  PartKind = "resistor"
+	Capacitor PartKind = "capacitor"
+)
+
+// Node names reserved in every stage: In is the stage input (driven by the
+// previous stage's op-amp output, or by the source for the first stage),
+// Ground is the reference node.
+const (
+	In     = "in"
+	Ground = "0"
+)
+
+// Part is a two-terminal passive part of a stage.
+type Part struct {
+	// Ref is the designator local to its stage ("R1", "C2"); [Chain.Ref]
+	// gives the chain-wide designator used in the deck and the BOM.
+	Ref string
+	// Kind is resistor or capacitor.
+	Kind PartKind
+	// A and B are the stage-local nodes the part connects.
+	A, B string
+	// Value is the value as built, in Ohm or Farad: rounded to Series, or
+	// the exact value when the spec asks for exact values.
+	Value float64
+	// Exact is the unrounded design value, in Ohm or Farad.
+	Exact float64
+	// Series is the IEC 60063 series of Value ("E96"), or "" when exact.
+	Series string
+	// TolerancePct is the part's tolerance in percent.
+	TolerancePct float64
+}
+
+// OpAmp is one amplifier of a stage, by its stage-local nodes.
+type OpAmp struct {
+	// Ref is the stage-local designator ("U1").
+	Ref string
+	// Plus, Minus and Out are the non-inverting input, inverting input and
+	// output nodes.
+	Plus, Minus, Out string
+}
+
+// Stage is the circuit of one section. Its nodes are local: [In] is the
+// input, [Ground] the reference, Out the output (an op-amp output).
+type Stage struct {
+	// Topology names the circuit ("sallen-key", "multiple-feedback",
+	// "state-variable", "rc-buffer", "inverting-rc", ...).
+	Topology string
+	// Parts are the passive parts.
+	Parts []Part
+	// OpAmps are the amplifiers.
+	OpAmps []OpAmp
+	// Out is the node that carries the stage's output.
+	Out string
+}
+
+// Model is the op-amp model shared by every amplifier of a chain: single
+// pole, A(s) = A0/(1 + s·A0/(2π·GBW)) with A0 = 10^(DCGainDB/20), or ideal
+// (a nullor: infinite gain, zero input current, zero output impedance).
+type Model struct {
+	GBWHz    float64
+	DCGainDB float64
+	Ideal    bool
+}
+
+// Chain is the whole filter: stages in signal order, each driving the next.
+type Chain struct {
+	Stages []Stage
+	Model  Model
+}

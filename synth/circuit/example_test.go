@@ -1,0 +1,90 @@
+package circuit_test
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"os"
+
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// A one-stage chain: 10 kΩ into 10 nF, buffered by a follower, with an
+// ideal op-amp; at f = 1/(2πRC) the response is (1 − j)/2, −3 dB.
+func ExampleChain_Response() {
+	chain := circuit.Chain{
+		Model: circuit.Model{Ideal: true},
+		Stages: []circuit.Stage{{
+			Topology: "rc-buffer",
+			Parts: []circuit.Part{
+				{Ref: "R1", Kind: circuit.Resistor, A: circuit.In, B: "n1", Value: 10e3, Exact: 10e3, Series: "E96", TolerancePct: 1},
+				{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: circuit.Ground, Value: 10e-9, Exact: 10e-9, Series: "E12", TolerancePct: 5},
+			},
+			OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n1", Minus: "out", Out: "out"}},
+			Out:    "out",
+		}},
+	}
+	fc := 1 / (2 * math.Pi * 10e3 * 10e-9)
+	h, err := chain.Response(nil, []float64{fc})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("H(j2π·%.4g Hz) = %.4g, %.4g dB\n", fc, h[0], 20*math.Log10(cmplx.Abs(h[0])))
+	// Output:
+	// H(j2π·1592 Hz) = (0.5-0.5i), -3.01 dB
+}
+
+func ExampleChain_WriteBOM() {
+	chain := circuit.Chain{
+		Model: circuit.Model{GBWHz: 1e6, DCGainDB: 100},
+		Stages: []circuit.Stage{{
+			Topology: "sallen-key",
+			Parts: []circuit.Part{
+				{Ref: "R1", Kind: circuit.Resistor, A: circuit.In, B: "n1", Value: 10.2e3, Series: "E96", TolerancePct: 1},
+				{Ref: "R2", Kind: circuit.Resistor, A: "n1", B: "n2", Value: 10.2e3, Series: "E96", TolerancePct: 1},
+				{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: "out", Value: 22e-9, Series: "E12", TolerancePct: 5},
+				{Ref: "C2", Kind: circuit.Capacitor, A: "n2", B: circuit.Ground, Value: 10e-9, Series: "E12", TolerancePct: 5},
+			},
+			OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n2", Minus: "out", Out: "out"}},
+			Out:    "out",
+		}},
+	}
+	if err := chain.WriteBOM(os.Stdout); err != nil {
+		fmt.Println(err)
+	}
+	// Output:
+	// ref,kind,value,unit,series,tolerance,stage
+	// R101,resistor,10200,Ohm,E96,1%,1
+	// R102,resistor,10200,Ohm,E96,1%,1
+	// C101,capacitor,2.2e-08,F,E12,5%,1
+	// C102,capacitor,1e-08,F,E12,5%,1
+	// U101,opamp,1e+06,Hz,,,1
+}
+
+func ExampleRational_DominantPair() {
+	// Unity-gain Sallen-Key lowpass, R1 = R2 = 10 kΩ, C1 = 22 nF, C2 = 10 nF,
+	// with a 1 MHz op-amp: f0 = 1/(2π√(R1R2C1C2)) ≈ 1073 Hz and
+	// Q = √(C1/C2)/2 ≈ 0.742 for the ideal op-amp; the far op-amp pole is
+	// not the dominant pair.
+	st := circuit.Stage{
+		Topology: "sallen-key",
+		Parts: []circuit.Part{
+			{Ref: "R1", Kind: circuit.Resistor, A: circuit.In, B: "n1", Value: 10e3},
+			{Ref: "R2", Kind: circuit.Resistor, A: "n1", B: "n2", Value: 10e3},
+			{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: "out", Value: 22e-9},
+			{Ref: "C2", Kind: circuit.Capacitor, A: "n2", B: circuit.Ground, Value: 10e-9},
+		},
+		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n2", Minus: "out", Out: "out"}},
+		Out:    "out",
+	}
+	r, err := st.TransferFunction(circuit.Model{GBWHz: 1e6, DCGainDB: 100})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	f0, q, _ := r.DominantPair()
+	fmt.Printf("%d poles; f0 = %.4g Hz, Q = %.4g\n", len(r.Poles()), f0, q)
+	// Output:
+	// 3 poles; f0 = 1072 Hz, Q = 0.7422
+}

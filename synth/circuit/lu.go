@@ -1,0 +1,76 @@
+package circuit
+
+import "math"
+
+// abs1 is |Re z| + |Im z|, the pivot size LAPACK's complex routines use.
+func abs1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
+
+// luFactor factors the n×n row-major matrix a in place as P·a = L·U with
+// partial pivoting (L unit lower triangular, stored below the diagonal; U
+// on and above it); piv[k] is the row exchanged with row k at step k. It
+// returns det(a), which is exactly 0 when a pivot is exactly zero; the
+// factors are then unusable for solving.
+func luFactor(a []complex128, n int, piv []int) complex128 {
+	det := complex(1, 0)
+	for k := 0; k < n; k++ {
+		p, big := k, abs1(a[k*n+k])
+		for i := k + 1; i < n; i++ {
+			if v := abs1(a[i*n+k]); v > big {
+				p, big = i, v
+			}
+		}
+		piv[k] = p
+		if big == 0 {
+			return 0
+		}
+		if p != k {
+			rk, rp := a[k*n:k*n+n], a[p*n:p*n+n]
+			for j := range rk {
+				rk[j], rp[j] = rp[j], rk[j]
+			}
+			det = -det
+		}
+		pivot := a[k*n+k]
+		det *= pivot
+		inv := 1 / pivot
+		rk := a[k*n+k+1 : k*n+n]
+		for i := k + 1; i < n; i++ {
+			ri := a[i*n+k : i*n+n]
+			l := ri[0] * inv
+			ri[0] = l
+			if l == 0 {
+				continue
+			}
+			ri = ri[1:]
+			for j, u := range rk {
+				ri[j] -= l * u
+			}
+		}
+	}
+	return det
+}
+
+// luSolve solves a·x = b in place in b, with a and piv from a [luFactor]
+// that returned a non-zero determinant.
+func luSolve(a []complex128, n int, piv []int, b []complex128) {
+	for k := 0; k < n; k++ {
+		if p := piv[k]; p != k {
+			b[k], b[p] = b[p], b[k]
+		}
+	}
+	for i := 1; i < n; i++ {
+		s := b[i]
+		for j, l := range a[i*n : i*n+i] {
+			s -= l * b[j]
+		}
+		b[i] = s
+	}
+	for i := n - 1; i >= 0; i-- {
+		s := b[i]
+		row := a[i*n : i*n+n]
+		for j := i + 1; j < n; j++ {
+			s -= row[j] * b[j]
+		}
+		b[i] = s / row[i]
+	}
+}
