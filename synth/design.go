@@ -7,6 +7,7 @@ import (
 	"math"
 	"slices"
 
+	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/proto"
 	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/section"
@@ -71,7 +72,8 @@ type Design struct {
 	// Mask says how the ideal response sits against the mask.
 	Mask MaskReport `json:"mask"`
 
-	tf zpk.ZPK
+	tf    zpk.ZPK
+	chain *circuit.Chain
 }
 
 // TransferFunction returns the design's whole transfer function, in rad/s.

@@ -34,7 +34,7 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 	case "design":
 		return design(ctx, args, stdin, stdout, stderr)
 	case "export":
-		return export(ctx, args, stdin, stdout, stderr)
+		return exportCmd(ctx, args, stdin, stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return exitOK
@@ -47,7 +47,7 @@ const usage = `polewright designs active analog filters.
 
   polewright serve  [-addr 127.0.0.1:8080]   the workbench in a browser
   polewright design -spec FILE               design as JSON on stdout
-  polewright export -spec FILE -as KIND      KIND: ` + exportKindList + `
+  polewright export -spec FILE -as KIND      KIND: spice, bom, json, bode-svg, delay-svg, step-svg
 
 -spec - reads standard input.
 `

@@ -1,0 +1,112 @@
+// Package export writes a design in each of the forms the outside contract
+// names: the design JSON, the SPICE deck, the bill of materials and the
+// plots as SVG. The command line and the HTTP API both go through [Write],
+// so the two give byte-identical output for the same spec.
+package export
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"strings"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// Kinds are the export kinds, as the CLI's -as and the API's ?as= take them.
+var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg"}
+
+// ErrKind is returned by [Write] for a kind not in [Kinds].
+var ErrKind = errors.New("export: unknown kind")
+
+// Known reports whether kind is one of [Kinds].
+func Known(kind string) bool {
+	for _, k := range Kinds {
+		if k == kind {
+			return true
+		}
+	}
+	return false
+}
+
+// ContentType returns the media type of an export kind.
+func ContentType(kind string) string {
+	switch kind {
+	case "spice":
+		return "application/x-spice; charset=utf-8"
+	case "bom":
+		return "text/csv; charset=utf-8"
+	case "json":
+		return "application/json"
+	case "bode-svg", "delay-svg", "step-svg":
+		return "image/svg+xml"
+	}
+	return "application/octet-stream"
+}
+
+// FileName returns the file name a download of kind is offered under.
+func FileName(kind string) string {
+	switch kind {
+	case "spice":
+		return "polewright.cir"
+	case "bom":
+		return "polewright-bom.csv"
+	case "json":
+		return "polewright-design.json"
+	}
+	return "polewright-" + strings.TrimSuffix(kind, "-svg") + ".svg"
+}
+
+// Write writes d as kind to w. It renders into a buffer first, so w gets
+// either the whole export or nothing. An unknown kind wraps [ErrKind].
+func Write(w io.Writer, d *synth.Design, kind string) error {
+	var buf bytes.Buffer
+	var err error
+	switch kind {
+	case "json":
+		enc := json.NewEncoder(&buf)
+		enc.SetIndent("", "  ")
+		err = enc.Encode(d)
+	case "spice":
+		err = writeSpice(&buf, d)
+	case "bom":
+		var ch circuit.Chain
+		if ch, err = d.Chain(); err == nil {
+			err = ch.WriteBOM(&buf)
+		}
+	case "bode-svg", "delay-svg", "step-svg":
+		err = writePlot(&buf, d, kind)
+	default:
+		return fmt.Errorf("%w %q (kinds: %s)", ErrKind, kind, strings.Join(Kinds, ", "))
+	}
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(buf.Bytes())
+	return err
+}
+
+// SpiceDescription returns the header comment of the deck: the spec as
+// JSON, one field per line.
+func SpiceDescription(d *synth.Design) string {
+	b, _ := json.MarshalIndent(d.Spec, "", "  ")
+	return "polewright design\nspec:\n" + string(b)
+}
+
+func writeSpice(w io.Writer, d *synth.Design) error {
+	ch, err := d.Chain()
+	if err != nil {
+		return err
+	}
+	lo, hi := d.Response.FreqHz[0], d.Response.FreqHz[len(d.Response.FreqHz)-1]
+	return ch.WriteSPICE(w, circuit.SpiceOptions{
+		Title:           fmt.Sprintf("polewright %s %s, order %d", d.Spec.Approximation, d.Spec.Response, d.Order),
+		Description:     SpiceDescription(d),
+		PointsPerDecade: 100,
+		StartHz:         lo,
+		StopHz:          hi,
+	})
+}
