@@ -1,0 +1,117 @@
+// Package topology maps one first- or second-order section onto an op-amp
+// circuit with IEC 60063 part values: [Realize] takes a section, a
+// topology name and the part-value rules ([Options]) and returns the
+// stage ([circuit.Stage]) with the reason for the choice and the errors of
+// its f0, Q and gain as built with ideal op-amps.
+//
+// The topologies, each with its design equations and sources on the
+// function that builds it:
+//
+//   - rc-buffer: first order, an RC lowpass or CR highpass and a
+//     non-inverting op-amp (gain below one by a resistive divider, above one
+//     by Rf/Rg).
+//   - inverting-rc: first order, one inverting op-amp.
+//   - sallen-key: lowpass and highpass, one non-inverting op-amp; unity
+//     gain, general gain K, or equal-component K = 3 − 1/Q.
+//   - multiple-feedback: lowpass, highpass and (Delyiannis-Friend)
+//     bandpass, one inverting op-amp.
+//   - state-variable: Kerwin-Huelsman-Newcomb, three op-amps for lowpass,
+//     highpass and bandpass, a fourth that sums highpass and lowpass for
+//     the lowpass-notch, highpass-notch and notch kinds.
+//
+// A stage realises the section's transfer function with a positive
+// reference gain (the section's own gain, whether above or below one: gain
+// distribution has already happened), times −1 for the inverting forms
+// ([Result.Inverting]).
+//
+// # Auto rule
+//
+// "auto" tries topologies in order and takes the first that fits the
+// windows and constraints; the [Result.Reason] says which, why, and why any
+// earlier one failed:
+//
+//  1. First order: rc-buffer ("the simplest stage that keeps the sign"),
+//     else inverting-rc.
+//  2. jω-axis zeros (lowpass-notch, highpass-notch, notch): state-variable,
+//     the only form here that places zeros ("sums its highpass and lowpass
+//     outputs"); there is no fallback.
+//  3. Q > 10 ([AutoMaxQ]): state-variable ("keeps Q insensitive to part
+//     spread": Q is set by one resistor ratio, not by a difference of
+//     terms); then multiple-feedback, then Sallen-Key.
+//  4. Bandpass with Q ≤ 10: multiple-feedback when the gain at f0 is within
+//     its limit Q²·(1 + Ca/Cb) (Ca/Cb ≤ [MaxBandpassCapRatio]), else
+//     state-variable.
+//  5. Lowpass or highpass with Q ≤ 10: Sallen-Key, then multiple-feedback,
+//     then state-variable. Within Sallen-Key a gain g ≤ 1 is unity gain
+//     with an input divider; g > 1 is K = g (general K), or for the lowpass
+//     the equal-component form with a divider when g ≤ 3 − 1/Q, each only
+//     while Q's sensitivity to the gain resistors is at most
+//     [MaxGainSensitivity] — else multiple-feedback.
+//
+// A topology asked for by name that has no form for the section's kind is
+// an error naming the kind (sallen-key has no bandpass or notch form,
+// multiple-feedback no notch form, the first-order stages no second-order
+// form).
+//
+// # Part values
+//
+// Capacitors are picked first, from CapacitorSeries within
+// [MinFarad, MaxFarad], because their series are coarser. For each first
+// capacitor the form's constraint gives the ideal second one (for example
+// C1/C2 ≥ 4Q² for the unity-gain Sallen-Key lowpass, C2/C1 ≥ 4Q²·(1 + g)
+// for the multiple-feedback lowpass, C2 ≈ C1 for the Sallen-Key highpass)
+// and only the few series values around it are tried. The exact resistors
+// follow from the design equations; each is rounded to ResistorSeries as
+// the nearest value and its two neighbours, every combination within
+// [MinOhm, MaxOhm] is scored, and the realised ω0, Q, gain (and zero
+// frequency) are computed by the topology's closed form with the rounded
+// values. The score is the sum of the squared relative errors of ω0, Q,
+// the gain and, for the notch kinds, the zero frequency; the best score
+// over all capacitor choices and decades wins, and among scores within
+// 1e-6 of the best the one whose resistors are nearest the geometric
+// middle of the window (about 15 kΩ by default: common practice, between
+// noise and loading). Candidates whose exact resistors lie outside the
+// window are pruned before rounding. With Exact the resistors keep their
+// exact values and f0, Q and gain are the section's to rounding error
+// (except a multiple-feedback highpass, whose gain is a capacitor ratio).
+//
+// The state-variable search rounds in three steps, each compensating the
+// rounding of the one before: the integrator resistors and R2 for ω0 (the
+// second integrator's capacitor may be the first's neighbour), then R1 and
+// the damping divider for Q and the gain, then, for the notch kinds and
+// the best few results of the first two steps, the summing weights for the
+// zeros and the gain.
+//
+// A quantity set by the ratio of two resistors of one series (the
+// multiple-feedback lowpass gain R2/R1, the state-variable gains, the
+// state-variable zero frequency) can only take the ratios the series
+// offers: with E96 these lie about 2.4 % apart, so such a gain may be off
+// by up to about 1.2 %, and [Result.GainErrPct] says by how much. The
+// multiple-feedback highpass gain is a ratio of two capacitor values and
+// is coarser still.
+//
+// Every part carries its tolerance (resistors: the series' customary one;
+// capacitors: CapacitorTolerancePct) and its exact design value before
+// rounding.
+//
+// # Sources
+//
+//   - Texas Instruments, "Active Low-Pass Filter Design" (SLOA049) and
+//     "Op Amps for Everyone" (SLOD006), ch. 16: Sallen-Key and
+//     multiple-feedback low- and highpass equations, unity-gain and
+//     equal-component forms.
+//   - Analog Devices, "Analog Filters", ch. 8 of the Op Amp Applications
+//     Handbook (tutorial MT-220 series): Sallen-Key general-K procedure,
+//     multiple-feedback bandpass, state-variable.
+//   - A. B. Williams and F. J. Taylor, "Electronic Filter Design Handbook":
+//     first-order RC stages, state-variable and multiple-feedback forms.
+//   - W. J. Kerwin, L. P. Huelsman and R. W. Newcomb, "State-variable
+//     synthesis for insensitive integrated circuit transfer functions",
+//     IEEE J. Solid-State Circuits SC-2 (1967): the state-variable circuit.
+//   - T. Delyiannis (1969) and J. J. Friend (1970): the single-amplifier
+//     bandpass.
+//
+// All were used from memory; every equation was rederived by nodal
+// analysis and is checked in the tests against a full nodal analysis of
+// the built stage.
+package topology
