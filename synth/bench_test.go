@@ -28,9 +28,26 @@ func withOrder(s synth.Spec, n int, rippleDB float64) synth.Spec {
 	return s
 }
 
-// BenchmarkSynthesize times a whole design: prototype, transformation,
-// sections, headroom order, gain distribution, the response on the grid
-// (about 500 base points) and the mask check.
+// BenchmarkSynthesizeIdeal times the synthesis core: prototype,
+// transformation, sections, headroom order, gain distribution, the
+// response on a grid of about 500 points and the mask check.
+func BenchmarkSynthesizeIdeal(b *testing.B) {
+	for _, bs := range benchSpecs {
+		b.Run(bs.name, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			for b.Loop() {
+				if _, err := synth.SynthesizeIdeal(ctx, bs.spec); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkSynthesize times a whole design: the core above plus the part-
+// value search of every stage, the as-built analysis (realised f0 and Q,
+// op-amp needs) and the as-built response.
 func BenchmarkSynthesize(b *testing.B) {
 	for _, bs := range benchSpecs {
 		b.Run(bs.name, func(b *testing.B) {

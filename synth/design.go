@@ -117,26 +117,56 @@ type Section struct {
 	// Poles and Zeros of this section in rad/s, as [re, im].
 	Poles [][2]float64 `json:"poles_rad_s"`
 	Zeros [][2]float64 `json:"zeros_rad_s"`
-	// Components are the parts of the stage.
+	// TopologyReason says why the topology and form were chosen.
+	TopologyReason string `json:"topology_reason"`
+	// Inverting is true when the stage's own gain is negative.
+	Inverting bool `json:"inverting"`
+	// Components are the resistors and capacitors of the stage.
 	Components []Component `json:"components"`
-	// Realized is the section as built; nil until a circuit is mapped.
+	// OpAmps are the designators of the stage's op-amps.
+	OpAmps []string `json:"opamps"`
+	// Realized is the section as built.
 	Realized *Realized `json:"realized"`
+	// OpAmpNeeds is what the stage asks of its op-amps.
+	OpAmpNeeds *OpAmpNeeds `json:"opamp_needs"`
+	// Warnings flag what an engineer should look at (an op-amp too slow for
+	// the stage, say).
+	Warnings []string `json:"warnings"`
 
 	sec section.Section
 }
 
-// Component is one part of a stage.
+// Component is one resistor or capacitor of a stage.
 type Component struct {
-	Ref   string  `json:"ref"`
-	Kind  string  `json:"kind"`
+	// Ref is the chain-wide designator, as in the SPICE deck and the BOM.
+	Ref string `json:"ref"`
+	// Kind is "resistor" or "capacitor".
+	Kind string `json:"kind"`
+	// Value is the value as built, in Ohm or Farad.
 	Value float64 `json:"value"`
+	// Exact is the unrounded design value, in Ohm or Farad.
 	Exact float64 `json:"exact"`
+	// Series is the IEC 60063 series of Value, or "exact".
+	Series string `json:"series"`
+	// TolerancePct is the part's tolerance in percent.
+	TolerancePct float64 `json:"tolerance_pct"`
 }
 
-// Realized is a section's f0 and Q as built.
+// Realized is a section's f0 and Q as built: the dominant poles of its
+// stage with the part values exported and the spec's op-amp model.
 type Realized struct {
 	F0Hz float64 `json:"f0_hz"`
-	Q    float64 `json:"q"`
+	// Q is nil for a first-order stage.
+	Q *float64 `json:"q"`
+	// F0ErrorPct and QErrorPct are the errors against the section's f0
+	// and Q: part rounding and op-amp together.
+	F0ErrorPct float64  `json:"f0_error_pct"`
+	QErrorPct  *float64 `json:"q_error_pct"`
+	// OpAmpF0ErrorPct and OpAmpQErrorPct are the errors the op-amp alone
+	// causes: the stage with the spec's op-amp against the same stage with
+	// ideal ones.
+	OpAmpF0ErrorPct float64  `json:"opamp_f0_error_pct"`
+	OpAmpQErrorPct  *float64 `json:"opamp_q_error_pct"`
 }
 
 // Curves is a response on a frequency grid.
@@ -178,12 +208,41 @@ type MaskReport struct {
 // that meets an edge exactly is not failed by rounding.
 const maskTolDB = 1e-6
 
-// Synthesize designs the filter that s asks for. It returns a
+// Synthesize designs the filter that s asks for, circuits included: it is
+// [SynthesizeIdeal] followed by the mapping of every section onto a stage
+// with part values and the analysis of the chain as built. It returns a
 // [*FieldError] for a spec that cannot be built (for example a mask that
-// needs more than [MaxOrder]), and ctx.Err() if ctx is done first.
+// needs more than [MaxOrder], or a section no topology fits within the
+// part windows), and ctx.Err() if ctx is done first.
 func Synthesize(ctx context.Context, s Spec) (*Design, error) {
-	if err := s.Validate(); err != nil {
+	d, ordered, err := synthesize(ctx, s)
+	if err != nil {
 		return nil, err
+	}
+	if err := d.realize(ordered); err != nil {
+		return nil, err
+	}
+	realized, err := d.chain.MagnitudeDB(nil, d.Response.FreqHz)
+	if err != nil {
+		return nil, fmt.Errorf("synth: as-built response: %w", err)
+	}
+	d.Response.RealizedDB = floorDB(realized)
+	return d, nil
+}
+
+// SynthesizeIdeal designs the filter that s asks for without circuits:
+// order, poles and zeros, sections in headroom order with their gains, the
+// ideal response and the mask check. Its Design has no components, no
+// realized figures and an empty realized_db, and [Design.Chain] reports
+// [ErrNoCircuit]. Errors are as for [Synthesize].
+func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
+	d, _, err := synthesize(ctx, s)
+	return d, err
+}
+
+func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error) {
+	if err := s.Validate(); err != nil {
+		return nil, nil, err
 	}
 	approx := proto.Approximation(s.Approximation)
 	amax, amin := s.PassbandRippleDB, s.StopbandAttenDB
@@ -212,11 +271,11 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 			minOrder = n
 			mask.MinOrder = &minOrder
 		case errors.As(err, &oe) && s.Order == 0:
-			return nil, fieldErr("stopband_hz", "the mask %s for %s; widen the transition band, relax stopband_atten_db or passband_ripple_db, or choose another approximation", oe.Error(), s.Approximation)
+			return nil, nil, fieldErr("stopband_hz", "the mask %s for %s; widen the transition band, relax stopband_atten_db or passband_ripple_db, or choose another approximation", oe.Error(), s.Approximation)
 		case errors.As(err, &oe):
 			// The given order is designed; the mask is only checked.
 		case s.Order == 0:
-			return nil, fieldErr("stopband_hz", "the lowest order cannot be computed for this mask (%v); widen the transition band", err)
+			return nil, nil, fieldErr("stopband_hz", "the lowest order cannot be computed for this mask (%v); widen the transition band", err)
 		}
 		r := ratio
 		mask.NormalizedStopband = &r
@@ -236,7 +295,7 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 		case approx == proto.Chebyshev2 || approx == proto.Elliptic:
 			field = "stopband_atten_db"
 		}
-		return nil, fieldErr(field, "the %s prototype of order %d with passband_ripple_db %g and stopband_atten_db %g cannot be computed in double precision (%v); change the order or the losses", s.Approximation, order, amax, amin, err)
+		return nil, nil, fieldErr(field, "the %s prototype of order %d with passband_ripple_db %g and stopband_atten_db %g cannot be computed in double precision (%v); change the order or the losses", s.Approximation, order, amax, amin, err)
 	}
 	h := transform(proto1, s.Response, designEdges)
 	gain := math.Pow(10, s.GainDB/20)
@@ -244,13 +303,13 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 
 	secs, err := section.Factor(h)
 	if err != nil {
-		return nil, fmt.Errorf("synth: %w", err)
+		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
 	loHz, hiHz := gridRange(s, secs)
 	orderGrid := orderingGrid(secs, loHz, hiHz)
 	perm, _, err := section.Order(ctx, secs, orderGrid)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	// The programme is exact on its grid; between grid points the true
 	// peaks may differ by a hair, so keep ascending Q (the tie-break) when
@@ -265,7 +324,7 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 	}
 	peaks, err := section.Distribute(ordered, h.Gain, gain, orderGrid)
 	if err != nil {
-		return nil, fmt.Errorf("synth: %w", err)
+		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
 
 	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask}
@@ -281,7 +340,7 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 	edges := append(slices.Clone(s.PassbandHz), s.StopbandHz...)
 	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, basePoints(d.tf, len(edges)), edges...))
 	d.checkMask()
-	return d, nil
+	return d, ordered, nil
 }
 
 // needed returns the order MinOrder found or, for an *proto.OrderError,
@@ -315,6 +374,8 @@ func newSection(sec section.Section, peakDB float64) Section {
 		Poles:      pairs(sec.Poles),
 		Zeros:      pairs(sec.Zeros),
 		Components: []Component{},
+		OpAmps:     []string{},
+		Warnings:   []string{},
 		sec:        sec,
 	}
 	if sec.Order() == 2 {
@@ -403,11 +464,7 @@ func curves(h zpk.ZPK, grid []float64) Curves {
 		PhaseDeg:    response.PhaseDeg(nil, h, grid),
 		GroupDelayS: response.GroupDelayS(nil, h, grid),
 	}
-	for i, v := range c.IdealDB {
-		if v < dbFloor || math.IsNaN(v) {
-			c.IdealDB[i] = dbFloor
-		}
-	}
+	floorDB(c.IdealDB)
 	for i, v := range c.GroupDelayS {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			c.GroupDelayS[i] = 0 // only exactly on a jω-axis zero, where the delay is a Dirac term
@@ -438,4 +495,15 @@ func orderingGrid(secs []section.Section, loHz, hiHz float64) []float64 {
 	}
 	slices.Sort(grid)
 	return slices.Compact(grid)
+}
+
+// floorDB raises every value below dbFloor (−Inf at a zero on the grid,
+// NaN) to dbFloor, in place, and returns v.
+func floorDB(v []float64) []float64 {
+	for i, x := range v {
+		if !(x >= dbFloor) {
+			v[i] = dbFloor
+		}
+	}
+	return v
 }

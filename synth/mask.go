@@ -20,13 +20,15 @@ const maskDecades = 4
 func (d *Design) checkMask() {
 	s := d.Spec
 	p, st := s.PassbandHz, s.StopbandHz
-	ref := 20 * math.Log10(d.Gain)
+	ref := d.Gain * d.Gain
 	secs := make([]section.Section, len(d.Sections))
 	for i := range d.Sections {
 		secs[i] = d.Sections[i].sec
 	}
+	// loss is the power loss ratio G²/|H|², in linear terms: the searches
+	// below need no logarithms, only their results are turned into dB.
 	loss := func(f float64) float64 {
-		return ref - 10*math.Log10(section.MagnitudeSquared(secs, response.RadPerSec(f)))
+		return ref / section.MagnitudeSquared(secs, response.RadPerSec(f))
 	}
 	wide := math.Pow(10, maskDecades)
 	var pass, stop [][2]float64
@@ -56,7 +58,7 @@ func (d *Design) checkMask() {
 	for _, r := range pass {
 		worstPass = math.Max(worstPass, extremum(loss, r[0], r[1], true))
 	}
-	d.Mask.PassbandMarginDB = s.PassbandRippleDB - worstPass
+	d.Mask.PassbandMarginDB = s.PassbandRippleDB - 10*math.Log10(worstPass)
 	d.MeetsMask = d.Mask.PassbandMarginDB >= -maskTolDB
 	if len(stop) > 0 {
 		var zerosHz []float64 // the loss is unimodal between transmission zeros
@@ -77,11 +79,11 @@ func (d *Design) checkMask() {
 			cuts = append(cuts, r[1])
 			slices.Sort(cuts)
 			for i := 1; i < len(cuts); i++ {
-				neg := func(x float64) float64 { return -loss(math.Exp(x)) }
-				least = math.Min(least, -golden(neg, math.Log(cuts[i-1]), math.Log(cuts[i])))
+				inv := func(x float64) float64 { return 1 / loss(math.Exp(x)) }
+				least = math.Min(least, 1/golden(inv, math.Log(cuts[i-1]), math.Log(cuts[i])))
 			}
 		}
-		m := least - s.StopbandAttenDB
+		m := 10*math.Log10(least) - s.StopbandAttenDB
 		if math.IsInf(m, 1) {
 			m = math.MaxFloat64
 		}
@@ -90,16 +92,16 @@ func (d *Design) checkMask() {
 	}
 }
 
-// extremum returns the largest (max true) or smallest value of f over
-// [lo, hi]: a log grid of maskPoints, the two ends, and a golden-section
-// refinement of every interior local extremum of the grid.
+// extremum returns the largest (max true) or smallest value of the
+// positive function f over [lo, hi]: a log grid of maskPoints, the two
+// ends, and a golden-section refinement of every interior local extremum
+// of the grid that could be the answer.
 func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
-	sign := 1.0
-	if !max {
-		sign = -1
-	}
 	g := func(x float64) float64 { // in log frequency, maximised
-		v := sign * f(math.Exp(x))
+		v := f(math.Exp(x))
+		if !max {
+			v = 1 / v
+		}
 		if math.IsNaN(v) {
 			return math.Inf(-1)
 		}
@@ -107,23 +109,25 @@ func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
 	}
 	a, b := math.Log(lo), math.Log(hi)
 	n := maskPoints
-	xs := make([]float64, n)
-	vs := make([]float64, n)
-	for i := range xs {
+	var xs, vs [maskPoints]float64
+	for i := range n {
 		xs[i] = a + (b-a)*float64(i)/float64(n-1)
 		vs[i] = g(xs[i])
 	}
-	top := slices.Max(vs)
+	top := slices.Max(vs[:])
 	best := top
 	for i := 1; i < n-1; i++ {
-		// Refine the interior local extrema that could be the answer: a
-		// grid this fine is within hundredths of a dB of every smooth
-		// extremum, so those more than 0.05 dB from the best are skipped.
-		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top-0.05 {
+		// A grid this fine is within hundredths of a dB of every smooth
+		// extremum, so those more than 0.05 dB (a factor 0.9886 in power)
+		// from the best are skipped.
+		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top*0.9886 {
 			best = math.Max(best, golden(g, xs[i-1], xs[i+1]))
 		}
 	}
-	return sign * best
+	if !max {
+		return 1 / best
+	}
+	return best
 }
 
 // golden maximises g on [a, b] by golden-section search and returns the

@@ -1,0 +1,72 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/standards/eseries"
+	"github.com/polewright/polewright/synth/circuit/spicerun"
+)
+
+// TestExportExamples exports every example spec as a SPICE deck and a
+// BOM: the deck runs unchanged in ngspice -b (the outside reference), the
+// BOM has INTERFACE.md's header, every resistor and capacitor is a series
+// value times a power of ten (IEC 60063), and the designators of the deck
+// and the BOM match.
+func TestExportExamples(t *testing.T) {
+	t.Parallel()
+	spicerun.Require(t)
+	files, err := filepath.Glob("../../testdata/examples/*.json")
+	require.NoError(t, err)
+	require.NotEmpty(t, files)
+	for _, file := range files {
+		t.Run(filepath.Base(file), func(t *testing.T) {
+			t.Parallel()
+			code, deck, errOut := runCLI(t, "", "export", "-spec", file, "-as", "spice")
+			require.Equal(t, exitOK, code, errOut)
+			require.True(t, strings.HasSuffix(strings.TrimSpace(deck), ".end"))
+			require.Contains(t, deck, " in 0 ")
+			require.Contains(t, deck, "AC 1")
+
+			ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
+			defer cancel()
+			freq, v, err := spicerun.Run(ctx, []byte(deck))
+			require.NoError(t, err)
+			require.NotEmpty(t, freq)
+			require.Len(t, v, len(freq))
+
+			code, bom, errOut := runCLI(t, "", "export", "-spec", file, "-as", "bom")
+			require.Equal(t, exitOK, code, errOut)
+			rows, err := csv.NewReader(strings.NewReader(bom)).ReadAll()
+			require.NoError(t, err)
+			require.Equal(t, []string{"ref", "kind", "value", "unit", "series", "tolerance", "stage"}, rows[0])
+			spec, err := os.ReadFile(file)
+			require.NoError(t, err)
+			for _, row := range rows[1:] {
+				ref, kind := row[0], row[1]
+				name := ref
+				if kind == "opamp" {
+					name = "X" + ref
+				}
+				require.Regexp(t, `(?m)^`+name+` `, deck, "BOM ref %s is not in the deck", ref)
+				if kind != "resistor" && kind != "capacitor" {
+					continue
+				}
+				series, err := eseries.Lookup(row[4])
+				require.NoError(t, err, "%s of %s", row[4], spec)
+				var val float64
+				_, err = fmt.Sscan(row[2], &val)
+				require.NoError(t, err)
+				require.True(t, series.Contains(val), "%s = %s is not an %s value", ref, row[2], row[4])
+			}
+		})
+	}
+}
