@@ -45,6 +45,7 @@ func baseSpec(resp synth.Response, approx string) synth.Spec {
 		Response: resp, Approximation: approx, PassbandRippleDB: 1, StopbandAttenDB: 40,
 		Topology: "auto", ResistorSeries: "E96", CapacitorSeries: "E12",
 		OpAmp: synth.OpAmp{GBWHz: 10e6, DCGainDB: 100}, Values: "series",
+		ResistorRangeOhm: [2]float64{1e3, 220e3}, CapacitorRangeFarad: [2]float64{100e-12, 1e-6},
 	}
 }
 

@@ -50,6 +50,8 @@ func (d *Design) realize(ordered []section.Section) error {
 	opt := topology.DefaultOptions()
 	opt.ResistorSeries, opt.CapacitorSeries = rs, cs
 	opt.Exact = s.Values == "exact"
+	opt.MinOhm, opt.MaxOhm = s.ResistorRangeOhm[0], s.ResistorRangeOhm[1]
+	opt.MinFarad, opt.MaxFarad = s.CapacitorRangeFarad[0], s.CapacitorRangeFarad[1]
 
 	results := make([]topology.Result, len(ordered))
 	inverting, firstOrder := 0, -1
@@ -133,8 +135,11 @@ func realizeError(i int, sec Section, top string, err error) error {
 	var te *topology.Error
 	if errors.As(err, &te) {
 		hint := ""
-		if errors.Is(err, topology.ErrNoForm) {
+		switch {
+		case errors.Is(err, topology.ErrNoForm):
 			hint = "; choose auto or state-variable"
+		case errors.Is(err, topology.ErrLimits):
+			hint = "; widen resistor_range_ohm or capacitor_range_farad"
 		}
 		return fieldErr("topology", "%s cannot be built as %s: %s%s", desc, top, te.Reason, hint)
 	}

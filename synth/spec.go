@@ -35,6 +35,15 @@ const (
 	MinGainDB      = -40   // lowest passband gain accepted
 	MaxGainDB      = 60    // highest passband gain accepted
 	MaxSpecBytes   = 1 << 20
+	// Default and extreme part windows.
+	DefaultMinOhm   = 1e3
+	DefaultMaxOhm   = 220e3
+	DefaultMinFarad = 100e-12
+	DefaultMaxFarad = 1e-6
+	MinOhmLimit     = 1     // lowest resistor window edge accepted
+	MaxOhmLimit     = 100e6 // highest resistor window edge accepted
+	MinFaradLimit   = 1e-12
+	MaxFaradLimit   = 0.1
 	// BesselDefaultRippleDB is Amax for Bessel when the spec gives none:
 	// 10·log10(2), so that passband_hz is the −3 dB point.
 	BesselDefaultRippleDB = 3.0102999566398121
@@ -67,6 +76,10 @@ type Spec struct {
 	CapacitorSeries  string    `json:"capacitor_series"`
 	OpAmp            OpAmp     `json:"opamp"`
 	Values           string    `json:"values"`
+	// ResistorRangeOhm and CapacitorRangeFarad are the windows part values
+	// are chosen in, [lo, hi].
+	ResistorRangeOhm    [2]float64 `json:"resistor_range_ohm"`
+	CapacitorRangeFarad [2]float64 `json:"capacitor_range_farad"`
 }
 
 // HasStopband reports whether the spec gives stopband edges.
@@ -120,6 +133,8 @@ type rawSpec struct {
 	CapacitorSeries  *string          `json:"capacitor_series"`
 	OpAmp            *json.RawMessage `json:"opamp"`
 	Values           *string          `json:"values"`
+	ResistorRange    *[]float64       `json:"resistor_range_ohm"`
+	CapacitorRange   *[]float64       `json:"capacitor_range_farad"`
 }
 
 type rawOpAmp struct {
@@ -186,7 +201,7 @@ func jsonError(err error) error {
 		if name == "" {
 			name = `""` // an empty key still needs a visible name
 		}
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
@@ -247,14 +262,16 @@ func clip(s string) string {
 
 func (raw rawSpec) build() (Spec, error) {
 	s := Spec{
-		Response:        Lowpass,
-		Approximation:   "butterworth",
-		StopbandAttenDB: 40,
-		Topology:        "auto",
-		ResistorSeries:  "E96",
-		CapacitorSeries: "E12",
-		OpAmp:           OpAmp{GBWHz: 10e6, DCGainDB: 100},
-		Values:          "series",
+		Response:            Lowpass,
+		Approximation:       "butterworth",
+		StopbandAttenDB:     40,
+		Topology:            "auto",
+		ResistorSeries:      "E96",
+		CapacitorSeries:     "E12",
+		OpAmp:               OpAmp{GBWHz: 10e6, DCGainDB: 100},
+		Values:              "series",
+		ResistorRangeOhm:    [2]float64{DefaultMinOhm, DefaultMaxOhm},
+		CapacitorRangeFarad: [2]float64{DefaultMinFarad, DefaultMaxFarad},
 	}
 	var err error
 	if raw.Response != nil {
@@ -355,6 +372,19 @@ func (raw rawSpec) build() (Spec, error) {
 			return Spec{}, err
 		}
 	}
+	for _, r := range []struct {
+		field string
+		in    *[]float64
+		out   *[2]float64
+	}{{"resistor_range_ohm", raw.ResistorRange, &s.ResistorRangeOhm}, {"capacitor_range_farad", raw.CapacitorRange, &s.CapacitorRangeFarad}} {
+		if r.in == nil {
+			continue
+		}
+		if len(*r.in) != 2 {
+			return Spec{}, fieldErr(r.field, "must be a [lo, hi] pair (got %d values)", len(*r.in))
+		}
+		*r.out = [2]float64{(*r.in)[0], (*r.in)[1]}
+	}
 	return s, s.Validate()
 }
 
@@ -415,6 +445,12 @@ func (s Spec) Validate() error {
 		return err
 	}
 	if _, err := oneOf("values", s.Values, ValueModes); err != nil {
+		return err
+	}
+	if err := validWindow("resistor_range_ohm", s.ResistorRangeOhm, MinOhmLimit, MaxOhmLimit, "Ω"); err != nil {
+		return err
+	}
+	if err := validWindow("capacitor_range_farad", s.CapacitorRangeFarad, MinFaradLimit, MaxFaradLimit, "F"); err != nil {
 		return err
 	}
 	return s.OpAmp.validate()
@@ -489,6 +525,24 @@ func (s Spec) validateBands() error {
 		if !(st[1] < p[1]) {
 			return fieldErr("stopband_hz", "upper edge must be below the passband's upper edge for a bandstop (got %g >= %g)", st[1], p[1])
 		}
+	}
+	return nil
+}
+
+// validWindow checks a [lo, hi] part window against its limits. A window
+// must span at least a factor 10, so that every value series has a whole
+// decade in it.
+func validWindow(field string, w [2]float64, min, max float64, unit string) error {
+	for _, v := range w {
+		if err := finite(field, v); err != nil {
+			return err
+		}
+		if v < min || v > max {
+			return fieldErr(field, "edges must be from %g %s to %g %s (got %g)", min, unit, max, unit, v)
+		}
+	}
+	if !(w[1] >= 10*w[0]) {
+		return fieldErr(field, "hi must be at least 10 times lo, a whole decade of values (got [%g, %g])", w[0], w[1])
 	}
 	return nil
 }

@@ -92,6 +92,10 @@ func TestParseSpecErrors(t *testing.T) {
 		{"opamp unknown", `{"passband_hz": 1000, "order": 2, "opamp": {"slew": 3}}`, "opamp.slew", "unknown field"},
 		{"ideal with gbw", `{"passband_hz": 1000, "order": 2, "opamp": {"ideal": true, "gbw_hz": 1e6}}`, "opamp.ideal", "ideal"},
 		{"huge number", `{"passband_hz": 1e400, "order": 2}`, "passband_hz", ""},
+		{"resistor window single", `{"passband_hz": 1000, "order": 2, "resistor_range_ohm": [1000]}`, "resistor_range_ohm", "[lo, hi]"},
+		{"resistor window narrow", `{"passband_hz": 1000, "order": 2, "resistor_range_ohm": [1000, 2000]}`, "resistor_range_ohm", "10 times"},
+		{"resistor window reversed", `{"passband_hz": 1000, "order": 2, "resistor_range_ohm": [1e5, 1e3]}`, "resistor_range_ohm", "10 times"},
+		{"capacitor window huge", `{"passband_hz": 1000, "order": 2, "capacitor_range_farad": [1e-9, 10]}`, "capacitor_range_farad", "0.1 F"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
