@@ -17,7 +17,8 @@
 //     bandpass, one inverting op-amp.
 //   - state-variable: Kerwin-Huelsman-Newcomb, three op-amps for lowpass,
 //     highpass and bandpass, a fourth that sums highpass and lowpass for
-//     the lowpass-notch, highpass-notch and notch kinds.
+//     the lowpass-notch, highpass-notch and notch kinds (through a
+//     T-network on the weaker path when the zeros are far from f0).
 //
 // A stage realises the section's transfer function with a positive
 // reference gain (the section's own gain, whether above or below one: gain
@@ -34,7 +35,12 @@
 //     else inverting-rc.
 //  2. jω-axis zeros (lowpass-notch, highpass-notch, notch): state-variable,
 //     the only form here that places zeros ("sums its highpass and lowpass
-//     outputs"); there is no fallback.
+//     outputs"); there is no fallback topology. Instead the state-variable
+//     stage picks its own shape for the section (see Part values): with
+//     the default windows it fits zeros from 1/100 to 100 times f0, Q from
+//     0.08 to 50, f0 from 10 Hz to 100 kHz and gains from 0.3 to 3 (the
+//     range the tests sweep), and a section that no shape fits is an
+//     ErrLimits error saying which part of the circuit does not fit.
 //  3. Q > 10 ([AutoMaxQ]): state-variable ("keeps Q insensitive to part
 //     spread": Q is set by one resistor ratio, not by a difference of
 //     terms); then multiple-feedback, then Sallen-Key.
@@ -43,10 +49,17 @@
 //     state-variable.
 //  5. Lowpass or highpass with Q ≤ 10: Sallen-Key, then multiple-feedback,
 //     then state-variable. Within Sallen-Key a gain g ≤ 1 is unity gain
-//     with an input divider; g > 1 is K = g (general K), or for the lowpass
-//     the equal-component form with a divider when g ≤ 3 − 1/Q, each only
-//     while Q's sensitivity to the gain resistors is at most
-//     [MaxGainSensitivity] — else multiple-feedback.
+//     with an input divider (for the highpass a capacitive one, whose
+//     series-value ratio a gain K = g·(1 + C1b/C1a) just above one makes
+//     exact, the least K that fits); g > 1 is K = g (general K; just above
+//     one, where Rf/Rg = g − 1 is too small a ratio for the window, a
+//     larger K with the divider; for the highpass also when K = g finds no
+//     parts, as at high Q, where K > 1 narrows the resistor spread 4Q² of
+//     K = 1), or for the lowpass the equal-component form with a divider
+//     when g ≤ 3 − 1/Q, each only while Q's sensitivity to the gain
+//     resistors is at most [MaxGainSensitivity] for the design before
+//     rounding (possible only while Q²·(K − 1) ≤ 12) — else
+//     multiple-feedback.
 //
 // A topology asked for by name that has no form for the section's kind is
 // an error naming the kind (sallen-key has no bandpass or notch form,
@@ -59,7 +72,9 @@
 // [MinFarad, MaxFarad], because their series are coarser. For each first
 // capacitor the form's constraint gives the ideal second one (for example
 // C1/C2 ≥ 4Q² for the unity-gain Sallen-Key lowpass, C2/C1 ≥ 4Q²·(1 + g)
-// for the multiple-feedback lowpass, C2 ≈ C1 for the Sallen-Key highpass)
+// for the multiple-feedback lowpass, C2 ≈ C1 for the Sallen-Key highpass,
+// and also C2 ≈ C1/3, C1/10, C1/30 when K > 1, which lowers Q's
+// sensitivity to the gain resistors)
 // and only the few series values around it are tried. The exact resistors
 // follow from the design equations; each is rounded to ResistorSeries as
 // the nearest value and its two neighbours, every combination within
@@ -72,23 +87,44 @@
 // middle of the window (about 15 kΩ by default: common practice, between
 // noise and loading). Candidates whose exact resistors lie outside the
 // window are pruned before rounding. With Exact the resistors keep their
-// exact values and f0, Q and gain are the section's to rounding error
-// (except a multiple-feedback highpass, whose gain is a capacitor ratio).
+// exact values and f0, Q and gain are the section's to rounding error:
+// every form sets its gain by resistor ratios, or by a capacitor ratio
+// that resistors trim (the Sallen-Key highpass divider and its K, the
+// multiple-feedback highpass C1/C2 and its positive-feedback divider).
 //
 // The state-variable search rounds in three steps, each compensating the
 // rounding of the one before: the integrator resistors and R2 for ω0 (the
-// second integrator's capacitor may be the first's neighbour), then R1 and
-// the damping divider for Q and the gain, then, for the notch kinds and
-// the best few results of the first two steps, the summing weights for the
-// zeros and the gain.
+// second integrator's capacitor is the first's, or C1/ρ for the notch
+// shapes below, or its neighbour), then R1 and the damping divider for Q
+// and the gain, then, for the notch kinds and the best few results of the
+// first two steps, the summing weights for the zeros and the gain (with a
+// T-network: the strong path's resistor, then the T's shunt for the weak
+// weight that puts the zeros exactly).
+//
+// For the notch kinds the state-variable stage first chooses its shape:
+// the summer's input gain a = R3/R1, b = R3/R2 and the integrator ratio
+// ρ = τ1/τ2, each a power of two, and whether the weaker summing path is a
+// T-network. The summing weights differ by b·(ωz/ω0)², which two
+// resistors of the window cannot span for zeros far from f0, and Q
+// = √(b·ρ)/(β·(1 + a + b)) needs a damping divider outside the window for
+// very low or high Q at a = b = ρ = 1. Shapes are tried from the classic
+// a = b = ρ = 1 outwards by a cost (octaves moved, internal levels above
+// the input, a T-network), and the first whose exact resistors all keep a
+// quarter away from the window's bounds is taken (else the one that comes
+// nearest; none inside is ErrLimits). The lowpass, highpass and bandpass
+// keep a set by the gain, b = 1 (raised in octaves for low Q) and ρ = 1.
 //
 // A quantity set by the ratio of two resistors of one series (the
 // multiple-feedback lowpass gain R2/R1, the state-variable gains, the
 // state-variable zero frequency) can only take the ratios the series
 // offers: with E96 these lie about 2.4 % apart, so such a gain may be off
 // by up to about 1.2 %, and [Result.GainErrPct] says by how much. The
-// multiple-feedback highpass gain is a ratio of two capacitor values and
-// is coarser still.
+// multiple-feedback highpass gain C1/C2 is a ratio of two capacitor
+// values; the stage takes the nearest ratio below the gain and trims it
+// up by positive feedback, λ = Rb/(Ra + Rb) at the op-amp's + input
+// (Q's sensitivity to it bounded by [MaxGainSensitivity]), so its gain
+// error is that of the divider ratio Ra/Rb times (1 − λ)·(g/r − 1), r =
+// C1/C2: at most about 0.25 with the nearest E12 ratio.
 //
 // Every part carries its tolerance (resistors: the series' customary one;
 // capacitors: CapacitorTolerancePct) and its exact design value before

@@ -30,6 +30,42 @@ func newAmplifier(top string, o *options, k float64) (amplifier, *Error) {
 	return amplifier{k: 1 + rf/rg, rf: rf, rg: rg, rfx: rfx, rgx: rgx}, nil
 }
 
+// gainSplit returns the amplifier a stage with a resistive input divider
+// uses for the reference gain g > 0, and the divider ratio α = g/K ≤ 1
+// before it (1: no divider):
+//
+//   - g ≤ 1: a follower, α = g;
+//   - g > 1: K = g, α = 1, when Rf/Rg = g − 1 fits the resistor window;
+//   - 1 < g < 2 with g − 1 too small a ratio for two resistors in the
+//     window (below MinOhm/MaxOhm): K = g·(1 + δ), δ = √(MinOhm/MaxOhm),
+//     and α = g/K, so that Rf/Rg ≥ δ and the divider's ratio 1/δ both lie
+//     in the middle of the window's ratios (about 15 by default); the
+//     divider gives back the extra gain exactly.
+//
+// α is computed from the realised K, so that the divider makes up any
+// rounding of Rf/Rg.
+func gainSplit(top string, o *options, g float64) (amplifier, float64, *Error) {
+	switch {
+	case isOne(g):
+		return amplifier{k: 1}, 1, nil
+	case g < 1:
+		return amplifier{k: 1}, g, nil
+	}
+	amp, e := newAmplifier(top, o, g)
+	if e == nil {
+		return amp, 1, nil
+	}
+	if g >= 2 {
+		return amplifier{}, 1, e // too much gain: a divider cannot help
+	}
+	d := math.Sqrt(o.rmin / o.rmax)
+	amp, e2 := newAmplifier(top, o, g*(1+d))
+	if e2 != nil || !(g < amp.k) {
+		return amplifier{}, 1, e
+	}
+	return amp, g / amp.k, nil
+}
+
 // add wires the op-amp with its input at plus and its output at out; the
 // gain resistors (Rf from out to m, Rg from m to ground) when K > 1.
 func (a amplifier) add(b *builder, plus, out string) {
@@ -56,20 +92,18 @@ func (a amplifier) add(b *builder, plus, out string) {
 // into a capacitive divider instead would tie the gain to a ratio of two
 // capacitor series values, which cannot be made exact.)
 //
-// A gain g > 1 in either is the non-inverting amplifier g = 1 + Rf/Rg.
+// A gain g > 1 in either is the non-inverting amplifier g = 1 + Rf/Rg;
+// just above one, where Rf/Rg = g − 1 is too small a ratio for the
+// window, a larger K with the divider ([gainSplit]).
 // These are the elementary RC circuits of any text, e.g. Williams & Taylor,
 // "Electronic Filter Design Handbook", ch. 3 (from memory).
 func rcBuffer(tg target, o *options) (design, *Error) {
 	if tg.order != 1 {
 		return design{}, fail(RCBuffer, ErrNoForm, "a first-order stage; no form for a second-order %s section", tg.kind)
 	}
-	amp, e := newAmplifier(RCBuffer, o, tg.g)
+	amp, alpha, e := gainSplit(RCBuffer, o, tg.g)
 	if e != nil {
 		return design{}, e
-	}
-	alpha := 1.0
-	if tg.g < 1 && !isOne(tg.g) {
-		alpha = tg.g
 	}
 	lp := tg.kind == section.Lowpass
 	var p picker

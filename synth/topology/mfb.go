@@ -28,9 +28,35 @@ import (
 //
 //	H = −(C1/C2)·s² / (s² + s·(C1 + C2 + C3)/(R2·C2·C3) + ω0²),  ω0² = 1/(R1·R2·C2·C3)
 //
-// so R2 = Q·(C1 + C2 + C3)/(ω0·C2·C3) and R1 = 1/(ω0²·C2·C3·R2). The gain
-// is the capacitor ratio C1/C2: it is as exact as two capacitor series
-// values allow, and [Result.GainErrPct] says how close (same sources).
+// so R2 = Q·(C1 + C2 + C3)/(ω0·C2·C3) and R1 = 1/(ω0²·C2·C3·R2) (same
+// sources). The gain is the capacitor ratio C1/C2, and no resistor of the
+// circuit can trim it: at high frequency only the capacitors carry
+// signal, an input divider of capacitors has the gain C1a/C2 of its upper
+// capacitor, and one of resistors, or a tap of R1 or R2, adds an s or s⁰
+// term to the numerator. Two series capacitors make g only by
+// coincidence (g = 1, 10, 1.5, …), so otherwise the stage takes the
+// nearest C1/C2 = r below g and trims the gain up by positive feedback:
+// the + input, grounded in the plain form, goes to the tap of a divider
+// Ra (out–p), Rb (p–ground), λ = Rb/(Ra + Rb) (the positive-feedback
+// arrangement of the Delyiannis-Friend bandpass, which Friend used to
+// enhance Q, from memory; the equations here were derived by nodal
+// analysis with v(m) = λ·v(out)):
+//
+//	H = −C1·C3·s² / (C3·D2·s² + [(1 − λ)·S·G2 − λ·C3·G1]·s + (1 − λ)·G1·G2)
+//	D2 = C2 − λ·(C1 + C2),  S = C1 + C2 + C3,  G1 = 1/R1,  G2 = 1/R2
+//
+// The gain is g = C1/D2, so λ = (1 − r/g)/(1 + r), a resistor ratio that
+// exact resistors make exact; ω0² = (1 − λ)·G1·G2/(C3·D2) and
+// ω0/Q = [(1 − λ)·S·G2 − λ·C3·G1]/(C3·D2) give G1·G2 = P =
+// ω0²·C3·D2/(1 − λ) and G2 as the positive root of
+// (1 − λ)·S·G2² − (ω0·C3·D2/Q)·G2 − λ·C3·P = 0 ([mfbHighpassR]); λ = 0
+// is the plain form. D2 > 0 is also the
+// condition for the op-amp's net feedback to stay negative at high
+// frequency. Positive feedback makes Q depend on a difference, so the
+// Q sensitivity to either divider resistor, λ·(1 − λ)·|∂ln Q/∂λ|, is held
+// to [MaxGainSensitivity] as for Sallen-Key's gain resistors; with
+// series resistors the divider is rounded first (Ra/Rb = 1/λ − 1, the
+// pair of [options.gainPair]) and R1, R2 are solved for the λ as built.
 //
 // Bandpass (Delyiannis-Friend), Y1 = 1/R1, Y2 = 1/R2 (optional),
 // Y3 = s·Ca (a–m), Y4 = s·Cb (a–out), Y5 = 1/R3:
@@ -120,32 +146,89 @@ func mfbLowpass(tg target, o *options) (design, *Error) {
 func mfbHighpass(tg target, o *options) (design, *Error) {
 	g := tg.g
 	var p picker
+	var rej skReject
 	var best struct {
 		c1, c2, c3, r1, r2, x1, x2 float64
-		w, q, g                    float64
+		ra, rb, xa, xb             float64 // positive-feedback divider (0: none)
+		w, q, g, lam, sens         float64
 	}
 	var c1buf, c3buf [8]float64
 	var ca, cb [3]float64
-	for _, c2 := range o.caps {
-		for _, c1 := range o.capsNear(c1buf[:0], g*c2, 1) {
-			// C3 near C1 (the usual C1 = C3), or equal to C2.
-			c3s := o.capsNear(c3buf[:0], c1, 2)
-			if c2 != c1 {
-				c3s = append(c3s, c2)
+	// C1/C2 at or below the gain, in passes, each only when the ones
+	// before found nothing: C1/C2 = g itself (the plain form, no
+	// divider), then the nearest ratio below g for each C2 (the least
+	// trim λ), then the next two smaller ones.
+	for pass := range 3 {
+		if p.ok {
+			break
+		}
+		for _, c2 := range o.caps {
+			c1s := o.capsAtMost(c1buf[:0], g*c2, 3)
+			exact := len(c1s) > 0 && math.Abs(c1s[0]/(g*c2)-1) <= winTol
+			switch {
+			case pass == 0 && exact:
+				c1s = c1s[:1]
+			case pass == 0:
+				c1s = nil
+			case exact: // its ratio was pass 0's
+				c1s = c1s[1:]
 			}
-			for _, c3 := range c3s {
-				x1, x2 := mfbHighpassR(tg.w0, tg.q, c1, c2, c3)
-				if !o.nearR(x1) || !o.nearR(x2) {
-					continue
+			switch {
+			case pass == 1:
+				c1s = c1s[:min(1, len(c1s))]
+			case pass == 2:
+				c1s = c1s[min(1, len(c1s)):]
+			}
+			for _, c1 := range c1s {
+				var lam, ra, rb, xa, xb float64
+				if math.Abs(c1/(g*c2)-1) > winTol {
+					// λ = (1 − r/g)/(1 + r), r = C1/C2, by Ra/Rb = 1/λ − 1.
+					r := c1 / c2
+					var ok bool
+					if ra, rb, xa, xb, ok = o.gainPair((1 + r) / (1 - r/g)); !ok {
+						continue
+					}
+					lam = rb / (ra + rb) // as built
 				}
-				n1, n2 := o.rcands(x1, &ca), o.rcands(x2, &cb)
-				for _, r1 := range ca[:n1] {
-					for _, r2 := range cb[:n2] {
-						w, qr, gr := mfbHighpassPoles(r1, r2, c1, c2, c3)
-						s := errScore(w, tg.w0) + errScore(qr, tg.q) + errScore(gr, g)
-						if p.wants(s) && p.take(s, o.tieLog(r1)+o.tieLog(r2)) {
-							best.c1, best.c2, best.c3, best.r1, best.r2, best.x1, best.x2 = c1, c2, c3, r1, r2, x1, x2
-							best.w, best.q, best.g = w, qr, gr
+				// C3 near C1 (the usual C1 = C3), or equal to C2.
+				c3s := o.capsNear(c3buf[:0], c1, 2)
+				if c2 != c1 {
+					c3s = append(c3s, c2)
+				}
+				for _, c3 := range c3s {
+					x1, x2 := mfbHighpassR(tg.w0, tg.q, lam, c1, c2, c3)
+					if !o.nearR(x1) || !o.nearR(x2) {
+						continue
+					}
+					if sx := mfbHighpassSens(x1, x2, c1, c2, c3, lam); sx > MaxGainSensitivity {
+						rej.sensitivity(sx) // the design before rounding
+						continue
+					}
+					n1, n2 := o.rcands(x1, &ca), o.rcands(x2, &cb)
+					for _, r1 := range ca[:n1] {
+						for _, r2 := range cb[:n2] {
+							w, qr, gr := mfbHighpassPoles(r1, r2, c1, c2, c3, lam)
+							if !(qr > 0) {
+								continue
+							}
+							sens := mfbHighpassSens(r1, r2, c1, c2, c3, lam)
+							if sens > MaxGainSensitivity {
+								rej.sensitivity(sens)
+								continue
+							}
+							s := errScore(w, tg.w0) + errScore(qr, tg.q) + errScore(gr, g)
+							if !p.wants(s) {
+								continue
+							}
+							tie := o.tieLog(r1) + o.tieLog(r2)
+							if lam > 0 {
+								tie += o.tieLog(ra) + o.tieLog(rb)
+							}
+							if p.take(s, tie) {
+								best.c1, best.c2, best.c3, best.r1, best.r2, best.x1, best.x2 = c1, c2, c3, r1, r2, x1, x2
+								best.ra, best.rb, best.xa, best.xb = ra, rb, xa, xb
+								best.w, best.q, best.g, best.lam, best.sens = w, qr, gr, lam, sens
+							}
 						}
 					}
 				}
@@ -153,7 +236,16 @@ func mfbHighpass(tg target, o *options) (design, *Error) {
 		}
 	}
 	if !p.ok {
-		return design{}, fail(MultipleFeedback, ErrLimits, "highpass, gain C1/C2 = %.4g: %s", g, o.limitsMsg(tg.w0, ""))
+		msg := o.limitsMsg(tg.w0, "")
+		if rej.sens > 0 {
+			msg = fmt.Sprintf("the Q sensitivity to the positive-feedback divider is at least %.3g > %d for every part choice within %s",
+				rej.minSens, MaxGainSensitivity, o.window())
+		}
+		// The plain form's least spread, at C3 = C1 + C2.
+		if sp := 4 * tg.q * tg.q * (1 + g); sp > o.rmax/o.rmin*(1+winTol) {
+			msg += fmt.Sprintf("; without the divider, C1/C2 = g needs R2/R1 ≥ 4Q²·(1 + g) = %.4g, more than the window's ratio %.4g", sp, o.rmax/o.rmin)
+		}
+		return design{}, fail(MultipleFeedback, ErrLimits, "highpass, gain C1/(C2 − λ·(C1 + C2)) = %.4g with C1/C2 ≤ %.4g: %s", g, g, msg)
 	}
 	b := newBuilder(o, MultipleFeedback)
 	b.capa(circuit.In, "a", best.c1)
@@ -161,11 +253,17 @@ func mfbHighpass(tg target, o *options) (design, *Error) {
 	b.capa("a", "m", best.c3)
 	b.res("a", circuit.Ground, best.r1, best.x1)
 	b.res("m", "out", best.r2, best.x2)
-	b.amp(circuit.Ground, "m", "out")
-	return design{
-		stage: b.done("out"), inverting: true, w0: best.w, q: best.q, g: best.g,
-		form: fmt.Sprintf("inverting highpass, gain −C1/C2 = −%.4g (a capacitor ratio)", best.g),
-	}, nil
+	form := fmt.Sprintf("inverting highpass, gain −C1/C2 = −%.4g", best.g)
+	if best.lam > 0 {
+		b.res("out", "p", best.ra, best.xa)
+		b.res("p", circuit.Ground, best.rb, best.xb)
+		b.amp("p", "m", "out")
+		form = fmt.Sprintf("inverting highpass, C1/C2 = %.4g trimmed to the gain −C1/(C2 − λ·(C1 + C2)) = −%.4g by positive feedback λ = Rb/(Ra + Rb) = %.4g to the + input, Q sensitivity to the divider %.2g ≤ %d",
+			best.c1/best.c2, best.g, best.lam, best.sens, MaxGainSensitivity)
+	} else {
+		b.amp(circuit.Ground, "m", "out")
+	}
+	return design{stage: b.done("out"), inverting: true, w0: best.w, q: best.q, g: best.g, form: form}, nil
 }
 
 func mfbBandpass(tg target, o *options) (design, *Error) {
@@ -243,7 +341,17 @@ func mfbBandpass(tg target, o *options) (design, *Error) {
 		}
 	}
 	if !p.ok {
-		return design{}, fail(MultipleFeedback, ErrLimits, "bandpass, gain %.4g at f0 (limit Q²·(1 + Ca/Cb)): %s", g, o.limitsMsg(tg.w0, ""))
+		// Resistor spreads at Ca = Cb, the least the search tries:
+		// R3/(R1‖R2) = Q²·(1 + Ca/Cb)·(1 + Cb/Ca) and
+		// R1/(R1‖R2) = Q²·(1 + Ca/Cb)/g.
+		what, spread := "", o.rmax/o.rmin*(1+winTol)
+		switch {
+		case 2*q2/g > spread:
+			what = fmt.Sprintf("even at Ca = Cb the input divider needs R1/(R1‖R2) = 2Q²/g = %.4g, more than the window's ratio %.4g", 2*q2/g, o.rmax/o.rmin)
+		case 4*q2 > spread:
+			what = fmt.Sprintf("even at Ca = Cb it needs R3/(R1‖R2) = 4Q² = %.4g, more than the window's ratio %.4g", 4*q2, o.rmax/o.rmin)
+		}
+		return design{}, fail(MultipleFeedback, ErrLimits, "bandpass, gain %.4g at f0 (limit Q²·(1 + Ca/Cb)): %s", g, o.limitsMsg(tg.w0, what))
 	}
 	b := newBuilder(o, MultipleFeedback)
 	b.res(circuit.In, "a", best.r1, best.x1)
@@ -280,17 +388,51 @@ func mfbLowpassPoles(r1, r2, r3, c1, c2 float64) (w0, q, g float64) {
 
 // mfbHighpassR returns R1 (a–ground) and R2 (m–out) of the
 // multiple-feedback highpass with capacitors c1 (input), c2 (a–out) and c3
-// (a–m).
-func mfbHighpassR(w0, q, c1, c2, c3 float64) (r1, r2 float64) {
-	r2 = q * (c1 + c2 + c3) / (w0 * c2 * c3)
-	return 1 / (w0 * w0 * c2 * c3 * r2), r2
+// (a–m) and the positive-feedback fraction lam (0: + input grounded): with
+// D2 = C2 − λ·(C1 + C2), S = C1 + C2 + C3, P = G1·G2 = ω0²·C3·D2/(1 − λ)
+// and B = ω0·C3·D2/Q, G2 is the positive root of
+// (1 − λ)·S·G2² − B·G2 − λ·C3·P = 0 and G1 = P/G2. At λ = 0,
+// R2 = Q·S/(ω0·C2·C3) and R1 = 1/(ω0²·C2·C3·R2).
+func mfbHighpassR(w0, q, lam, c1, c2, c3 float64) (r1, r2 float64) {
+	d2 := c2 - lam*(c1+c2)
+	s := c1 + c2 + c3
+	pp := w0 * w0 * c3 * d2 / (1 - lam)
+	bb := w0 * c3 * d2 / q
+	a := (1 - lam) * s
+	g2 := (bb + math.Sqrt(bb*bb+4*a*lam*c3*pp)) / (2 * a)
+	return g2 / pp, 1 / g2
 }
 
 // mfbHighpassPoles returns ω0, Q and the high-frequency gain magnitude
-// C1/C2 of the multiple-feedback highpass as built.
-func mfbHighpassPoles(r1, r2, c1, c2, c3 float64) (w0, q, g float64) {
-	w0 = 1 / math.Sqrt(r1*r2*c2*c3)
-	return w0, w0 * r2 * c2 * c3 / (c1 + c2 + c3), c1 / c2
+// C1/(C2 − λ·(C1 + C2)) of the multiple-feedback highpass as built, from
+//
+//	H = −C1·C3·s² / (C3·D2·s² + [(1 − λ)·S·G2 − λ·C3·G1]·s + (1 − λ)·G1·G2);
+//
+// Q ≤ 0 means the stage is unstable.
+func mfbHighpassPoles(r1, r2, c1, c2, c3, lam float64) (w0, q, g float64) {
+	g1, g2 := 1/r1, 1/r2
+	d2 := c2 - lam*(c1+c2)
+	t := (1-lam)*(c1+c2+c3)*g2 - lam*c3*g1
+	if !(d2 > 0) || !(t > 0) {
+		return 0, 0, 0
+	}
+	w0 = math.Sqrt((1 - lam) * g1 * g2 / (c3 * d2))
+	return w0, w0 * c3 * d2 / t, c1 / d2
+}
+
+// mfbHighpassSens returns |S^Q_R| of either divider resistor of the
+// positive-feedback multiple-feedback highpass, λ·(1 − λ)·|∂ln Q/∂λ| with
+// ∂ln Q/∂λ = −1/(2·(1 − λ)) − (C1 + C2)/(2·D2) + (S·G2 + C3·G1)/T
+// (T the s coefficient above); 0 without the divider.
+func mfbHighpassSens(r1, r2, c1, c2, c3, lam float64) float64 {
+	if lam == 0 {
+		return 0
+	}
+	g1, g2 := 1/r1, 1/r2
+	s := c1 + c2 + c3
+	d2 := c2 - lam*(c1+c2)
+	t := (1-lam)*s*g2 - lam*c3*g1
+	return lam * (1 - lam) * math.Abs(-1/(2*(1-lam))-(c1+c2)/(2*d2)+(s*g2+c3*g1)/t)
 }
 
 // mfbBandpassR returns R1 (input), R2 (a–ground, +Inf when not needed) and

@@ -3,6 +3,7 @@ package topology
 import (
 	"fmt"
 	"math"
+	"sort"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
@@ -44,9 +45,22 @@ import (
 // the lowpass R1 is split into R1/α (in–a) and R1/(1 − α) (a–ground),
 // α = g/K, whose Thevenin equivalent is R1 with source α·Vin; for the
 // highpass C1 is split into α·C1 (in–a) and (1 − α)·C1 (a–ground). Both
-// capacitors of the highpass divider are series values, so α can only be
-// approached from below; K = g/α ≥ 1 then makes up the rest with Rf/Rg so
-// that the gain stays exact.
+// capacitors of the highpass divider are series values, so α = 1/(1 + ρ),
+// ρ = C1b/C1a, can only be approached from below; K = g/α = g·(1 + ρ) ≥ 1
+// then makes up the rest with Rf/Rg so that the gain stays exact. ρ is
+// taken among the ratios two series capacitors make for which K − 1 is a
+// ratio two resistors in the window can make, at least MinOhm/MaxOhm
+// ([splitRatios]; the nearest ratio to (1 − g)/g may need K − 1 of a few
+// parts in a thousand). A gain just above one, whose Rf/Rg = g − 1 is too
+// small a ratio for the window, is built the same way: a divider and a
+// larger K (for the lowpass the resistive divider, [gainSplit]).
+//
+// With K > 1 the Q sensitivity to the gain resistors,
+// S = Q·ω0·R1·C1·(K − 1) (lowpass) or Q·(K − 1)/(ω0·R1·C1) (highpass), is
+// held to [MaxGainSensitivity] for the design before rounding, so that
+// rounding cannot buy a lower sensitivity with a wrong Q. Its least value
+// over the capacitor ratio, as C2/C1 → 0, is (√(1 + 4Q²·(K − 1)) − 1)/2
+// in both, so no general-K stage exists once Q²·(K − 1) > 12.
 func sallenKey(tg target, o *options) (design, *Error) {
 	if tg.order != 2 {
 		return design{}, fail(SallenKey, ErrNoForm, "a second-order stage; no form for a first-order %s section (use rc-buffer or inverting-rc)", tg.kind)
@@ -96,14 +110,18 @@ func skLowpass(tg target, o *options) (design, *Error) {
 		return d.design, nil
 	}
 
-	// g > 1: general K = g, else equal-component with a divider.
-	amp, e := newAmplifier(SallenKey, o, tg.g)
+	// g > 1: general K = g (just above one, a larger K with a divider),
+	// else equal-component with a divider.
+	amp, alpha, e := gainSplit(SallenKey, o, tg.g)
 	if e != nil {
 		return design{}, e
 	}
-	d, rej, ok := skLowpassSearch(tg, o, amp, 1, false)
+	d, rej, ok := skLowpassSearch(tg, o, amp, alpha, false)
 	if ok {
 		d.form = fmt.Sprintf("gain K = 1 + Rf/Rg = %.4g, Q sensitivity to the gain resistors %.2g ≤ %d", amp.k, d.sens, MaxGainSensitivity)
+		if alpha < 1 {
+			d.form += fmt.Sprintf(", input resistor split into a divider for gain %.4g (Rf/Rg = g − 1 alone would be too small a ratio)", tg.g)
+		}
 		return d.design, nil
 	}
 	msg := fmt.Sprintf("gain %.4g as K = 1 + Rf/Rg: %s", tg.g, o.rejectMsg(tg.w0, rej))
@@ -179,6 +197,12 @@ func skLowpassSearch(tg target, o *options, amp amplifier, alpha float64, equal 
 				if !o.nearR(x2) {
 					continue
 				}
+				// The rule applies to the design before rounding, so that
+				// rounding cannot trade Q for a lower sensitivity.
+				if sx := tg.q * tg.w0 * r1 * c1 * (k - 1); sx > MaxGainSensitivity {
+					rej.sensitivity(sx)
+					continue
+				}
 				x1a, x1b := r1, 0.0
 				if alpha < 1 {
 					x1a, x1b = r1/alpha, r1/(1-alpha)
@@ -246,81 +270,132 @@ func skLowpassSearch(tg target, o *options, amp amplifier, alpha float64, equal 
 
 func skHighpass(tg target, o *options) (design, *Error) {
 	g := tg.g
+	direct := "" // why K = g without a divider failed
 	if !(g < 1) || isOne(g) {
 		amp, e := newAmplifier(SallenKey, o, g)
-		if e != nil {
-			return design{}, e
-		}
-		d, rej, ok := skHighpassSearch(tg, o, amp, 0)
-		if !ok {
-			return design{}, fail(SallenKey, ErrLimits, "highpass, K = %.4g: %s", amp.k, o.rejectMsg(tg.w0, rej))
-		}
-		if amp.rf == 0 {
-			d.form = "unity gain (K = 1), C1 ≈ C2"
-		} else {
-			d.form = fmt.Sprintf("gain K = 1 + Rf/Rg = %.4g, Q sensitivity to the gain resistors %.2g ≤ %d", amp.k, d.sens, MaxGainSensitivity)
-		}
-		return d.design, nil
-	}
-	// g < 1: C1 split into C1a (in–a) and C1b (a–ground), C1b/C1a = rho.
-	var best skDesign
-	var bestRej skReject
-	found := false
-	for _, rho := range splitRatios(o, (1-g)/g) {
-		alpha := 1 / (1 + rho)
-		amp, e := newAmplifier(SallenKey, o, g/alpha)
-		if e != nil {
-			continue
-		}
-		d, rej, ok := skHighpassSearch(tg, o, amp, rho)
-		if !ok {
-			bestRej = rej
-			continue
-		}
-		if !found || d.score < best.score-tieEps {
-			best, found = d, true
-			best.form = fmt.Sprintf("input capacitor split into a divider (ratio %.4g)", alpha)
-			if amp.rf != 0 {
-				best.form += fmt.Sprintf(" with K = 1 + Rf/Rg = %.4g making up the exact gain %.4g", amp.k, g)
-			} else {
-				best.form = fmt.Sprintf("unity gain (K = 1), input capacitor split into a divider for gain %.4g", g)
+		if e == nil {
+			d, rej, ok := skHighpassSearch(tg, o, amp, 0)
+			if ok {
+				if amp.rf == 0 {
+					d.form = "unity gain (K = 1), C1 ≈ C2"
+				} else {
+					d.form = fmt.Sprintf("gain K = 1 + Rf/Rg = %.4g, Q sensitivity to the gain resistors %.2g ≤ %d", amp.k, d.sens, MaxGainSensitivity)
+				}
+				return d.design, nil
 			}
+			direct = fmt.Sprintf("highpass, K = %.4g: %s", amp.k, o.rejectMsg(tg.w0, rej))
+		} else {
+			direct = e.Reason
+		}
+		// Then a divider and a larger K: just above one, g − 1 is too
+		// small a ratio for Rf/Rg; at high Q, K > 1 narrows the spread
+		// R2/R1, 4Q² at K = 1 and C1 = C2.
+	}
+	// C1 split into C1a (in–a) and C1b (a–ground), C1b/C1a = ρ, and
+	// K = g·(1 + ρ) ≥ 1 making up the gain exactly.
+	var best skDesign
+	var rej skReject
+	found, tried := false, 0
+	for _, rho := range splitRatios(o, g) {
+		amp, e := newAmplifier(SallenKey, o, g*(1+rho))
+		if e != nil {
+			continue
+		}
+		tried++
+		d, r, ok := skHighpassSearch(tg, o, amp, rho)
+		if r.sens > 0 {
+			rej.sensitivity(r.minSens)
+		}
+		if !ok {
+			continue
+		}
+		// The ratios ascend, so on a tie the least K wins: the least
+		// noise gain and the least Q sensitivity.
+		if found && d.score >= best.score-tieEps {
+			continue
+		}
+		best, found = d, true
+		alpha := 1 / (1 + rho)
+		if amp.rf != 0 {
+			best.form = fmt.Sprintf("input capacitor split into a divider (ratio %.4g) with K = 1 + Rf/Rg = %.4g making up the exact gain %.4g, Q sensitivity to the gain resistors %.2g", alpha, amp.k, g, d.sens)
+		} else {
+			best.form = fmt.Sprintf("unity gain (K = 1), input capacitor split into a divider for gain %.4g", g)
+		}
+		if direct != "" {
+			best.form += " (without the divider, " + direct + ")"
 		}
 	}
 	if !found {
-		return design{}, fail(SallenKey, ErrLimits, "highpass, gain %.4g by a capacitive divider: %s", g, o.rejectMsg(tg.w0, bestRej))
+		msg := fmt.Sprintf("highpass, gain %.4g by a capacitive divider C1a/(C1a + C1b) and K = 1 + Rf/Rg making up the rest", g)
+		if direct != "" {
+			msg = direct + "; " + msg
+		}
+		if tried == 0 {
+			return design{}, fail(SallenKey, ErrLimits, "%s: no %s capacitor ratio gives a K that two resistors in %s..%s make", msg, o.cs, eng(o.rmin, "Ω"), eng(o.rmax, "Ω"))
+		}
+		return design{}, fail(SallenKey, ErrLimits, "%s: %s", msg, o.rejectMsg(tg.w0, rej))
 	}
 	return best.design, nil
 }
 
-// splitRatios returns up to two capacitor ratios C1b/C1a ≥ rho0 that two
-// series values can make, the smallest first (α = C1a/(C1a + C1b) at or
-// just below the wanted gain).
-func splitRatios(o *options, rho0 float64) []float64 {
+// splitRatios returns the ratios ρ = C1b/C1a of two capacitor series
+// values tried for the Sallen-Key highpass divider α = 1/(1 + ρ) ahead of
+// the gain K = g·(1 + ρ): ρ0 = (1 − g)/g itself when two series values
+// make it (K = 1, no gain resistors), then for each of the four bounds
+// t = m, m^¾, m^½, m^¼, m = MinOhm/MaxOhm (the least ratio two
+// resistors in the window make), the two smallest ratios with K − 1 ≥ t
+// and ρ ≥ t: K from just above one (least noise gain, least Q
+// sensitivity) to where the gain resistors and the divider sit nearer the
+// middle of the window, and where at high Q a larger K narrows the
+// resistor spread, ascending. Exact resistors make every K exact; the
+// search takes the best score and, among scores within tieEps of it, the
+// least K.
+func splitRatios(o *options, g float64) []float64 {
 	var out []float64
-	for _, m := range o.cs.Values() {
-		_, above := o.cs.Neighbours(m * rho0)
-		r := above / m
-		if math.IsNaN(r) || r < rho0*(1-1e-12) {
-			continue
-		}
-		dup := false
+	add := func(r float64) {
 		for _, x := range out {
-			dup = dup || math.Abs(x/r-1) < 1e-9
+			if math.Abs(x/r-1) < 1e-9 {
+				return
+			}
 		}
-		if !dup {
-			out = append(out, r)
-		}
+		out = append(out, r)
 	}
-	// Keep the two smallest.
-	for i := range out {
-		for j := i + 1; j < len(out); j++ {
-			if out[j] < out[i] {
-				out[i], out[j] = out[j], out[i]
+	ms := o.cs.Values()
+	if rho0 := (1 - g) / g; rho0 > 0 && !isOne(g) {
+		for _, m := range ms {
+			if v := o.cs.Nearest(m * rho0); math.Abs(v/(m*rho0)-1) <= 1e-10 {
+				add(v / m)
+				break
 			}
 		}
 	}
-	return out[:min(2, len(out))]
+	kmax := (1 + o.rmax/o.rmin) / g // K − 1 ≤ MaxOhm/MinOhm
+	m := o.rmin / o.rmax
+	for _, e := range [...]float64{1, 0.75, 0.5, 0.25} {
+		t := math.Pow(m, e) * (1 + 1e-6)
+		lo := max((1+t)/g-1, t)
+		var rs []float64
+		for _, mm := range ms {
+			_, above := o.cs.Neighbours(mm * lo)
+			if r := above / mm; r >= lo*(1-1e-12) && 1+r <= kmax {
+				rs = append(rs, r)
+			}
+		}
+		sort.Float64s(rs)
+		n := 0
+		for i, r := range rs {
+			if n == 2 {
+				break
+			}
+			if i > 0 && math.Abs(r/rs[i-1]-1) < 1e-9 {
+				continue
+			}
+			add(r)
+			n++
+		}
+	}
+	sort.Float64s(out)
+	return out
 }
 
 // skHighpassSearch searches the Sallen-Key highpass with the realised
@@ -345,12 +420,23 @@ func skHighpassSearch(tg target, o *options, amp amplifier, rho float64) (skDesi
 			c1t = c1a + c1b
 			ar = c1a / c1t
 		}
-		for _, c2 := range o.capsNear(c2buf[:0], c1t, 2) {
+		c2s := o.capsNear(c2buf[:0], c1t, 2)
+		if k > 1 {
+			// A smaller C2 lowers the Q sensitivity to the gain resistors.
+			for _, f := range [...]float64{3, 10, 30} {
+				c2s = o.capsAtMost(c2s, c1t/f, 1)
+			}
+		}
+		for _, c2 := range c2s {
 			pp := 1 / (tg.w0 * tg.w0 * c1t * c2) // R1·R2
 			roots, nr := skHighpassR2(tg.w0, tg.q, k, c1t, c2)
 			for _, x2 := range roots[:nr] {
 				x1 := pp / x2
 				if !o.nearR(x1) || !o.nearR(x2) {
+					continue
+				}
+				if sx := tg.q * (k - 1) / (tg.w0 * x1 * c1t); sx > MaxGainSensitivity {
+					rej.sensitivity(sx) // before rounding, as in the lowpass
 					continue
 				}
 				n1, n2 := o.rcands(x1, &ca), o.rcands(x2, &cb)

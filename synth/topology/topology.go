@@ -39,7 +39,10 @@ const (
 	// with K > 1 may have: with 1 % resistors Q then moves by at most about
 	// 6 %. Equal-component Sallen-Key has 2Q − 1, so this admits it up to
 	// Q = 2 (our choice, in line with the usual advice to keep
-	// equal-component Sallen-Key to low Q).
+	// equal-component Sallen-Key to low Q). The same bound holds for the
+	// positive-feedback divider that trims a multiple-feedback highpass's
+	// gain. It applies to the design before rounding and to the parts as
+	// rounded.
 	MaxGainSensitivity = 3
 	// MaxBandpassCapRatio bounds Ca/Cb in the multiple-feedback bandpass,
 	// and with it the gain at f0 to Q²·(1 + MaxBandpassCapRatio).

@@ -1,13 +1,19 @@
 package export
 
 import (
-	"fmt"
 	"io"
 
+	"github.com/polewright/polewright/plotting"
 	"github.com/polewright/polewright/synth"
 )
 
-// writePlot writes one of the SVG plots.
+// writePlot writes one of the SVG plots with plotting's default size.
 func writePlot(w io.Writer, d *synth.Design, kind string) error {
-	return fmt.Errorf("export: %s is not available yet", kind)
+	switch kind {
+	case "bode-svg":
+		return plotting.Bode(w, d, plotting.Options{})
+	case "delay-svg":
+		return plotting.GroupDelay(w, d, plotting.Options{})
+	}
+	return plotting.Step(w, d, plotting.Options{})
 }

@@ -1,0 +1,248 @@
+package plotting
+
+import (
+	"io"
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg/draw"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// Layout of the magnitude axis (see the package documentation).
+const (
+	zoomFrac       = 0.4 // share of the axis given to the passband ripple
+	stopMarginDB   = 30  // axis floor below the stopband floor
+	noStopDepthDB  = 80  // axis depth without a stopband
+	maxDepthDB     = 300 // deepest axis
+	defaultAmaxDB  = 3   // ripple assumed for a spec without a usable one
+	maxPeakAboveDB = 40  // highest the axis goes above the gain
+)
+
+func bode(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) error {
+	sw := newSweep(d, usable(tfs))
+	mag := magnitudePlot(d, sw)
+	ph := phasePlot(sw)
+	width, height := opt.size(DefaultWidthPt, DefaultBodeHeightPt)
+	return render(w, width, height, mag, ph)
+}
+
+// specLosses returns the gain in dB, Amax, and Amin with whether the spec
+// has a usable stopband, all finite.
+func specLosses(d *synth.Design, sw sweep) (gainDB, amax, amin float64, stop bool) {
+	gainDB = 20 * math.Log10(d.Gain)
+	if !finite(gainDB) {
+		gainDB = 0
+		if _, hi, ok := dataRange(sw.idealDB); ok && hi > -maxDepthDB {
+			gainDB = hi
+		}
+	}
+	amax = d.Spec.PassbandRippleDB
+	if !(amax > 0) || !finite(amax) {
+		amax = defaultAmaxDB
+	}
+	amin = d.Spec.StopbandAttenDB
+	stop = d.Spec.HasStopband() && amin > 0 && finite(amin)
+	return gainDB, amax, amin, stop
+}
+
+// magAxis is the layout of the magnitude axis.
+type magAxis struct {
+	lo, hi, pivot float64
+	split         bool
+}
+
+func newMagAxis(gainDB, amax, amin float64, stop bool, peakDB float64) magAxis {
+	depth := min(max(2*amax, 0.5), 12)
+	pivot := gainDB - depth
+	hi := gainDB + depth/4
+	if finite(peakDB) && peakDB+depth/8 > hi {
+		hi = min(peakDB+depth/8, gainDB+maxPeakAboveDB)
+	}
+	lo := gainDB - noStopDepthDB
+	if stop {
+		lo = gainDB - amin - stopMarginDB
+	}
+	lo = max(lo, gainDB-maxDepthDB)
+	if lo > pivot-10 {
+		lo = pivot - 10
+	}
+	return magAxis{lo: lo, hi: hi, pivot: pivot, split: (hi-pivot)/(hi-lo) < zoomFrac}
+}
+
+// ticks returns the labelled ticks of the axis: a step of its own for each
+// segment, the lower ones kept clear of the pivot's label.
+func (a magAxis) ticks() []plot.Tick {
+	if !a.split {
+		return linTicks(a.lo, a.hi, niceStep(a.hi-a.lo, 8))
+	}
+	upper := linTicks(a.pivot, a.hi, niceStep(a.hi-a.pivot, 4))
+	var out []plot.Tick
+	for _, t := range linTicks(a.lo, a.pivot, niceStep(a.pivot-a.lo, 5)) {
+		if t.Value < a.pivot-0.12*(a.pivot-a.lo) {
+			out = append(out, t)
+		}
+	}
+	return append(out, upper...)
+}
+
+// region is a forbidden rectangle of the mask over [x0, x1] Hz: below the
+// limit (passband) or above it (stopband).
+type region struct {
+	x0, x1, limit float64
+	below         bool
+}
+
+// maskRegions returns the forbidden regions of the spec; band edges out of
+// the view extend beyond it. Missing or invalid edges give no region.
+func maskRegions(s synth.Spec, gainDB, amax, amin float64, stop bool, fLo, fHi float64) []region {
+	far0, far1 := fLo/4, fHi*4
+	valid := func(e []float64, n int) bool {
+		if len(e) != n {
+			return false
+		}
+		for i, f := range e {
+			if !(f > 0) || math.IsInf(f, 1) || (i > 0 && !(f > e[i-1])) {
+				return false
+			}
+		}
+		return true
+	}
+	pl, sl := gainDB-amax, gainDB-amin
+	var out []region
+	p, st := s.PassbandHz, s.StopbandHz
+	band := s.Response.IsBand()
+	n := 1
+	if band {
+		n = 2
+	}
+	okP, okS := valid(p, n), stop && valid(st, n)
+	switch s.Response {
+	case synth.Highpass:
+		if okP {
+			out = append(out, region{p[0], far1, pl, true})
+		}
+		if okS {
+			out = append(out, region{far0, st[0], sl, false})
+		}
+	case synth.Bandpass:
+		if okP {
+			out = append(out, region{p[0], p[1], pl, true})
+		}
+		if okS {
+			out = append(out, region{far0, st[0], sl, false}, region{st[1], far1, sl, false})
+		}
+	case synth.Bandstop:
+		if okP {
+			out = append(out, region{far0, p[0], pl, true}, region{p[1], far1, pl, true})
+		}
+		if okS {
+			out = append(out, region{st[0], st[1], sl, false})
+		}
+	default: // lowpass
+		if okP {
+			out = append(out, region{far0, p[0], pl, true})
+		}
+		if okS {
+			out = append(out, region{st[0], far1, sl, false})
+		}
+	}
+	return out
+}
+
+// addMask adds the shaded regions and their limit lines to p, whose Y range
+// is [lo, hi].
+func addMask(p *plot.Plot, regions []region, lo, hi float64) {
+	span := hi - lo
+	for _, r := range regions {
+		far := hi + span
+		if r.below {
+			far = lo - span
+		}
+		poly, err := plotter.NewPolygon(plotter.XYs{{X: r.x0, Y: far}, {X: r.x1, Y: far}, {X: r.x1, Y: r.limit}, {X: r.x0, Y: r.limit}})
+		if err != nil {
+			continue // only for non-finite input, which the callers exclude
+		}
+		poly.Color = maskFill
+		poly.LineStyle.Width = 0
+		edge := curve{line: &plotter.Line{
+			XYs:       plotter.XYs{{X: r.x0, Y: far}, {X: r.x0, Y: r.limit}, {X: r.x1, Y: r.limit}, {X: r.x1, Y: far}},
+			LineStyle: maskEdge,
+		}}
+		p.Add(shape{poly}, edge)
+	}
+}
+
+// shape is a polygon without its DataRange method (see curve).
+type shape struct{ poly *plotter.Polygon }
+
+// Plot implements plot.Plotter.
+func (s shape) Plot(c draw.Canvas, p *plot.Plot) { s.poly.Plot(c, p) }
+
+// magnitudePlot returns the top panel of the Bode plot.
+func magnitudePlot(d *synth.Design, sw sweep) *plot.Plot {
+	p := newPlot()
+	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
+	xt := freqTicks(fLo, fHi)
+	p.X.Scale = plot.LogScale{}
+	p.HideX()
+
+	gainDB, amax, amin, stop := specLosses(d, sw)
+	_, peak, ok := dataRange(sw.idealDB, sw.builtDB)
+	if !ok {
+		peak = math.NaN()
+	}
+	ax := newMagAxis(gainDB, amax, amin, stop, peak)
+	yt := ax.ticks()
+	if ax.split {
+		p.Y.Scale = splitScale{pivot: ax.pivot, frac: 1 - zoomFrac}
+	}
+	p.Y.Tick.Marker = plot.ConstantTicks(yt)
+	p.Y.Label.Text = "Magnitude (dB)"
+
+	p.Add(grid{x: xt, y: yt})
+	addMask(p, maskRegions(d.Spec, gainDB, amax, amin, stop, fLo, fHi), ax.lo, ax.hi)
+	if ax.split {
+		p.Add(hline{y: ax.pivot, sty: guideStyle})
+	}
+	// Clamp just outside the axis so that a curve leaves it cleanly.
+	cLo, cHi := ax.lo-0.05*(ax.hi-ax.lo), ax.hi+0.05*(ax.hi-ax.lo)
+	drawn := addCurves(p, true,
+		idealCurve(points(sw.f, sw.idealDB, cLo, cHi)),
+		builtCurve(points(sw.f, sw.builtDB, cLo, cHi)))
+	p.Add(frame{})
+	setRanges(p, fLo, fHi, ax.lo, ax.hi)
+	placeLegend(p, drawn...)
+	return p
+}
+
+// phasePlot returns the bottom panel of the Bode plot.
+func phasePlot(sw sweep) *plot.Plot {
+	p := newPlot()
+	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
+	xt := freqTicks(fLo, fHi)
+	p.X.Scale = plot.LogScale{}
+	p.X.Tick.Marker = plot.ConstantTicks(xt)
+	p.X.Label.Text = "Frequency (Hz)"
+
+	lo, hi, ok := dataRange(sw.idealPh, sw.builtPh)
+	if !ok {
+		lo, hi = -90, 90
+	}
+	lo, hi = padRange(lo, hi, 0.06, 20)
+	yt := degreeTicks(lo, hi)
+	p.Y.Tick.Marker = plot.ConstantTicks(yt)
+	p.Y.Label.Text = "Phase (\u00b0)"
+
+	p.Add(grid{x: xt, y: yt})
+	// The names are in the magnitude panel's legend.
+	addCurves(p, false,
+		idealCurve(points(sw.f, sw.idealPh, math.Inf(-1), math.Inf(1))),
+		builtCurve(points(sw.f, sw.builtPh, math.Inf(-1), math.Inf(1))))
+	p.Add(frame{})
+	setRanges(p, fLo, fHi, lo, hi)
+	return p
+}

@@ -1,0 +1,55 @@
+// Package plotting draws a [synth.Design] as SVG with gonum.org/v1/plot:
+// the magnitude and phase responses ([Bode]), the group delay
+// ([GroupDelay]) and the step response ([Step]), each with the ideal curve
+// and, once the design has circuits, the as-built one.
+//
+// # Curves
+//
+// The frequency plots use the design's own response grid
+// (Design.Response.FreqHz, log-spaced and clustered round resonances and
+// zeros) on a logarithmic axis; a design without one is sampled on 400
+// log-spaced points of its transfer function. The as-built magnitude is
+// Design.Response.RealizedDB when it is filled, else it is computed from
+// the chain. The as-built phase and group delay come from the poles and
+// zeros of every stage of Design.Chain ([circuit.Rational.Poles] and
+// [circuit.Rational.Zeros]) in closed form, as package response does for
+// the ideal ones, so that no finite differences are involved; a notch zero
+// within 0.1 % of the jω axis is put on it, as in the ideal filter, so that
+// the two phases do not part by 360° at the notch (see cascadeZPK in
+// sweep.go). The group-delay and step axes follow the ideal curves and
+// widen for the as-built ones by at most half their span, so that a diverging circuit
+// does not flatten the ideal curve; what lies beyond is clipped. The ideal
+// step response comes from the design's sections and the as-built one from
+// the chain's rational stages, both by package step. A design without
+// circuits ([synth.ErrNoCircuit]) shows the ideal curves only.
+//
+// # Mask
+//
+// The magnitude plot shades the regions the mask forbids: below
+// gain − passband_ripple_db over the passband and above
+// gain − stopband_atten_db over the stopband(s), with gain = 20·log10 of
+// Design.Gain and the spec's band edges. The magnitude axis is linear in
+// dB but split in two: the top 40 % spans the passband ripple (from twice
+// Amax below the gain to just above the curves' peak), the rest spans down
+// to 30 dB below the stopband floor, so that the ripple and the stopband
+// can both be read; a dashed line marks the change of scale. Values below
+// the axis (−Inf at a zero on the grid) are clamped just outside it, since
+// the plotters reject non-finite values; NaN points are left out.
+//
+// # Output
+//
+// Each function writes one complete SVG document that begins with an
+// <?xml?> declaration; [InlineSVG] strips it for inlining into HTML.
+// Nothing from the spec is written as text: the SVG holds only fixed axis
+// labels, legend names ("ideal", "as built") and numbers, and gonum/plot's
+// SVG canvas escapes all text it writes in any case.
+//
+// # Fonts and global state
+//
+// The plots use Liberation Sans from gonum/plot's default font cache and
+// do not embed it (the SVG names font-family "Liberation Sans"; a page can
+// override it with CSS, `svg text { font-family: sans-serif !important }`).
+// The fonts are set on each plot's text styles, not through
+// plot.DefaultFont or font.DefaultCache: this package changes no
+// package-level state, so it is safe to call concurrently.
+package plotting

@@ -1,0 +1,377 @@
+package plotting
+
+import (
+	"bytes"
+	"errors"
+	"image/color"
+	"io"
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// Default and limiting sizes of the plots, in points (1/72 inch).
+const (
+	// DefaultWidthPt is the width of every plot.
+	DefaultWidthPt = 520
+	// DefaultBodeHeightPt is the height of [Bode], both panels.
+	DefaultBodeHeightPt = 440
+	// DefaultHeightPt is the height of [GroupDelay] and [Step].
+	DefaultHeightPt = 260
+	// MinSizePt and MaxSizePt bound a width or height given in [Options].
+	MinSizePt = 100
+	MaxSizePt = 4000
+)
+
+// Options sets the size of a plot.
+type Options struct {
+	// WidthPt and HeightPt are the size of the SVG in points. 0, or any
+	// value that is not finite and positive, selects the default for the
+	// plot; other values are clamped to [MinSizePt, MaxSizePt].
+	WidthPt, HeightPt float64
+}
+
+// ErrNilDesign is returned for a nil design.
+var ErrNilDesign = errors.New("plotting: nil design")
+
+func (o Options) size(defW, defH float64) (vg.Length, vg.Length) {
+	pick := func(v, def float64) vg.Length {
+		if !(v > 0) || math.IsInf(v, 1) {
+			return vg.Points(def)
+		}
+		return vg.Points(min(max(v, MinSizePt), MaxSizePt))
+	}
+	return pick(o.WidthPt, defW), pick(o.HeightPt, defH)
+}
+
+// Bode writes the magnitude (top) and phase (bottom) responses of d as one
+// SVG, the two panels aligned on a shared logarithmic frequency axis. The
+// magnitude panel shades the regions the mask forbids (see the package
+// documentation). It returns [ErrNilDesign] for a nil d and otherwise only
+// the error of writing to w: missing or non-finite data are left out.
+func Bode(w io.Writer, d *synth.Design, opt Options) error {
+	if d == nil {
+		return ErrNilDesign
+	}
+	return bode(w, d, asBuilt(d), opt)
+}
+
+// GroupDelay writes the group delay of d in seconds (SI-prefixed) against
+// frequency as SVG. Errors as for [Bode].
+func GroupDelay(w io.Writer, d *synth.Design, opt Options) error {
+	if d == nil {
+		return ErrNilDesign
+	}
+	return groupDelay(w, d, asBuilt(d), opt)
+}
+
+// Step writes the unit-step response of d against time (SI-prefixed) as
+// SVG, with a dashed line at the final value H(0) of the ideal filter.
+// Errors as for [Bode].
+func Step(w io.Writer, d *synth.Design, opt Options) error {
+	if d == nil {
+		return ErrNilDesign
+	}
+	return stepPlot(w, d, asBuilt(d), opt)
+}
+
+// InlineSVG returns b without its XML prolog — the <?xml ...?>
+// declaration, comments and white space before the <svg element — so that
+// it can be placed inside an HTML page. The result shares b's memory. b is
+// returned unchanged if it does not start with a prolog followed by <svg.
+func InlineSVG(b []byte) []byte {
+	rest := b
+	for {
+		rest = bytes.TrimLeft(rest, " \t\r\n")
+		switch {
+		case bytes.HasPrefix(rest, []byte("<svg")):
+			return rest
+		case bytes.HasPrefix(rest, []byte("<?")):
+			end := bytes.Index(rest, []byte("?>"))
+			if end < 0 {
+				return b
+			}
+			rest = rest[end+2:]
+		case bytes.HasPrefix(rest, []byte("<!--")):
+			end := bytes.Index(rest, []byte("-->"))
+			if end < 0 {
+				return b
+			}
+			rest = rest[end+3:]
+		default:
+			return b
+		}
+	}
+}
+
+// asBuilt returns the design's chain as rational stages, or nil when the
+// design has no circuit or the chain cannot be analysed.
+func asBuilt(d *synth.Design) circuit.Cascade {
+	ch, err := d.Chain()
+	if err != nil {
+		return nil
+	}
+	tfs, err := ch.TransferFunctions()
+	if err != nil {
+		return nil
+	}
+	return tfs
+}
+
+// usable returns tfs, or nil if a stage has a coefficient that is not
+// finite, a scale that is not finite and positive, or no denominator: such
+// a chain has no as-built curves.
+func usable(tfs circuit.Cascade) circuit.Cascade {
+	for _, r := range tfs {
+		if !(r.ScaleRadPerSec > 0) || math.IsInf(r.ScaleRadPerSec, 1) || degree(r.Den) < 0 {
+			return nil
+		}
+		for _, c := range [][]float64{r.Num, r.Den} {
+			for _, v := range c {
+				if !finite(v) {
+					return nil
+				}
+			}
+		}
+	}
+	return tfs
+}
+
+// The look of the plots.
+var (
+	sans = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
+	idealStyle = draw.LineStyle{Color: color.NRGBA{R: 0x1d, G: 0x4e, B: 0x89, A: 0xff}, Width: vg.Points(1.6)}
+	builtStyle = draw.LineStyle{
+		Color:  color.NRGBA{R: 0xd9, G: 0x6c, B: 0x06, A: 0xff},
+		Width:  vg.Points(1.2),
+		Dashes: []vg.Length{vg.Points(5), vg.Points(2.5)},
+	}
+	maskFill   = color.NRGBA{R: 0xa8, G: 0x32, B: 0x3e, A: 0x30}
+	maskEdge   = draw.LineStyle{Color: color.NRGBA{R: 0xa8, G: 0x32, B: 0x3e, A: 0xc0}, Width: vg.Points(0.8)}
+	guideStyle = draw.LineStyle{
+		Color:  color.NRGBA{R: 0x6b, G: 0x6b, B: 0x6b, A: 0xff},
+		Width:  vg.Points(0.7),
+		Dashes: []vg.Length{vg.Points(2), vg.Points(2)},
+	}
+	gridMajor  = draw.LineStyle{Color: color.NRGBA{R: 0xd0, G: 0xd4, B: 0xda, A: 0xff}, Width: vg.Points(0.5)}
+	gridMinor  = draw.LineStyle{Color: color.NRGBA{R: 0xec, G: 0xee, B: 0xf1, A: 0xff}, Width: vg.Points(0.4)}
+	frameStyle = draw.LineStyle{Color: color.NRGBA{R: 0x40, G: 0x40, B: 0x40, A: 0xff}, Width: vg.Points(0.6)}
+)
+
+// Legend names.
+const (
+	idealName = "ideal"
+	builtName = "as built"
+)
+
+// newPlot returns a plot in the package's style: sans-serif text, no
+// padding between the data and the frame, short ticks.
+func newPlot() *plot.Plot {
+	p := plot.New()
+	p.BackgroundColor = nil // render fills the whole canvas
+	p.X.Label.TextStyle.Font = font.From(sans, 10)
+	p.Y.Label.TextStyle.Font = font.From(sans, 10)
+	p.X.Tick.Label.Font = font.From(sans, 9)
+	p.Y.Tick.Label.Font = font.From(sans, 9)
+	p.Legend.TextStyle.Font = font.From(sans, 9)
+	p.Legend.ThumbnailWidth = vg.Points(22)
+	p.X.Padding, p.Y.Padding = 0, 0
+	p.X.Width, p.Y.Width = 0, 0 // the frame plotter draws the border
+	p.X.Tick.Length, p.Y.Tick.Length = vg.Points(4), vg.Points(4)
+	p.X.Tick.Width, p.Y.Tick.Width = vg.Points(0.6), vg.Points(0.6)
+	p.X.Label.Padding, p.Y.Label.Padding = vg.Points(3), vg.Points(3)
+	return p
+}
+
+// render writes the plots, stacked in one column and aligned, as SVG.
+func render(w io.Writer, width, height vg.Length, plots ...*plot.Plot) error {
+	c := vgsvg.New(width, height)
+	dc := draw.New(c)
+	dc.SetColor(color.White)
+	dc.Fill(dc.Rectangle.Path())
+	tiles := draw.Tiles{
+		Rows: len(plots), Cols: 1,
+		PadTop: vg.Points(8), PadBottom: vg.Points(4),
+		PadLeft: vg.Points(4), PadRight: vg.Points(14),
+		PadY: vg.Points(10),
+	}
+	grid := make([][]*plot.Plot, len(plots))
+	for i, p := range plots {
+		grid[i] = []*plot.Plot{p}
+	}
+	canvases := plot.Align(grid, tiles, dc)
+	for i, p := range plots {
+		p.Draw(canvases[i][0])
+	}
+	_, err := c.WriteTo(w)
+	return err
+}
+
+// finite reports whether v is neither NaN nor infinite.
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// points returns the (x, y) pairs with both finite, y clamped to [lo, hi].
+func points(xs, ys []float64, lo, hi float64) plotter.XYs {
+	out := make(plotter.XYs, 0, len(xs))
+	for i, x := range xs {
+		if i >= len(ys) || !finite(x) || math.IsNaN(ys[i]) {
+			continue
+		}
+		if y := min(max(ys[i], lo), hi); finite(y) {
+			out = append(out, plotter.XY{X: x, Y: y})
+		}
+	}
+	return out
+}
+
+// curve is a line on a plot, with its legend name. It hides the
+// GlyphBoxes and DataRange methods of plotter.Line: the axis ranges are
+// set explicitly, and plot.Plot would otherwise ask for one glyph box per
+// point on every layout pass (about half the time of drawing a plot).
+type curve struct {
+	line *plotter.Line
+	name string
+}
+
+// Plot implements plot.Plotter.
+func (c curve) Plot(dc draw.Canvas, p *plot.Plot) { c.line.Plot(dc, p) }
+
+// Thumbnail implements plot.Thumbnailer.
+func (c curve) Thumbnail(dc *draw.Canvas) { c.line.Thumbnail(dc) }
+
+// addCurves adds the lines through the points of each curve with at least
+// two points to p, and, if legend is set, their names to p's legend; it
+// returns the points drawn, for placeLegend.
+func addCurves(p *plot.Plot, legend bool, curves ...curve) []plotter.XYs {
+	var drawn []plotter.XYs
+	for _, c := range curves {
+		if len(c.line.XYs) < 2 {
+			continue
+		}
+		p.Add(c)
+		if legend {
+			p.Legend.Add(c.name, c)
+		}
+		drawn = append(drawn, c.line.XYs)
+	}
+	return drawn
+}
+
+// idealCurve and builtCurve style the two curves of every plot.
+func idealCurve(pts plotter.XYs) curve {
+	return curve{&plotter.Line{XYs: pts, LineStyle: idealStyle}, idealName}
+}
+
+func builtCurve(pts plotter.XYs) curve {
+	return curve{&plotter.Line{XYs: pts, LineStyle: builtStyle}, builtName}
+}
+
+// placeLegend puts the legend in the corner of the data area that the
+// curves cross least (top right first on a tie).
+func placeLegend(p *plot.Plot, curves ...plotter.XYs) {
+	type corner struct{ top, left bool }
+	corners := []corner{{true, false}, {true, true}, {false, false}, {false, true}}
+	best, bestN := corners[0], math.MaxInt
+	for _, c := range corners {
+		n := 0
+		for _, pts := range curves {
+			for _, pt := range pts {
+				x, y := p.X.Norm(pt.X), p.Y.Norm(pt.Y)
+				inX := (c.left && x < 0.3) || (!c.left && x > 0.7)
+				inY := (c.top && y > 0.72) || (!c.top && y < 0.28)
+				if inX && inY {
+					n++
+				}
+			}
+		}
+		if n < bestN {
+			best, bestN = c, n
+		}
+	}
+	p.Legend.Top, p.Legend.Left = best.top, best.left
+	p.Legend.XOffs, p.Legend.YOffs = vg.Points(-8), vg.Points(-5)
+	if best.left {
+		p.Legend.XOffs = vg.Points(8)
+	}
+	if !best.top {
+		p.Legend.YOffs = vg.Points(5)
+	}
+}
+
+// setRanges sets the axis ranges of p. It must come after the last p.Add,
+// which widens them to the data ranges of the plotters.
+func setRanges(p *plot.Plot, xLo, xHi, yLo, yHi float64) {
+	p.X.Min, p.X.Max = xLo, xHi
+	p.Y.Min, p.Y.Max = yLo, yHi
+}
+
+// frame draws the border of the data area.
+type frame struct{}
+
+// Plot implements plot.Plotter.
+func (frame) Plot(c draw.Canvas, _ *plot.Plot) {
+	c.StrokeLines(frameStyle, []vg.Point{
+		{X: c.Min.X, Y: c.Min.Y}, {X: c.Max.X, Y: c.Min.Y},
+		{X: c.Max.X, Y: c.Max.Y}, {X: c.Min.X, Y: c.Max.Y}, {X: c.Min.X, Y: c.Min.Y},
+	})
+}
+
+// grid draws the grid lines at the given ticks: labelled ticks in the major
+// style, the others in the minor style, each style as one path.
+type grid struct{ x, y []plot.Tick }
+
+// Plot implements plot.Plotter.
+func (g grid) Plot(c draw.Canvas, plt *plot.Plot) {
+	trX, trY := plt.Transforms(&c)
+	var major, minor vg.Path
+	add := func(t plot.Tick, a, b vg.Point) {
+		pa := &minor
+		if t.Label != "" {
+			pa = &major
+		}
+		pa.Move(a)
+		pa.Line(b)
+	}
+	for _, t := range g.x {
+		if x := trX(t.Value); x > c.Min.X && x < c.Max.X {
+			add(t, vg.Point{X: x, Y: c.Min.Y}, vg.Point{X: x, Y: c.Max.Y})
+		}
+	}
+	for _, t := range g.y {
+		if y := trY(t.Value); y > c.Min.Y && y < c.Max.Y {
+			add(t, vg.Point{X: c.Min.X, Y: y}, vg.Point{X: c.Max.X, Y: y})
+		}
+	}
+	for _, s := range []struct {
+		path vg.Path
+		sty  draw.LineStyle
+	}{{minor, gridMinor}, {major, gridMajor}} {
+		if len(s.path) > 0 {
+			c.SetLineStyle(s.sty)
+			c.Stroke(s.path)
+		}
+	}
+}
+
+// hline is a horizontal line across the data area at y.
+type hline struct {
+	y   float64
+	sty draw.LineStyle
+}
+
+// Plot implements plot.Plotter.
+func (h hline) Plot(c draw.Canvas, plt *plot.Plot) {
+	_, trY := plt.Transforms(&c)
+	if y := trY(h.y); y >= c.Min.Y && y <= c.Max.Y {
+		c.StrokeLine2(h.sty, c.Min.X, y, c.Max.X, y)
+	}
+}

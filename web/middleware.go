@@ -1,0 +1,102 @@
+package web
+
+import (
+	"bytes"
+	"encoding/json"
+	"log/slog"
+	"net/http"
+	"runtime/debug"
+	"strings"
+	"time"
+
+	"github.com/go-chi/chi/v5/middleware"
+
+	"github.com/polewright/polewright/web/components"
+)
+
+// logRequests logs one line per request: method, path, status, size,
+// duration and the request id.
+func (h *handler) logRequests(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		start := time.Now()
+		ww := middleware.NewWrapResponseWriter(w, r.ProtoMajor)
+		next.ServeHTTP(ww, r)
+		status := ww.Status()
+		if status == 0 {
+			status = http.StatusOK
+		}
+		level := slog.LevelInfo
+		if status >= 500 {
+			level = slog.LevelError
+		}
+		h.log.LogAttrs(r.Context(), level, "request",
+			slog.String("method", r.Method),
+			slog.String("path", r.URL.Path),
+			slog.Int("status", status),
+			slog.Int("bytes", ww.BytesWritten()),
+			slog.Duration("duration", time.Since(start)),
+			slog.String("request_id", middleware.GetReqID(r.Context())),
+		)
+	})
+}
+
+// recoverPanics answers a panic in a handler with a bare 500 and logs the
+// panic with its stack; the client sees no detail. http.ErrAbortHandler is
+// passed on, as net/http expects.
+func (h *handler) recoverPanics(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		defer func() {
+			rec := recover()
+			if rec == nil {
+				return
+			}
+			if rec == http.ErrAbortHandler {
+				panic(rec)
+			}
+			h.log.LogAttrs(r.Context(), slog.LevelError, "panic",
+				slog.Any("panic", rec),
+				slog.String("stack", string(debug.Stack())),
+				slog.String("path", r.URL.Path),
+				slog.String("request_id", middleware.GetReqID(r.Context())),
+			)
+			h.fail(w, r, http.StatusInternalServerError, "internal error; it has been logged", "")
+		}()
+		next.ServeHTTP(w, r)
+	})
+}
+
+// apiError is the JSON error body of the API.
+type apiError struct {
+	Error string `json:"error"`
+	Field string `json:"field,omitempty"`
+}
+
+// isAPI reports whether r is for the JSON API.
+func isAPI(r *http.Request) bool {
+	return r.URL.Path == "/api" || strings.HasPrefix(r.URL.Path, "/api/")
+}
+
+// fail answers an error: as {"error", "field"} JSON on the API, as a short
+// HTML page elsewhere.
+func (h *handler) fail(w http.ResponseWriter, r *http.Request, status int, msg, field string) {
+	if isAPI(r) {
+		writeJSONError(w, status, msg, field)
+		return
+	}
+	var buf bytes.Buffer
+	if err := components.Message(http.StatusText(status), msg).Render(r.Context(), &buf); err != nil {
+		http.Error(w, http.StatusText(status), status)
+		return
+	}
+	w.Header().Set("Content-Type", "text/html; charset=utf-8")
+	w.WriteHeader(status)
+	_, _ = w.Write(buf.Bytes())
+}
+
+func writeJSONError(w http.ResponseWriter, status int, msg, field string) {
+	b, _ := json.Marshal(apiError{Error: msg, Field: field})
+	w.Header().Set("Content-Type", "application/json")
+	w.Header().Set("Cache-Control", "no-store")
+	w.WriteHeader(status)
+	_, _ = w.Write(append(b, '\n'))
+}

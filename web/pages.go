@@ -1,0 +1,332 @@
+package web
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"log/slog"
+	"math"
+	"net/http"
+	"net/url"
+	"strings"
+
+	"github.com/a-h/templ"
+	"github.com/go-chi/chi/v5"
+	"github.com/go-chi/chi/v5/middleware"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/web/components"
+	"github.com/polewright/polewright/web/export"
+)
+
+// home serves the spec form. With no query it is the blank form; a query
+// pre-fills it, and the helper's button (fill=1) fills the stopband from
+// the converter fields first.
+func (h *handler) home(w http.ResponseWriter, r *http.Request) {
+	q := r.URL.Query()
+	if len(q) == 0 {
+		h.render(w, r, http.StatusOK, components.Home(buildForm(initialValues(), nil), ""))
+		return
+	}
+	vals, err := readQuery(q, paramFill)
+	var msgs map[string]string
+	filled := ""
+	if err != nil {
+		msgs = placeError(err)
+	} else if vals[paramFill] != "" {
+		msgs, filled = applyHelper(vals)
+	}
+	status := http.StatusOK
+	if len(msgs) > 0 {
+		status = http.StatusBadRequest
+	}
+	form := buildForm(vals, msgs)
+	form.Filled = filled
+	h.render(w, r, status, components.Home(form, ""))
+}
+
+// design serves the result page of the spec in the query, or the form with
+// the error beside its field (400).
+func (h *handler) design(w http.ResponseWriter, r *http.Request) {
+	vals, d, ok := h.designFromQuery(w, r)
+	if !ok {
+		return
+	}
+	res, err := h.buildResult(r.Context(), vals, d)
+	if err != nil {
+		h.internal(w, r, err)
+		return
+	}
+	h.render(w, r, http.StatusOK, components.DesignPage(buildForm(vals, nil), res))
+}
+
+// download serves one export of the spec in the query as a file.
+func (h *handler) download(w http.ResponseWriter, r *http.Request) {
+	kind := chi.URLParam(r, "kind")
+	if !export.Known(kind) {
+		h.fail(w, r, http.StatusNotFound, fmt.Sprintf("there is no download %q (kinds: %s)", clip(kind), strings.Join(export.Kinds, ", ")), "")
+		return
+	}
+	_, d, ok := h.designFromQuery(w, r)
+	if !ok {
+		return
+	}
+	var buf bytes.Buffer
+	if err := h.export(&buf, d, kind); err != nil {
+		h.exportFailed(w, r, kind, err)
+		return
+	}
+	w.Header().Set("Content-Type", export.ContentType(kind))
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", export.FileName(kind)))
+	w.Header().Set("Cache-Control", "no-store")
+	_, _ = w.Write(buf.Bytes())
+}
+
+// designFromQuery parses and synthesises the spec of r's query. On failure
+// it has answered (the form with the error for a bad spec) and returns
+// ok = false.
+func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formValues, *synth.Design, bool) {
+	vals, spec, err := parseQuery(r.URL.Query())
+	var d *synth.Design
+	if err == nil {
+		d, err = synth.Synthesize(r.Context(), spec)
+	}
+	if err == nil {
+		return vals, d, true
+	}
+	if _, ok := synth.IsFieldError(err); ok {
+		h.render(w, r, http.StatusBadRequest, components.Home(buildForm(vals, placeError(err)), "Correct the field marked below and design again."))
+		return nil, nil, false
+	}
+	h.synthFailed(w, r, err)
+	return nil, nil, false
+}
+
+// export writes d as kind. The plot kinds are drawn by Deps.Plots when it
+// is set, so that a downloaded plot is the one the page shows; everything
+// else goes through Deps.Export.
+func (h *handler) export(w io.Writer, d *synth.Design, kind string) error {
+	if p := h.deps.Plots; p != nil {
+		for _, pk := range plotKinds {
+			if pk.kind == kind {
+				var buf bytes.Buffer
+				if err := pk.draw(p, &buf, d); err != nil {
+					return err
+				}
+				_, err := w.Write(buf.Bytes())
+				return err
+			}
+		}
+	}
+	return h.deps.Export(w, d, kind)
+}
+
+// synthFailed answers a synthesis failure that is not the spec's fault.
+func (h *handler) synthFailed(w http.ResponseWriter, r *http.Request, err error) {
+	if errors.Is(err, context.DeadlineExceeded) || errors.Is(err, context.Canceled) {
+		h.fail(w, r, http.StatusServiceUnavailable, "the design took too long; try again, or a lower order", "")
+		return
+	}
+	h.internal(w, r, err)
+}
+
+// exportFailed answers an export that could not be written.
+func (h *handler) exportFailed(w http.ResponseWriter, r *http.Request, kind string, err error) {
+	if errors.Is(err, synth.ErrNoCircuit) {
+		h.fail(w, r, http.StatusNotImplemented, kind+" needs the circuit of the design, which this build does not map yet", "")
+		return
+	}
+	h.internal(w, r, err)
+}
+
+// internal logs err and answers 500 without its text.
+func (h *handler) internal(w http.ResponseWriter, r *http.Request, err error) {
+	h.log.LogAttrs(r.Context(), slog.LevelError, "internal error",
+		slog.String("error", err.Error()),
+		slog.String("path", r.URL.Path),
+		slog.String("request_id", middleware.GetReqID(r.Context())))
+	h.fail(w, r, http.StatusInternalServerError, "internal error; it has been logged", "")
+}
+
+// render renders c into a buffer and sends it, so that a failed render
+// never sends half a page.
+func (h *handler) render(w http.ResponseWriter, r *http.Request, status int, c templ.Component) {
+	var buf bytes.Buffer
+	buf.Grow(64 << 10)
+	if err := c.Render(r.Context(), &buf); err != nil {
+		h.internal(w, r, err)
+		return
+	}
+	w.Header().Set("Content-Type", "text/html; charset=utf-8")
+	w.Header().Set("Cache-Control", "no-cache")
+	w.WriteHeader(status)
+	_, _ = w.Write(buf.Bytes())
+}
+
+// initialValues are the values of the blank form.
+func initialValues() formValues {
+	vals := formValues{}
+	for _, f := range allFields {
+		if f.Initial != "" {
+			vals[f.Name] = f.Initial
+		}
+	}
+	return vals
+}
+
+// placeError turns a spec error into messages by control name; a message
+// that concerns no control is under the key "".
+func placeError(err error) map[string]string {
+	fe, ok := synth.IsFieldError(err)
+	if !ok {
+		return map[string]string{"": "the spec cannot be read"}
+	}
+	if f, ok := fieldByJSON(fe.Field); ok {
+		return map[string]string{f.Name: practitionerReason(fe.Reason)}
+	}
+	if f, ok := lookupField(fe.Field); ok {
+		return map[string]string{f.Name: practitionerReason(fe.Reason)}
+	}
+	if strings.HasPrefix(fe.Reason, "unknown parameter") {
+		return map[string]string{"": fe.Reason}
+	}
+	return map[string]string{"": practitionerReason(fe.Field + ": " + fe.Reason)}
+}
+
+// helperNote explains the converter helper on the form.
+const helperNote = "For an anti-alias lowpass in front of a converter: the stopband edge becomes " +
+	"fs − fb (the lowest frequency that folds back into the signal band) and the attenuation " +
+	"6.02·N + 1.76 dB (the ideal N-bit quantisation SNR, common practice). Both stay editable."
+
+// applyHelper fills the stopband edge and attenuation (and an empty
+// passband edge) from the converter fields of vals. It returns messages by
+// control name for what is missing or wrong, and a note of what it filled.
+func applyHelper(vals formValues) (map[string]string, string) {
+	msgs := map[string]string{}
+	num := func(name string) float64 {
+		f, _ := lookupField(name)
+		text := strings.TrimSpace(vals[name])
+		if text == "" {
+			msgs[name] = "is needed to fill the stopband from a converter"
+			return math.NaN()
+		}
+		n, err := number(f, text)
+		if err != nil {
+			fe, _ := synth.IsFieldError(err)
+			msgs[name] = fe.Reason
+			return math.NaN()
+		}
+		x, _ := n.Float64()
+		if x <= 0 {
+			msgs[name] = fmt.Sprintf("must be above 0 (got %s)", plain(x))
+			return math.NaN()
+		}
+		return x
+	}
+	fs, bits, fb := num(paramRate), num(paramBits), num(paramBand)
+	if !math.IsNaN(bits) && (bits < 1 || bits > 32 || bits != math.Trunc(bits)) {
+		msgs[paramBits] = fmt.Sprintf("must be a whole number of bits from 1 to 32 (got %s)", plain(bits))
+	}
+	if !math.IsNaN(fs) && !math.IsNaN(fb) && fb >= fs/2 {
+		msgs[paramBand] = fmt.Sprintf("must be below half the sample rate (%s) for anything to be filtered before it folds back", si(fs/2, "Hz", 6))
+	}
+	if resp := strings.TrimSpace(vals["response"]); resp != "" && !strings.EqualFold(resp, "lowpass") {
+		msgs["response"] = "the converter helper fills a lowpass (anti-alias) requirement; choose lowpass first"
+	}
+	if len(msgs) > 0 {
+		return msgs, ""
+	}
+	// 6.02·N + 1.76 dB, the SNR of an ideal N-bit quantiser for a full-scale
+	// sine (common practice), rounded to 0.01 dB as the form shows it.
+	atten := math.Round((6.02*bits+1.76)*100) / 100
+	vals["stopband_hz"] = plain(fs - fb)
+	vals["stopband_atten_db"] = plain(atten)
+	if strings.TrimSpace(vals["passband_hz"]) == "" {
+		vals["passband_hz"] = plain(fb)
+	}
+	return nil, fmt.Sprintf("Filled: stopband edge %s Hz, attenuation %s dB. Edit them if you like, then design.", plain(fs-fb), plain(atten))
+}
+
+// buildForm is the form view of vals, with msgs beside their controls.
+func buildForm(vals formValues, msgs map[string]string) components.Form {
+	form := components.Form{Error: msgs[""], HelperNote: helperNote}
+	var cur *components.Group
+	for _, f := range specFields {
+		if cur == nil || cur.Legend != f.Group {
+			form.Groups = append(form.Groups, components.Group{Legend: f.Group})
+			cur = &form.Groups[len(form.Groups)-1]
+		}
+		cur.Controls = append(cur.Controls, control(f, vals, msgs))
+	}
+	form.Helper.Legend = groupHelper
+	for _, f := range helperFields {
+		form.Helper.Controls = append(form.Helper.Controls, control(f, vals, msgs))
+	}
+	return form
+}
+
+func control(f field, vals formValues, msgs map[string]string) components.Control {
+	c := components.Control{
+		Name: f.Name, ID: "f-" + f.Name,
+		Label: f.Label, Hint: f.Hint, Placeholder: f.Placeholder,
+		Value: vals[f.Name], Error: msgs[f.Name],
+	}
+	switch f.Kind {
+	case kindChoice:
+		c.Kind = components.ControlSelect
+		sel := f.Default
+		for _, ch := range f.Choices {
+			if strings.EqualFold(ch, strings.TrimSpace(c.Value)) {
+				sel = ch
+			}
+		}
+		for _, ch := range f.Choices {
+			label := ch
+			if n, ok := approxNames[ch]; ok {
+				label = n
+			}
+			c.Options = append(c.Options, components.Option{Value: ch, Label: label, Selected: ch == sel})
+		}
+	case kindBool:
+		c.Kind = components.ControlCheckbox
+		switch strings.ToLower(strings.TrimSpace(c.Value)) {
+		case "1", "true", "on", "yes":
+			c.Checked = true
+		}
+	case kindBand:
+		c.Kind = components.ControlText
+		c.InputMode = "text" // commas separate band edges
+	default:
+		c.Kind = components.ControlText
+		c.InputMode = "decimal"
+	}
+	return c
+}
+
+// downloadKinds describes each export kind on the page: label, and what
+// the kind needs (a circuit, or plots).
+var downloadKinds = map[string]struct {
+	label, detail  string
+	circuit, plots bool
+}{
+	"spice":     {"SPICE deck", "runs in ngspice batch mode", true, false},
+	"bom":       {"Bill of materials", "CSV", true, false},
+	"json":      {"Design", "JSON", false, false},
+	"bode-svg":  {"Magnitude and phase", "SVG", false, true},
+	"delay-svg": {"Group delay", "SVG", false, true},
+	"step-svg":  {"Step response", "SVG", false, true},
+}
+
+// downloadLink is the address of the download of kind for the query.
+func downloadLink(kind, query string) components.Link {
+	k := downloadKinds[kind]
+	return components.Link{
+		Label:    k.label,
+		Detail:   k.detail,
+		Href:     "/download/" + url.PathEscape(kind) + "?" + query,
+		Download: export.FileName(kind),
+		Kind:     kind,
+	}
+}

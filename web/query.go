@@ -1,0 +1,340 @@
+package web
+
+import (
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/url"
+	"regexp"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/polewright/polewright/synth"
+)
+
+// inputKind is how a field is entered and how its text becomes JSON.
+type inputKind int
+
+const (
+	kindNumber  inputKind = iota // one number
+	kindBand                     // a number, or "lo,hi"
+	kindChoice                   // one of a list of names (a select)
+	kindBool                     // a checkbox: "1" or absent
+	kindInteger                  // a whole number (synth checks wholeness)
+	kindPair                     // "lo,hi", always a JSON array
+)
+
+// field is one control of the spec form and one query parameter. Adding a
+// spec field to the page is adding a row to specFields; the JSON path puts
+// it where the spec JSON expects it.
+type field struct {
+	// Name is the query parameter and the form control's name.
+	Name string
+	// Path is where the value goes in the spec JSON: ["passband_hz"] or
+	// ["opamp", "gbw_hz"]. Empty for the converter helper's parameters,
+	// which are not part of the spec.
+	Path []string
+	// Label is the control's label; Noun names the field in a sentence
+	// ("the passband edge"), for error messages.
+	Label, Noun string
+	Kind        inputKind
+	// Choices are the accepted values of a kindChoice field, Default the one
+	// selected when the field is absent.
+	Choices []string
+	Default string
+	// Placeholder is shown in an empty control; Hint under it.
+	Placeholder, Hint string
+	// Initial is the value on the blank form of GET /.
+	Initial string
+	// Group is the fieldset the control belongs to.
+	Group string
+}
+
+// jsonName is the field's name as synth.FieldError spells it.
+func (f field) jsonName() string { return strings.Join(f.Path, ".") }
+
+// The fieldsets of the form, in order.
+const (
+	groupBands   = "Response and mask"
+	groupCircuit = "Circuit"
+	groupOpAmp   = "Op-amp"
+	groupHelper  = "From a converter"
+)
+
+// specFields are the spec's fields as the form and the query carry them,
+// in the order of the form and of a canonical query.
+var specFields = []field{
+	{Name: "response", Path: []string{"response"}, Label: "Response", Noun: "the response", Kind: kindChoice,
+		Choices: synth.Responses, Default: "lowpass", Group: groupBands},
+	{Name: "approximation", Path: []string{"approximation"}, Label: "Approximation", Noun: "the approximation", Kind: kindChoice,
+		Choices: synth.Approximations, Default: "butterworth", Group: groupBands},
+	{Name: "passband_hz", Path: []string{"passband_hz"}, Label: "Passband edge (Hz)", Noun: "the passband edge", Kind: kindBand,
+		Placeholder: "e.g. 1000, or 800,1200 for a band", Hint: "where the loss reaches the passband ripple; lo,hi for bandpass and bandstop",
+		Initial: "1000", Group: groupBands},
+	{Name: "stopband_hz", Path: []string{"stopband_hz"}, Label: "Stopband edge (Hz)", Noun: "the stopband edge", Kind: kindBand,
+		Placeholder: "e.g. 4000", Hint: "where the loss must reach the attenuation; may be empty when the order is given",
+		Initial: "4000", Group: groupBands},
+	{Name: "passband_ripple_db", Path: []string{"passband_ripple_db"}, Label: "Passband ripple, Amax (dB)", Noun: "the passband ripple", Kind: kindNumber,
+		Placeholder: "1 (Bessel: 3.0103)", Hint: "most loss allowed in the passband", Group: groupBands},
+	{Name: "stopband_atten_db", Path: []string{"stopband_atten_db"}, Label: "Stopband attenuation, Amin (dB)", Noun: "the stopband attenuation", Kind: kindNumber,
+		Placeholder: "40", Hint: "least loss required in the stopband", Initial: "40", Group: groupBands},
+	{Name: "order", Path: []string{"order"}, Label: "Order", Noun: "the order", Kind: kindInteger,
+		Placeholder: "lowest that meets the mask", Hint: fmt.Sprintf("0 or empty: the lowest order that meets the mask; at most %d", synth.MaxOrder), Group: groupBands},
+	{Name: "gain_db", Path: []string{"gain_db"}, Label: "Passband gain (dB)", Noun: "the passband gain", Kind: kindNumber,
+		Placeholder: "0", Hint: fmt.Sprintf("of the whole chain, %d to +%d dB", synth.MinGainDB, synth.MaxGainDB), Group: groupBands},
+	{Name: "topology", Path: []string{"topology"}, Label: "Stage circuit", Noun: "the stage circuit", Kind: kindChoice,
+		Choices: synth.Topologies, Default: "auto", Hint: "auto picks per stage and says why", Group: groupCircuit},
+	{Name: "resistor_series", Path: []string{"resistor_series"}, Label: "Resistor series", Noun: "the resistor series", Kind: kindChoice,
+		Choices: synth.SeriesNames, Default: "E96", Group: groupCircuit},
+	{Name: "capacitor_series", Path: []string{"capacitor_series"}, Label: "Capacitor series", Noun: "the capacitor series", Kind: kindChoice,
+		Choices: synth.SeriesNames, Default: "E12", Group: groupCircuit},
+	{Name: "values", Path: []string{"values"}, Label: "Part values", Noun: "the part values", Kind: kindChoice,
+		Choices: synth.ValueModes, Default: "series", Hint: "exact: unrounded, for checking the synthesis", Group: groupCircuit},
+	{Name: "resistor_range_ohm", Path: []string{"resistor_range_ohm"}, Label: "Resistor window (Ω)", Noun: "the resistor window", Kind: kindPair,
+		Placeholder: "1k,220k", Hint: "lo,hi: every resistor within it; at least a decade wide", Group: groupCircuit},
+	{Name: "capacitor_range_farad", Path: []string{"capacitor_range_farad"}, Label: "Capacitor window (F)", Noun: "the capacitor window", Kind: kindPair,
+		Placeholder: "100p,1u", Hint: "lo,hi: every capacitor within it; at least a decade wide", Group: groupCircuit},
+	{Name: "opamp_gbw_hz", Path: []string{"opamp", "gbw_hz"}, Label: "Gain-bandwidth product (Hz)", Noun: "the gain-bandwidth product", Kind: kindNumber,
+		Placeholder: "10e6", Hint: "1 kHz to 100 GHz", Group: groupOpAmp},
+	{Name: "opamp_dc_gain_db", Path: []string{"opamp", "dc_gain_db"}, Label: "Open-loop gain at DC (dB)", Noun: "the open-loop gain", Kind: kindNumber,
+		Placeholder: "100", Hint: "20 to 200 dB", Group: groupOpAmp},
+	{Name: "opamp_ideal", Path: []string{"opamp", "ideal"}, Label: "Ideal op-amp", Noun: "the ideal op-amp", Kind: kindBool,
+		Hint: "infinite gain and bandwidth; leave the two fields above empty when ticked", Group: groupOpAmp},
+}
+
+// The converter helper's parameters: not part of the spec, carried along so
+// that the form keeps them.
+const (
+	paramRate = "adc_rate_hz"
+	paramBits = "adc_bits"
+	paramBand = "adc_band_hz"
+	paramFill = "fill" // the helper's submit button
+)
+
+var helperFields = []field{
+	{Name: paramRate, Label: "Sample rate (Hz)", Noun: "the sample rate", Kind: kindNumber, Placeholder: "e.g. 200000", Group: groupHelper},
+	{Name: paramBits, Label: "Resolution (bits)", Noun: "the resolution", Kind: kindNumber, Placeholder: "e.g. 18", Group: groupHelper},
+	{Name: paramBand, Label: "Signal bandwidth (Hz)", Noun: "the signal bandwidth", Kind: kindNumber, Placeholder: "e.g. 20000", Group: groupHelper},
+}
+
+// allFields are the spec's fields followed by the helper's.
+var allFields = slices.Concat(specFields, helperFields)
+
+func lookupField(name string) (field, bool) {
+	for _, f := range allFields {
+		if f.Name == name {
+			return f, true
+		}
+	}
+	return field{}, false
+}
+
+// fieldByJSON returns the form field of a spec field named as
+// synth.FieldError names it ("opamp.gbw_hz").
+func fieldByJSON(name string) (field, bool) {
+	for _, f := range specFields {
+		if f.jsonName() == name {
+			return f, true
+		}
+	}
+	return field{}, false
+}
+
+// formValues are the form's controls as typed, by name.
+type formValues map[string]string
+
+// readQuery checks q and returns the values of the known parameters. An
+// unknown or repeated parameter is a *synth.FieldError naming it (extra
+// names the parameters that are tolerated without being fields, such as
+// the helper's button).
+func readQuery(q url.Values, extra ...string) (formValues, error) {
+	var unknown []string
+	vals := formValues{}
+	for name, vs := range q {
+		if _, ok := lookupField(name); !ok && !slices.Contains(extra, name) {
+			unknown = append(unknown, name)
+			continue
+		}
+		if len(vs) > 1 {
+			return vals, &synth.FieldError{Field: name, Reason: fmt.Sprintf("is given %d times; give it once", len(vs))}
+		}
+		vals[name] = vs[0]
+	}
+	if len(unknown) > 0 {
+		slices.Sort(unknown)
+		quoted := make([]string, len(unknown))
+		for i, u := range unknown {
+			quoted[i] = strconv.Quote(clip(u))
+		}
+		noun := "parameter"
+		if len(unknown) > 1 {
+			noun = "parameters"
+		}
+		names := make([]string, len(specFields))
+		for i, f := range specFields {
+			names[i] = f.Name
+		}
+		return vals, &synth.FieldError{Field: unknown[0], Reason: fmt.Sprintf("unknown %s %s in the address (the spec's parameters are %s)",
+			noun, strings.Join(quoted, ", "), strings.Join(names, ", "))}
+	}
+	return vals, nil
+}
+
+// clip shortens s for an error message.
+func clip(s string) string {
+	if r := []rune(s); len(r) > 40 {
+		return string(r[:40]) + "…"
+	}
+	return s
+}
+
+// specJSON builds the spec JSON object of vals: empty values are absent,
+// numbers become JSON numbers, band edges a number or an array. Text that
+// is not a number is a *synth.FieldError naming the field; everything else
+// is left to synth.ParseSpecBytes.
+func specJSON(vals formValues) ([]byte, error) {
+	obj := map[string]any{}
+	for _, f := range specFields {
+		text := strings.TrimSpace(vals[f.Name])
+		if text == "" {
+			continue
+		}
+		var v any
+		switch f.Kind {
+		case kindNumber, kindInteger:
+			n, err := number(f, text)
+			if err != nil {
+				return nil, err
+			}
+			v = n
+		case kindBand, kindPair:
+			parts := strings.Split(text, ",")
+			edges := make([]any, len(parts))
+			for i, p := range parts {
+				p = strings.TrimSpace(p)
+				if p == "" {
+					return nil, &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("has an empty edge in %q; give one number, or lo,hi for a band", clip(text))}
+				}
+				n, err := number(f, p)
+				if err != nil {
+					return nil, err
+				}
+				edges[i] = n
+			}
+			if len(edges) == 1 && f.Kind == kindBand {
+				v = edges[0]
+			} else {
+				v = edges
+			}
+		case kindBool:
+			switch strings.ToLower(text) {
+			case "1", "true", "on", "yes":
+				v = true
+			case "0", "false", "off", "no":
+				v = false
+			default:
+				return nil, &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("must be 1 (ticked) or 0 (got %q)", clip(text))}
+			}
+		case kindChoice:
+			v = text
+		}
+		put(obj, f.Path, v)
+	}
+	return json.Marshal(obj)
+}
+
+// suffixes are the metric prefixes a number may end in on the form
+// ("4.7k", "100n"), as powers of ten. "u" stands for µ.
+var suffixes = map[string]string{
+	"f": "e-15", "p": "e-12", "n": "e-9", "u": "e-6", "µ": "e-6", "m": "e-3",
+	"k": "e3", "M": "e6", "G": "e9",
+}
+
+// number parses one number of field f as a JSON number. A metric prefix
+// may follow the number ("4.7k" is 4700, "100n" is 1e-07); it is applied
+// as a decimal exponent, so the value is rounded once, as typed.
+func number(f field, text string) (json.Number, error) {
+	num := text
+	for suffix, exp := range suffixes {
+		if rest, ok := strings.CutSuffix(text, suffix); ok && rest != "" && !strings.ContainsAny(rest, "eE") {
+			num = strings.TrimSpace(rest) + exp
+			break
+		}
+	}
+	x, err := strconv.ParseFloat(num, 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return "", &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("must be a number such as 2000, 2e3 or 2k (got %q)", clip(text))}
+	}
+	return json.Number(strconv.FormatFloat(x, 'g', -1, 64)), nil
+}
+
+// put sets obj[path...] = v, making the nested objects on the way.
+func put(obj map[string]any, path []string, v any) {
+	for _, p := range path[:len(path)-1] {
+		next, ok := obj[p].(map[string]any)
+		if !ok {
+			next = map[string]any{}
+			obj[p] = next
+		}
+		obj = next
+	}
+	obj[path[len(path)-1]] = v
+}
+
+// parseQuery reads the spec of a result page's query: the form values as
+// typed and the validated spec. The error, if any, is a *synth.FieldError.
+func parseQuery(q url.Values) (formValues, synth.Spec, error) {
+	vals, err := readQuery(q, paramFill)
+	if err != nil {
+		return vals, synth.Spec{}, err
+	}
+	data, err := specJSON(vals)
+	if err != nil {
+		return vals, synth.Spec{}, err
+	}
+	spec, err := synth.ParseSpecBytes(data)
+	return vals, spec, err
+}
+
+// canonicalQuery encodes the non-empty values of vals in the order of the
+// form: the query of the page's permalink and download links. The
+// helper's button is dropped; its other fields are kept so the form keeps
+// them.
+func canonicalQuery(vals formValues) string {
+	var b strings.Builder
+	for _, f := range allFields {
+		v := strings.TrimSpace(vals[f.Name])
+		if v == "" {
+			continue
+		}
+		if b.Len() > 0 {
+			b.WriteByte('&')
+		}
+		b.WriteString(url.QueryEscape(f.Name))
+		b.WriteByte('=')
+		// Commas are kept readable in band edges: passband_hz=18000,22000.
+		b.WriteString(strings.ReplaceAll(url.QueryEscape(v), "%2C", ","))
+	}
+	return b.String()
+}
+
+// specWord matches the spec's JSON field names inside a reason text.
+var specWord = regexp.MustCompile(`\b(?:opamp\.)?[a-z][a-z0-9]*(?:_[a-z0-9]+)+\b`)
+
+// practitionerReason rewrites the JSON field names in a synth reason as
+// the nouns of the form ("must be above the passband edge for a lowpass").
+func practitionerReason(reason string) string {
+	return specWord.ReplaceAllStringFunc(reason, func(w string) string {
+		if f, ok := fieldByJSON(w); ok {
+			return f.Noun
+		}
+		switch w {
+		case "gbw_hz": // as in "an ideal op-amp takes no gbw_hz or dc_gain_db"
+			return "gain-bandwidth product"
+		case "dc_gain_db":
+			return "open-loop gain"
+		}
+		return w
+	})
+}

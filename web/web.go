@@ -1,0 +1,145 @@
+package web
+
+import (
+	"io"
+	"log/slog"
+	"net/http"
+	"runtime"
+	"time"
+
+	"github.com/go-chi/chi/v5"
+	"github.com/go-chi/chi/v5/middleware"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/web/export"
+	"github.com/polewright/polewright/web/static"
+)
+
+// MaxBodyBytes is the largest request body accepted (64 KiB); a larger one
+// is answered 413.
+const MaxBodyBytes = 64 << 10
+
+// Limits of the design routes, which spend CPU on every request.
+const (
+	// DesignTimeout is the deadline of one design request: synthesis,
+	// plots and rendering.
+	DesignTimeout = 10 * time.Second
+	// BacklogTimeout is how long a request may wait for a free worker
+	// before it is answered 503.
+	BacklogTimeout = 10 * time.Second
+	// Backlog is how many requests may wait for a worker; more are answered
+	// 503 at once.
+	Backlog = 512
+)
+
+// Plots draws a design's plots as SVG documents (an XML prolog, if any, is
+// removed before the SVG is inlined into a page).
+type Plots interface {
+	// Bode writes the magnitude (with the mask) and phase plot.
+	Bode(w io.Writer, d *synth.Design) error
+	// GroupDelay writes the group delay plot.
+	GroupDelay(w io.Writer, d *synth.Design) error
+	// Step writes the step response plot.
+	Step(w io.Writer, d *synth.Design) error
+}
+
+// Schematics draws the circuit of one stage of a chain as an SVG document.
+type Schematics interface {
+	// Stage writes the schematic of ch.Stages[stage-1] (stage is 1-based),
+	// labelled with the chain-wide designators.
+	Stage(w io.Writer, ch circuit.Chain, stage int) error
+}
+
+// ExportFunc writes design d as an export kind, as [export.Write] does.
+type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
+
+// Deps are what the handler draws and exports with. A nil Plots or
+// Schematics leaves plots or schematics out of the result page; a nil
+// Export is [export.Write]. Workers bounds the design requests in
+// progress at once (0: four per CPU).
+type Deps struct {
+	Plots      Plots
+	Schematics Schematics
+	Export     ExportFunc
+	Workers    int
+}
+
+// handler carries the dependencies of the routes.
+type handler struct {
+	log  *slog.Logger
+	deps Deps
+}
+
+// New returns the workbench: the pages, the downloads, the JSON API and
+// the static assets, behind the hardening middleware of the package
+// comment. Requests are logged to log with their request id.
+func New(log *slog.Logger, deps Deps) http.Handler {
+	if log == nil {
+		log = slog.New(slog.DiscardHandler)
+	}
+	if deps.Export == nil {
+		deps.Export = export.Write
+	}
+	if deps.Workers <= 0 {
+		deps.Workers = 4 * runtime.GOMAXPROCS(0)
+	}
+	h := &handler{log: log, deps: deps}
+
+	cop := http.NewCrossOriginProtection()
+	cop.SetDenyHandler(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		h.fail(w, r, http.StatusForbidden, "cross-origin requests that change state are refused", "")
+	}))
+
+	r := chi.NewRouter()
+	r.Use(securityHeaders, middleware.RequestID, h.logRequests, h.recoverPanics, cop.Handler)
+	r.NotFound(func(w http.ResponseWriter, r *http.Request) {
+		h.fail(w, r, http.StatusNotFound, "there is nothing at "+r.URL.Path, "")
+	})
+	r.MethodNotAllowed(func(w http.ResponseWriter, r *http.Request) {
+		h.fail(w, r, http.StatusMethodNotAllowed, r.Method+" is not accepted at "+r.URL.Path, "")
+	})
+
+	heavy := chi.Chain(
+		middleware.ThrottleWithOpts(middleware.ThrottleOpts{
+			Limit:          deps.Workers,
+			BacklogLimit:   Backlog,
+			BacklogTimeout: BacklogTimeout,
+			StatusCode:     http.StatusServiceUnavailable,
+			RetryAfterFn:   func(bool) time.Duration { return time.Second },
+		}),
+		middleware.Timeout(DesignTimeout),
+		middleware.RequestSize(MaxBodyBytes),
+	)
+
+	r.Get("/", h.home)
+	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
+		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
+		_, _ = io.WriteString(w, "ok\n")
+	})
+	r.Handle(static.Prefix+"*", static.Handler())
+	r.With(heavy...).Get("/design", h.design)
+	r.With(heavy...).Get("/download/{kind}", h.download)
+	r.Route("/api", func(r chi.Router) {
+		r.With(heavy...).Post("/v1/design", h.apiDesign)
+		r.With(heavy...).Post("/v1/export", h.apiExport)
+	})
+	return r
+}
+
+// securityHeaders sets the headers every response carries. Inline style
+// attributes are allowed because the SVG drawings use them; no inline
+// script or style element is.
+func securityHeaders(next http.Handler) http.Handler {
+	const csp = "default-src 'self'; script-src 'self'; style-src 'self'; style-src-attr 'unsafe-inline'; " +
+		"img-src 'self' data:; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		hd := w.Header()
+		hd.Set("Content-Security-Policy", csp)
+		hd.Set("X-Content-Type-Options", "nosniff")
+		hd.Set("Referrer-Policy", "no-referrer")
+		hd.Set("X-Frame-Options", "DENY")
+		hd.Set("Cross-Origin-Opener-Policy", "same-origin")
+		next.ServeHTTP(w, r)
+	})
+}
