@@ -314,15 +314,16 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	// The programme is exact on its grid; between grid points the true
 	// peaks may differ by a hair, so keep ascending Q (the tie-break) when
 	// its refined worst peak is no higher.
-	if asc := section.AscendingQ(secs); !slices.Equal(asc, perm) &&
-		section.WorstRefinedDB(secs, asc, orderGrid) <= section.WorstRefinedDB(secs, perm, orderGrid)+1e-9 {
-		perm = asc
+	ordered := permute(secs, perm)
+	nodePeaks := section.NodePeaks(ordered, orderGrid)
+	if asc := section.AscendingQ(secs); !slices.Equal(asc, perm) {
+		ascOrdered := permute(secs, asc)
+		ascPeaks := section.NodePeaks(ascOrdered, orderGrid)
+		if slices.Max(ascPeaks) <= slices.Max(nodePeaks)*(1+1e-10) {
+			ordered, nodePeaks = ascOrdered, ascPeaks
+		}
 	}
-	ordered := make([]section.Section, len(perm))
-	for i, k := range perm {
-		ordered[i] = secs[k]
-	}
-	peaks, err := section.Distribute(ordered, h.Gain, gain, orderGrid)
+	peaks, err := section.DistributePeaks(ordered, h.Gain, gain, nodePeaks)
 	if err != nil {
 		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
@@ -506,4 +507,13 @@ func floorDB(v []float64) []float64 {
 		}
 	}
 	return v
+}
+
+// permute returns secs in the order of the indices in perm.
+func permute(secs []section.Section, perm []int) []section.Section {
+	out := make([]section.Section, len(perm))
+	for i, k := range perm {
+		out[i] = secs[k]
+	}
+	return out
 }

@@ -10,7 +10,7 @@ import (
 
 // maskPoints is the number of log-spaced points per band region on which
 // the mask is checked before each local extremum is refined.
-const maskPoints = 200
+const maskPoints = 120
 
 // maskDecades is how far beyond its edge an open band (the passband of a
 // lowpass, say) is checked, in decades.

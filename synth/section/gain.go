@@ -26,6 +26,16 @@ func Cascade(secs []Section) zpk.ZPK {
 // [NodePeaks] on gridHz, and returns each stage's output peak in dB
 // relative to passbandMax. The last entry is 0 dB up to rounding.
 func Distribute(secs []Section, chainGain, passbandMax float64, gridHz []float64) ([]float64, error) {
+	return DistributePeaks(secs, chainGain, passbandMax, NodePeaks(secs, gridHz))
+}
+
+// DistributePeaks is [Distribute] with the node peaks of the normalised
+// sections already found (by [NodePeaks], in the same order); it panics if
+// len(peaks) != len(secs).
+func DistributePeaks(secs []Section, chainGain, passbandMax float64, peaks []float64) ([]float64, error) {
+	if len(peaks) != len(secs) {
+		panic("section: DistributePeaks needs one peak per section")
+	}
 	if !(chainGain > 0) || !(passbandMax > 0) || math.IsInf(chainGain, 0) || math.IsInf(passbandMax, 0) {
 		return nil, fmt.Errorf("section: Distribute needs positive finite gains (got %g, %g)", chainGain, passbandMax)
 	}
@@ -35,7 +45,6 @@ func Distribute(secs []Section, chainGain, passbandMax float64, gridHz []float64
 		norm *= s.Gain
 	}
 	a := chainGain / norm
-	peaks := NodePeaks(secs, gridHz) // linear peaks of the normalised partial products
 	out := make([]float64, n)
 	prev := 1.0
 	for j := range secs {

@@ -4,7 +4,7 @@
 # Needs Debian's python3-scipy under /usr/bin/python3.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
-echo "== polewright (go test -bench BenchmarkSynthesize ./synth)"
-go test -run XXX -bench 'BenchmarkSynthesize$' -benchmem -count 5 ./synth | grep -E '^Benchmark' | sort
+echo "== polewright (go test -bench BenchmarkSynthesizeIdeal ./synth)"
+go test -run XXX -bench 'BenchmarkSynthesizeIdeal$' -benchmem -count 5 ./synth | grep -E '^Benchmark' | sort
 echo "== scipy"
 /usr/bin/python3 testdata/scipy/bench_scipy.py
