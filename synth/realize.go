@@ -195,11 +195,15 @@ func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model) erro
 		r.QErrorPct, r.OpAmpQErrorPct = &qe, &qo
 	}
 	sec.Realized = r
-	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order)
 	worst := math.Abs(r.OpAmpF0ErrorPct)
 	if r.OpAmpQErrorPct != nil {
 		worst = math.Max(worst, math.Abs(*r.OpAmpQErrorPct))
 	}
+	start := 0.0 // where the search for the op-amp need starts
+	if !model.Ideal && worst > 0 {
+		start = model.GBWHz * worst / opAmpNeedPct // errors fall as 1/GBW
+	}
+	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start)
 	if !model.Ideal && worst > OpAmpErrorFlagPct {
 		need := "no gain-bandwidth up to 1 THz keeps it within 1 %"
 		if g := sec.OpAmpNeeds.GBWHz; g != nil {
@@ -224,10 +228,11 @@ func pctText(p *float64) string {
 // opAmpNeeds finds the least gain-bandwidth that keeps the op-amp's own
 // effect on the stage's f0 and Q within opAmpNeedPct, with the spec's DC
 // gain (100 dB for an ideal spec). Well above the stage's f0 the errors
-// fall as 1/GBW, so a log-log secant from the rule-of-thumb estimate
-// reaches the answer in a few evaluations; the result is then checked and
-// nudged up until it holds.
-func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int) *OpAmpNeeds {
+// fall as 1/GBW, so a secant step on that law from start (the estimate from
+// the spec's op-amp, or the rule of thumb when start is 0) reaches the
+// answer in a few evaluations; the result is then checked and nudged up
+// until it holds.
+func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int, start float64) *OpAmpNeeds {
 	dc := model.DCGainDB
 	if model.Ideal {
 		dc = 100
@@ -254,19 +259,25 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int)
 	}
 	const maxGBWHz = 1e12
 	g := rule
+	if start > f0 && start < maxGBWHz {
+		g = start
+	}
 	e := worst(g)
 	for range 6 {
 		if math.IsInf(e, 0) || e == 0 {
 			break
 		}
 		next := math.Min(maxGBWHz, math.Max(f0, g*e/opAmpNeedPct))
-		if math.Abs(next/g-1) < 0.01 {
-			g = next
+		converged := math.Abs(next/g-1) < 0.01
+		g, e = next, worst(next)
+		if converged {
 			break
 		}
-		g, e = next, worst(next)
 	}
-	for range 40 {
+	for k := range 40 {
+		if k == 0 && e <= opAmpNeedPct && !math.IsInf(e, 0) {
+			return &OpAmpNeeds{GBWHz: &g, RuleOfThumbGBWHz: rule} // the last secant step already holds
+		}
 		if worst(g) <= opAmpNeedPct {
 			return &OpAmpNeeds{GBWHz: &g, RuleOfThumbGBWHz: rule}
 		}
