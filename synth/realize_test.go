@@ -1,0 +1,85 @@
+package synth_test
+
+import (
+	"math"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// opAmpErrorPct returns the larger of the f0 and Q errors that a single-
+// pole op-amp of gbwHz causes in stage st, against ideal op-amps.
+func opAmpErrorPct(t *testing.T, st circuit.Stage, gbwHz, dcGainDB float64, order int) float64 {
+	t.Helper()
+	ideal, err := st.TransferFunction(circuit.Model{Ideal: true})
+	require.NoError(t, err)
+	built, err := st.TransferFunction(circuit.Model{GBWHz: gbwHz, DCGainDB: dcGainDB})
+	require.NoError(t, err)
+	f0i, qi, ok := ideal.DominantPair()
+	require.True(t, ok)
+	f0, q, ok := built.DominantPair()
+	require.True(t, ok)
+	e := math.Abs(f0/f0i-1) * 100
+	if order == 2 {
+		e = math.Max(e, math.Abs(q/qi-1)*100)
+	}
+	return e
+}
+
+// TestOpAmpNeeds checks each stage's reported gain-bandwidth need against
+// the circuit model directly: at the need the op-amp moves f0 and Q by at
+// most 1 %, at 85 % of it by more (the need is the least to within the
+// documented 10 %).
+func TestOpAmpNeeds(t *testing.T) {
+	t.Parallel()
+	for _, approx := range []string{"butterworth", "chebyshev1", "elliptic"} {
+		t.Run(approx, func(t *testing.T) {
+			t.Parallel()
+			s := baseSpec(synth.Lowpass, approx)
+			s.Order, s.PassbandHz, s.StopbandAttenDB = 6, []float64{10e3}, 60
+			d := synthesize(t, s)
+			ch, err := d.Chain()
+			require.NoError(t, err)
+			for i, sec := range d.Sections {
+				require.NotNil(t, sec.OpAmpNeeds.GBWHz, "section %d", i)
+				need := *sec.OpAmpNeeds.GBWHz
+				require.LessOrEqual(t, opAmpErrorPct(t, ch.Stages[i], need, s.OpAmp.DCGainDB, sec.Order), 1.0+1e-9, "section %d", i)
+				require.Greater(t, opAmpErrorPct(t, ch.Stages[i], 0.85*need, s.OpAmp.DCGainDB, sec.Order), 1.0, "section %d", i)
+				// The common-practice estimate 100·Q·f0 (50·f0 first order) is shown beside it.
+				want := 50 * sec.Realized.F0Hz
+				if sec.Q != nil {
+					want = 100 * *sec.Q * sec.F0Hz
+				}
+				require.InEpsilon(t, want, sec.OpAmpNeeds.RuleOfThumbGBWHz, 0.02)
+			}
+		})
+	}
+}
+
+// TestSlowOpAmpIsFlagged: a 10 kHz Chebyshev I with 200 kHz op-amps; its
+// high-Q stage moves by several per cent, which must be flagged (issue 3:
+// a stage whose op-amp errors exceed 2 %).
+func TestSlowOpAmpIsFlagged(t *testing.T) {
+	t.Parallel()
+	s := baseSpec(synth.Lowpass, "chebyshev1")
+	s.Order, s.PassbandHz = 6, []float64{10e3}
+	s.OpAmp = synth.OpAmp{GBWHz: 200e3, DCGainDB: 100}
+	d := synthesize(t, s)
+	flagged := 0
+	for _, sec := range d.Sections {
+		e := math.Abs(sec.Realized.OpAmpF0ErrorPct)
+		if sec.Realized.OpAmpQErrorPct != nil {
+			e = math.Max(e, math.Abs(*sec.Realized.OpAmpQErrorPct))
+		}
+		if e > synth.OpAmpErrorFlagPct {
+			require.NotEmpty(t, sec.Warnings)
+			flagged++
+		} else {
+			require.Empty(t, sec.Warnings)
+		}
+	}
+	require.Positive(t, flagged)
+}
