@@ -80,7 +80,7 @@ func (d *Design) checkMask() {
 			slices.Sort(cuts)
 			for i := 1; i < len(cuts); i++ {
 				inv := func(x float64) float64 { return 1 / loss(math.Exp(x)) }
-				least = math.Min(least, 1/golden(inv, math.Log(cuts[i-1]), math.Log(cuts[i])))
+				least = math.Min(least, 1/response.GoldenMax(inv, math.Log(cuts[i-1]), math.Log(cuts[i])))
 			}
 		}
 		m := 10*math.Log10(least) - s.StopbandAttenDB
@@ -121,36 +121,11 @@ func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
 		// extremum, so those more than 0.05 dB (a factor 0.9886 in power)
 		// from the best are skipped.
 		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top*0.9886 {
-			best = math.Max(best, golden(g, xs[i-1], xs[i+1]))
+			best = math.Max(best, response.GoldenMax(g, xs[i-1], xs[i+1]))
 		}
 	}
 	if !max {
 		return 1 / best
-	}
-	return best
-}
-
-// golden maximises g on [a, b] by golden-section search and returns the
-// largest value it saw.
-func golden(g func(float64) float64, a, b float64) float64 {
-	const r = 0.6180339887498949
-	c, d := b-r*(b-a), a+r*(b-a)
-	gc, gd := g(c), g(d)
-	best := math.Max(gc, gd)
-	for range 40 {
-		if gc >= gd {
-			b, d, gd = d, c, gc
-			c = b - r*(b-a)
-			gc = g(c)
-		} else {
-			a, c, gc = c, d, gd
-			d = a + r*(b-a)
-			gd = g(d)
-		}
-		best = math.Max(best, math.Max(gc, gd))
-		if b-a < 1e-13 {
-			break
-		}
 	}
 	return best
 }

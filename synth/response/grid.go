@@ -251,3 +251,27 @@ func brentMin(f func(float64) float64, a, b float64) (xmin, fmin float64) {
 	}
 	return x, fx
 }
+
+// GoldenMax maximises f on [a, b] by 40 steps of golden-section search
+// (the bracket shrinks to 0.618^40 ≈ 4e-9 of its width) and returns the
+// largest value it saw. f should be unimodal on [a, b]; otherwise the
+// result is a local maximum, or the best point sampled.
+func GoldenMax(f func(float64) float64, a, b float64) float64 {
+	const r = 0.6180339887498949
+	c, d := b-r*(b-a), a+r*(b-a)
+	fc, fd := f(c), f(d)
+	best := math.Max(fc, fd)
+	for range 40 {
+		if fc >= fd {
+			b, d, fd = d, c, fc
+			c = b - r*(b-a)
+			fc = f(c)
+		} else {
+			a, c, fc = c, d, fd
+			d = a + r*(b-a)
+			fd = f(d)
+		}
+		best = math.Max(best, math.Max(fc, fd))
+	}
+	return best
+}

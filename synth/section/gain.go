@@ -108,7 +108,7 @@ func NodePeaks(secs []Section, gridHz []float64) []float64 {
 		peak := best
 		for g := 1; g+1 < len(acc); g++ {
 			if acc[g] >= acc[g-1] && acc[g] >= acc[g+1] && acc[g] >= best*0.9977 { // 0.01 dB
-				peak = math.Max(peak, goldenMax(f, math.Log(gridHz[g-1]), math.Log(gridHz[g+1])))
+				peak = math.Max(peak, response.GoldenMax(f, math.Log(gridHz[g-1]), math.Log(gridHz[g+1])))
 			}
 		}
 		h := Cascade(prefix)
@@ -119,26 +119,4 @@ func NodePeaks(secs []Section, gridHz []float64) []float64 {
 		out[j] = math.Sqrt(peak)
 	}
 	return out
-}
-
-// goldenMax maximises f on [a, b] by golden-section search and returns the
-// largest value it saw.
-func goldenMax(f func(float64) float64, a, b float64) float64 {
-	const r = 0.6180339887498949
-	c, d := b-r*(b-a), a+r*(b-a)
-	fc, fd := f(c), f(d)
-	best := math.Max(fc, fd)
-	for range 40 {
-		if fc >= fd {
-			b, d, fd = d, c, fc
-			c = b - r*(b-a)
-			fc = f(c)
-		} else {
-			a, c, fc = c, d, fd
-			d = a + r*(b-a)
-			fd = f(d)
-		}
-		best = math.Max(best, math.Max(fc, fd))
-	}
-	return best
 }
