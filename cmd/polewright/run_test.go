@@ -69,6 +69,10 @@ func TestBadSpecs(t *testing.T) {
 		{"order 21", `{"passband_hz": 1000, "order": 21}`, "order"},
 		// Butterworth needs order 25 here: log10((10^8−1)/(10^0.1−1))/(2·log10(1.5)) = 24.4 (Amax 1 dB).
 		{"needs order above 20", `{"passband_hz": 1000, "stopband_hz": 1500, "stopband_atten_db": 80}`, "stopband_hz"},
+		// 0.06 Hz needs more than 220 kΩ with 1 µF: outside the default part windows.
+		{"unbuildable section", `{"passband_hz": 0.05, "stopband_hz": 0.5}`, "topology"},
+		{"impossible window", `{"passband_hz": 1000, "order": 2, "capacitor_range_farad": [1e-9, 2e-9]}`, "capacitor_range_farad"},
+		{"unknown series", `{"passband_hz": 1000, "order": 2, "resistor_series": "E97"}`, "resistor_series"},
 		{"oversized", `{"passband_hz": 1000, "order": 2` + strings.Repeat(" ", 1<<20) + `}`, "json"},
 	}
 	for _, tc := range tests {
