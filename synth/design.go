@@ -189,6 +189,11 @@ type MaskReport struct {
 	// PassbandMarginDB is Amax minus the largest loss found in the
 	// passband; negative when the passband fails.
 	PassbandMarginDB float64 `json:"passband_margin_db"`
+	// PassbandMet and StopbandMet say whether each band meets the mask,
+	// with MaskToleranceDB of slack for rounding (StopbandMet is true
+	// without a stopband).
+	PassbandMet bool `json:"passband_met"`
+	StopbandMet bool `json:"stopband_met"`
 	// StopbandMarginDB is the least loss found in the stopband minus Amin;
 	// nil when the spec gives no stopband.
 	StopbandMarginDB *float64 `json:"stopband_margin_db"`
@@ -204,9 +209,9 @@ type MaskReport struct {
 	NormalizedStopband *float64 `json:"normalized_stopband"`
 }
 
-// maskTolDB is the slack allowed when checking the mask, so that a design
-// that meets an edge exactly is not failed by rounding.
-const maskTolDB = 1e-6
+// MaskToleranceDB is the slack allowed when checking the mask, so that a
+// design that meets an edge exactly is not failed by rounding.
+const MaskToleranceDB = 1e-6
 
 // Synthesize designs the filter that s asks for, circuits included: it is
 // [SynthesizeIdeal] followed by the mapping of every section onto a stage

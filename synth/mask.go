@@ -59,7 +59,8 @@ func (d *Design) checkMask() {
 		worstPass = math.Max(worstPass, extremum(loss, r[0], r[1], true))
 	}
 	d.Mask.PassbandMarginDB = s.PassbandRippleDB - 10*math.Log10(worstPass)
-	d.MeetsMask = d.Mask.PassbandMarginDB >= -maskTolDB
+	d.Mask.PassbandMet = d.Mask.PassbandMarginDB >= -MaskToleranceDB
+	d.Mask.StopbandMet = true
 	if len(stop) > 0 {
 		var zerosHz []float64 // the loss is unimodal between transmission zeros
 		for _, sec := range secs {
@@ -88,8 +89,9 @@ func (d *Design) checkMask() {
 			m = math.MaxFloat64
 		}
 		d.Mask.StopbandMarginDB = &m
-		d.MeetsMask = d.MeetsMask && m >= -maskTolDB
+		d.Mask.StopbandMet = m >= -MaskToleranceDB
 	}
+	d.MeetsMask = d.Mask.PassbandMet && d.Mask.StopbandMet
 }
 
 // extremum returns the largest (max true) or smallest value of the

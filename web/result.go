@@ -183,10 +183,10 @@ func verdict(d *synth.Design) (bool, string) {
 		return true, "Meets the mask · margins: passband " + db(pass, true) + ", stopband " + db(*stop, true)
 	}
 	var short []string
-	if pass < 0 {
+	if !d.Mask.PassbandMet {
 		short = append(short, "passband by "+db(-pass, false))
 	}
-	if stop != nil && *stop < 0 {
+	if stop != nil && !d.Mask.StopbandMet {
 		short = append(short, "stopband by "+db(-*stop, false))
 	}
 	if len(short) == 0 {
