@@ -71,6 +71,13 @@ type Design struct {
 	MeetsMask bool `json:"meets_mask"`
 	// Mask says how the ideal response sits against the mask.
 	Mask MaskReport `json:"mask"`
+	// MonteCarlo is the tolerance Monte Carlo; nil when the spec asks for
+	// no trials.
+	MonteCarlo *MonteCarloReport `json:"montecarlo,omitempty"`
+	// Noise is the output noise of the chain as built.
+	Noise *NoiseReport `json:"noise,omitempty"`
+	// Step is the step response, ideal and as built.
+	Step *StepReport `json:"step,omitempty"`
 
 	tf    zpk.ZPK
 	chain *circuit.Chain
@@ -132,6 +139,12 @@ type Section struct {
 	// Warnings flag what an engineer should look at (an op-amp too slow for
 	// the stage, say).
 	Warnings []string `json:"warnings"`
+	// Sensitivities are the parts' normalised sensitivities of the stage's
+	// f0 and Q, largest first.
+	Sensitivities []Sensitivity `json:"sensitivities"`
+	// RequiredTolerance is the tolerance each part needs for the stage's
+	// f0 within 1 % and Q within 2 % on 99 % of boards (first order).
+	RequiredTolerance []PartTolerance `json:"required_tolerance"`
 
 	sec section.Section
 }
@@ -232,6 +245,9 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 		return nil, fmt.Errorf("synth: as-built response: %w", err)
 	}
 	d.Response.RealizedDB = floorDB(realized)
+	if err := d.verifyDesign(ctx); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 

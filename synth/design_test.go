@@ -44,7 +44,8 @@ func baseSpec(resp synth.Response, approx string) synth.Spec {
 	return synth.Spec{
 		Response: resp, Approximation: approx, PassbandRippleDB: 1, StopbandAttenDB: 40,
 		Topology: "auto", ResistorSeries: "E96", CapacitorSeries: "E12",
-		OpAmp: synth.OpAmp{GBWHz: 10e6, DCGainDB: 100}, Values: "series",
+		OpAmp:  synth.OpAmp{GBWHz: 10e6, DCGainDB: 100, NoiseVPerRtHz: 10e-9, NoiseAPerRtHz: 1e-12, SlewVPerS: 10e6},
+		Values: "series", Tolerance: synth.Tolerance{Distribution: "uniform"}, MonteCarlo: synth.MonteCarlo{Seed: 1},
 		ResistorRangeOhm: [2]float64{1e3, 220e3}, CapacitorRangeFarad: [2]float64{100e-12, 1e-6},
 	}
 }

@@ -83,7 +83,7 @@ func TestDeckAgainstNgspice(t *testing.T) {
 
 			// (a) exact values, ideal op-amps, against the ideal transfer function.
 			s := base
-			s.Values, s.OpAmp = "exact", synth.OpAmp{Ideal: true}
+			s.Values, s.OpAmp.Ideal, s.OpAmp.GBWHz, s.OpAmp.DCGainDB = "exact", true, 0, 0
 			d := synthesize(t, s)
 			freq, v := runDeck(ctx, t, d)
 			h := d.TransferFunction()
@@ -104,7 +104,7 @@ func TestDeckAgainstNgspice(t *testing.T) {
 
 			// (b) series values, a 1 MHz op-amp, against the as-built response.
 			s = base
-			s.OpAmp = synth.OpAmp{GBWHz: 1e6, DCGainDB: 100}
+			s.OpAmp.GBWHz = 1e6
 			d = synthesize(t, s)
 			freq, v = runDeck(ctx, t, d)
 			ch, err := d.Chain()

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"strconv"
 
 	"github.com/polewright/polewright/standards/eseries"
@@ -27,13 +28,19 @@ const inverterOhm = 10e3
 // OpAmpNeeds is what a stage asks of its op-amps.
 type OpAmpNeeds struct {
 	// GBWHz is the least gain-bandwidth product (single-pole model, the
-	// spec's DC gain) that keeps the op-amp's own effect on the stage's f0
-	// and Q within 1 %, found to within about 10 % (the errors it gives lie
+	// spec's DC gain) that keeps the op-amp's own effect on the stage's
+	// f0, Q and gain at f0 within 1 % (the gain matters for a buffer,
+	// whose op-amp adds a pole but moves no other), found to within about 10 % (the errors it gives lie
 	// between 0.9 % and 1 %); nil when no gain-bandwidth up to 1 THz does.
 	GBWHz *float64 `json:"gbw_hz"`
 	// RuleOfThumbGBWHz is the common-practice estimate 100·Q·f0 (50·f0 for
 	// a first-order stage), shown beside GBWHz for comparison.
 	RuleOfThumbGBWHz float64 `json:"rule_of_thumb_gbw_hz"`
+	// SlewVPerS is the slew rate a full-scale sine at the passband edge
+	// needs at this stage's output, 2π·f·Vpeak (common practice), with
+	// the stage's output level from its node peak and the full scale from
+	// the converter (2 Vpp when the spec names none).
+	SlewVPerS float64 `json:"slew_v_per_s"`
 }
 
 // realize maps the ordered sections onto stages, fills each Section's
@@ -227,7 +234,7 @@ func pctText(p *float64) string {
 }
 
 // opAmpNeeds finds the least gain-bandwidth that keeps the op-amp's own
-// effect on the stage's f0 and Q within opAmpNeedPct, with the spec's DC
+// effect on the stage's f0, Q and gain at f0 within opAmpNeedPct, with the spec's DC
 // gain (100 dB for an ideal spec). Well above the stage's f0 the errors
 // fall as 1/GBW, so a secant step on that law from start (the estimate from
 // the spec's op-amp, or the rule of thumb when start is 0) reaches the
@@ -243,6 +250,11 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 		rule = 100 * q * f0
 	}
 	// worst returns the larger of the op-amp's f0 and Q errors, in percent.
+	idealTF, err := st.TransferFunction(circuit.Model{Ideal: true})
+	if err != nil {
+		return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
+	}
+	refGain := cmplx.Abs(idealTF.AtHz(f0))
 	worst := func(gbw float64) float64 {
 		tf, err := st.TransferFunction(circuit.Model{GBWHz: gbw, DCGainDB: dc})
 		if err != nil {
@@ -252,7 +264,7 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 		if !ok {
 			return math.Inf(1)
 		}
-		e := math.Abs(pct(f, f0))
+		e := math.Max(math.Abs(pct(f, f0)), math.Abs(pct(cmplx.Abs(tf.AtHz(f0)), refGain)))
 		if order == 2 {
 			e = math.Max(e, math.Abs(pct(qq, q)))
 		}

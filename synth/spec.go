@@ -49,7 +49,8 @@ const (
 	BesselDefaultRippleDB = 3.0102999566398121
 )
 
-// OpAmp is the amplifier model of a spec: single pole, or ideal.
+// OpAmp is the amplifier model of a spec: single pole, or ideal, with its
+// noise densities and slew rate.
 type OpAmp struct {
 	// GBWHz is the gain-bandwidth product in Hz.
 	GBWHz float64 `json:"gbw_hz"`
@@ -57,7 +58,48 @@ type OpAmp struct {
 	DCGainDB float64 `json:"dc_gain_db"`
 	// Ideal selects an ideal amplifier: infinite gain and bandwidth.
 	Ideal bool `json:"ideal"`
+	// NoiseVPerRtHz and NoiseAPerRtHz are the white input voltage and
+	// current noise densities.
+	NoiseVPerRtHz float64 `json:"noise_v_per_rthz"`
+	NoiseAPerRtHz float64 `json:"noise_a_per_rthz"`
+	// SlewVPerS is the slew rate.
+	SlewVPerS float64 `json:"slew_v_per_s"`
 }
+
+// Tolerance is the spread of part values the Monte Carlo draws from.
+type Tolerance struct {
+	// ResistorPct and CapacitorPct are the tolerances in percent; 0 in
+	// the spec JSON (absent) means the resistor series' usual tolerance
+	// and 5 % for capacitors.
+	ResistorPct  float64 `json:"resistor_pct"`
+	CapacitorPct float64 `json:"capacitor_pct"`
+	// Distribution is "uniform" or "gaussian" (the tolerance taken as 3σ).
+	Distribution string `json:"distribution"`
+}
+
+// MonteCarlo asks for a tolerance Monte Carlo: Trials draws (0: none),
+// repeatable with Seed.
+type MonteCarlo struct {
+	Trials int    `json:"trials"`
+	Seed   uint64 `json:"seed"`
+}
+
+// Converter is the data converter the filter feeds: it sets the noise
+// band (to half the sample rate), the LSB and the settling tolerance.
+type Converter struct {
+	Bits         int     `json:"bits"`
+	SampleRateHz float64 `json:"sample_rate_hz"`
+	FullScaleVpp float64 `json:"full_scale_vpp"`
+}
+
+// Verification limits and defaults.
+const (
+	MaxTrials            = 100000
+	DefaultNoiseVPerRtHz = 10e-9
+	DefaultNoiseAPerRtHz = 1e-12
+	DefaultSlewVPerS     = 10e6
+	DefaultCapacitorPct  = 5
+)
 
 // Spec is a validated filter requirement. Frequencies are in Hz; a lowpass
 // or highpass has one edge in each band slice, a bandpass or bandstop two
@@ -80,6 +122,11 @@ type Spec struct {
 	// are chosen in, [lo, hi].
 	ResistorRangeOhm    [2]float64 `json:"resistor_range_ohm"`
 	CapacitorRangeFarad [2]float64 `json:"capacitor_range_farad"`
+	// Tolerance, MonteCarlo and Converter are the verification options.
+	Tolerance  Tolerance  `json:"tolerance"`
+	MonteCarlo MonteCarlo `json:"montecarlo"`
+	// Converter is nil when the spec names none: no LSB-based figures.
+	Converter *Converter `json:"converter,omitempty"`
 }
 
 // HasStopband reports whether the spec gives stopband edges.
@@ -115,6 +162,7 @@ var (
 	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "auto"}
 	SeriesNames    = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
 	ValueModes     = []string{"series", "exact"}
+	Distributions  = []string{"uniform", "gaussian"}
 )
 
 // rawSpec mirrors the JSON with pointers, so that absent fields get their
@@ -135,12 +183,68 @@ type rawSpec struct {
 	Values           *string          `json:"values"`
 	ResistorRange    *[]float64       `json:"resistor_range_ohm"`
 	CapacitorRange   *[]float64       `json:"capacitor_range_farad"`
+	Tolerance        *json.RawMessage `json:"tolerance"`
+	MonteCarlo       *json.RawMessage `json:"montecarlo"`
+	Converter        *json.RawMessage `json:"converter"`
 }
 
 type rawOpAmp struct {
-	GBWHz    *float64 `json:"gbw_hz"`
-	DCGainDB *float64 `json:"dc_gain_db"`
-	Ideal    *bool    `json:"ideal"`
+	GBWHz         *float64 `json:"gbw_hz"`
+	DCGainDB      *float64 `json:"dc_gain_db"`
+	Ideal         *bool    `json:"ideal"`
+	NoiseVPerRtHz *float64 `json:"noise_v_per_rthz"`
+	NoiseAPerRtHz *float64 `json:"noise_a_per_rthz"`
+	SlewVPerS     *float64 `json:"slew_v_per_s"`
+}
+
+type rawTolerance struct {
+	ResistorPct  *float64 `json:"resistor_pct"`
+	CapacitorPct *float64 `json:"capacitor_pct"`
+	Distribution *string  `json:"distribution"`
+}
+
+type rawMonteCarlo struct {
+	Trials *json.Number `json:"trials"`
+	Seed   *json.Number `json:"seed"`
+}
+
+type rawConverter struct {
+	Bits         *json.Number `json:"bits"`
+	SampleRateHz *float64     `json:"sample_rate_hz"`
+	FullScaleVpp *float64     `json:"full_scale_vpp"`
+}
+
+// decodeObject decodes the nested object msg of field into dst, strictly:
+// unknown fields are errors named "field.name". It reports false for an
+// absent or null object.
+func decodeObject(field string, msg *json.RawMessage, dst any, example, known string) (bool, error) {
+	if msg == nil || bytes.Equal(bytes.TrimSpace(*msg), []byte("null")) {
+		return false, nil
+	}
+	dec := json.NewDecoder(bytes.NewReader(*msg))
+	dec.DisallowUnknownFields()
+	dec.UseNumber()
+	if err := dec.Decode(dst); err != nil {
+		fe, _ := IsFieldError(jsonError(err))
+		if fe.Field == "json" {
+			return false, fieldErr(field, "must be an object such as %s", example)
+		}
+		if strings.Contains(fe.Reason, "unknown field") {
+			fe.Reason = "unknown field (known fields: " + known + ")"
+		}
+		fe.Field = field + "." + strings.TrimPrefix(fe.Field, field+".")
+		return false, fe
+	}
+	return true, nil
+}
+
+// wholeNumber reads a JSON number that must be an integer in [min, max].
+func wholeNumber(field string, n *json.Number, min, max float64) (float64, error) {
+	v, err := strconv.ParseFloat(n.String(), 64)
+	if err != nil || v != math.Trunc(v) || v < min || v > max {
+		return 0, fieldErr(field, "must be a whole number from %.0f to %.0f (got %s)", min, max, n.String())
+	}
+	return v, nil
 }
 
 // ParseSpec reads one spec JSON object from r (at most [MaxSpecBytes]),
@@ -201,7 +305,7 @@ func jsonError(err error) error {
 		if name == "" {
 			name = `""` // an empty key still needs a visible name
 		}
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
@@ -268,10 +372,12 @@ func (raw rawSpec) build() (Spec, error) {
 		Topology:            "auto",
 		ResistorSeries:      "E96",
 		CapacitorSeries:     "E12",
-		OpAmp:               OpAmp{GBWHz: 10e6, DCGainDB: 100},
+		OpAmp:               OpAmp{GBWHz: 10e6, DCGainDB: 100, NoiseVPerRtHz: DefaultNoiseVPerRtHz, NoiseAPerRtHz: DefaultNoiseAPerRtHz, SlewVPerS: DefaultSlewVPerS},
 		Values:              "series",
 		ResistorRangeOhm:    [2]float64{DefaultMinOhm, DefaultMaxOhm},
 		CapacitorRangeFarad: [2]float64{DefaultMinFarad, DefaultMaxFarad},
+		Tolerance:           Tolerance{Distribution: "uniform"},
+		MonteCarlo:          MonteCarlo{Seed: 1},
 	}
 	var err error
 	if raw.Response != nil {
@@ -339,33 +445,78 @@ func (raw rawSpec) build() (Spec, error) {
 			return Spec{}, err
 		}
 	}
-	if raw.OpAmp != nil && !bytes.Equal(bytes.TrimSpace(*raw.OpAmp), []byte("null")) {
-		var o rawOpAmp
-		dec := json.NewDecoder(bytes.NewReader(*raw.OpAmp))
-		dec.DisallowUnknownFields()
-		if err := dec.Decode(&o); err != nil {
-			fe, _ := IsFieldError(jsonError(err))
-			if fe.Field == "json" {
-				return Spec{}, fieldErr("opamp", "must be an object such as {\"gbw_hz\": 10e6, \"dc_gain_db\": 100} or {\"ideal\": true}")
-			}
-			if strings.Contains(fe.Reason, "unknown field") {
-				fe.Reason = "unknown field (known fields: gbw_hz, dc_gain_db, ideal)"
-			}
-			fe.Field = "opamp." + strings.TrimPrefix(fe.Field, "opamp.")
-			return Spec{}, fe
-		}
+	var o rawOpAmp
+	if ok, err := decodeObject("opamp", raw.OpAmp, &o, `{"gbw_hz": 10e6, "dc_gain_db": 100} or {"ideal": true}`,
+		"gbw_hz, dc_gain_db, ideal, noise_v_per_rthz, noise_a_per_rthz, slew_v_per_s"); err != nil {
+		return Spec{}, err
+	} else if ok {
 		if o.Ideal != nil && *o.Ideal {
 			if o.GBWHz != nil || o.DCGainDB != nil {
 				return Spec{}, fieldErr("opamp.ideal", "an ideal op-amp takes no gbw_hz or dc_gain_db; give one or the other")
 			}
-			s.OpAmp = OpAmp{Ideal: true}
+			s.OpAmp.Ideal, s.OpAmp.GBWHz, s.OpAmp.DCGainDB = true, 0, 0
 		}
-		if o.GBWHz != nil {
-			s.OpAmp.GBWHz = *o.GBWHz
+		for _, f := range []struct {
+			in  *float64
+			out *float64
+		}{{o.GBWHz, &s.OpAmp.GBWHz}, {o.DCGainDB, &s.OpAmp.DCGainDB}, {o.NoiseVPerRtHz, &s.OpAmp.NoiseVPerRtHz},
+			{o.NoiseAPerRtHz, &s.OpAmp.NoiseAPerRtHz}, {o.SlewVPerS, &s.OpAmp.SlewVPerS}} {
+			if f.in != nil {
+				*f.out = *f.in
+			}
 		}
-		if o.DCGainDB != nil {
-			s.OpAmp.DCGainDB = *o.DCGainDB
+	}
+	var tol rawTolerance
+	if ok, err := decodeObject("tolerance", raw.Tolerance, &tol, `{"resistor_pct": 1, "capacitor_pct": 5, "distribution": "uniform"}`,
+		"resistor_pct, capacitor_pct, distribution"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if tol.ResistorPct != nil {
+			s.Tolerance.ResistorPct = *tol.ResistorPct
 		}
+		if tol.CapacitorPct != nil {
+			s.Tolerance.CapacitorPct = *tol.CapacitorPct
+		}
+		if tol.Distribution != nil {
+			if s.Tolerance.Distribution, err = oneOf("tolerance.distribution", *tol.Distribution, Distributions); err != nil {
+				return Spec{}, err
+			}
+		}
+	}
+	var mc rawMonteCarlo
+	if ok, err := decodeObject("montecarlo", raw.MonteCarlo, &mc, `{"trials": 1000, "seed": 1}`, "trials, seed"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if mc.Trials != nil {
+			v, err := wholeNumber("montecarlo.trials", mc.Trials, 0, MaxTrials)
+			if err != nil {
+				fe, _ := IsFieldError(err)
+				fe.Reason += fmt.Sprintf("; at most %d trials", MaxTrials)
+				return Spec{}, fe
+			}
+			s.MonteCarlo.Trials = int(v)
+		}
+		if mc.Seed != nil {
+			v, err := wholeNumber("montecarlo.seed", mc.Seed, 0, 1<<53)
+			if err != nil {
+				return Spec{}, err
+			}
+			s.MonteCarlo.Seed = uint64(v)
+		}
+	}
+	var cv rawConverter
+	if ok, err := decodeObject("converter", raw.Converter, &cv, `{"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4}`,
+		"bits, sample_rate_hz, full_scale_vpp"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if cv.Bits == nil || cv.SampleRateHz == nil || cv.FullScaleVpp == nil {
+			return Spec{}, fieldErr("converter", "needs bits, sample_rate_hz and full_scale_vpp")
+		}
+		bits, err := wholeNumber("converter.bits", cv.Bits, 1, 32)
+		if err != nil {
+			return Spec{}, err
+		}
+		s.Converter = &Converter{Bits: int(bits), SampleRateHz: *cv.SampleRateHz, FullScaleVpp: *cv.FullScaleVpp}
 	}
 	if raw.Values != nil {
 		if s.Values, err = oneOf("values", *raw.Values, ValueModes); err != nil {
@@ -453,10 +604,34 @@ func (s Spec) Validate() error {
 	if err := validWindow("capacitor_range_farad", s.CapacitorRangeFarad, MinFaradLimit, MaxFaradLimit, "F"); err != nil {
 		return err
 	}
+	if err := s.validateVerification(); err != nil {
+		return err
+	}
 	return s.OpAmp.validate()
 }
 
 func (o OpAmp) validate() error {
+	for _, f := range []struct {
+		field    string
+		v, max   float64
+		unit     string
+		positive bool
+	}{
+		{"opamp.noise_v_per_rthz", o.NoiseVPerRtHz, 1e-5, "V/√Hz", false},
+		{"opamp.noise_a_per_rthz", o.NoiseAPerRtHz, 1e-6, "A/√Hz", false},
+		{"opamp.slew_v_per_s", o.SlewVPerS, 1e12, "V/s", true},
+	} {
+		if err := finite(f.field, f.v); err != nil {
+			return err
+		}
+		if f.v < 0 || f.v > f.max || (f.positive && f.v == 0) {
+			lo := "0"
+			if f.positive {
+				lo = "above 0"
+			}
+			return fieldErr(f.field, "must be from %s to %g %s (got %g)", lo, f.max, f.unit, f.v)
+		}
+	}
 	if o.Ideal {
 		return nil
 	}
@@ -543,6 +718,45 @@ func validWindow(field string, w [2]float64, min, max float64, unit string) erro
 	}
 	if !(w[1] >= 10*w[0]) {
 		return fieldErr(field, "hi must be at least 10 times lo, a whole decade of values (got [%g, %g])", w[0], w[1])
+	}
+	return nil
+}
+
+func (s Spec) validateVerification() error {
+	t := s.Tolerance
+	for _, f := range []struct {
+		field string
+		v     float64
+	}{{"tolerance.resistor_pct", t.ResistorPct}, {"tolerance.capacitor_pct", t.CapacitorPct}} {
+		if err := finite(f.field, f.v); err != nil {
+			return err
+		}
+		if f.v < 0 || f.v > 50 {
+			return fieldErr(f.field, "must be from 0 to 50 %% (got %g); 0 or absent takes the default", f.v)
+		}
+	}
+	if _, err := oneOf("tolerance.distribution", t.Distribution, Distributions); err != nil {
+		return err
+	}
+	if s.MonteCarlo.Trials < 0 || s.MonteCarlo.Trials > MaxTrials {
+		return fieldErr("montecarlo.trials", "must be from 0 to %d (got %d)", MaxTrials, s.MonteCarlo.Trials)
+	}
+	if c := s.Converter; c != nil {
+		if c.Bits < 1 || c.Bits > 32 {
+			return fieldErr("converter.bits", "must be from 1 to 32 (got %d)", c.Bits)
+		}
+		if err := finite("converter.sample_rate_hz", c.SampleRateHz); err != nil {
+			return err
+		}
+		if c.SampleRateHz < 2*MinFrequencyHz || c.SampleRateHz > 2*MaxFrequencyHz {
+			return fieldErr("converter.sample_rate_hz", "must be from 2 mHz to 200 MHz (got %g)", c.SampleRateHz)
+		}
+		if err := finite("converter.full_scale_vpp", c.FullScaleVpp); err != nil {
+			return err
+		}
+		if c.FullScaleVpp < 1e-3 || c.FullScaleVpp > 100 {
+			return fieldErr("converter.full_scale_vpp", "must be from 1 mV to 100 V peak to peak (got %g)", c.FullScaleVpp)
+		}
 	}
 	return nil
 }

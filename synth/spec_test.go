@@ -25,13 +25,26 @@ func TestParseSpecDefaults(t *testing.T) {
 	require.Equal(t, "auto", s.Topology)
 	require.Equal(t, "E96", s.ResistorSeries)
 	require.Equal(t, "E12", s.CapacitorSeries)
-	require.Equal(t, synth.OpAmp{GBWHz: 10e6, DCGainDB: 100}, s.OpAmp)
+	// The op-amp's noise and slew defaults: INTERFACE.md's verification fields.
+	require.Equal(t, synth.OpAmp{GBWHz: 10e6, DCGainDB: 100, NoiseVPerRtHz: 10e-9, NoiseAPerRtHz: 1e-12, SlewVPerS: 10e6}, s.OpAmp)
+	require.Equal(t, synth.Tolerance{Distribution: "uniform"}, s.Tolerance)
+	require.Equal(t, synth.MonteCarlo{Seed: 1}, s.MonteCarlo)
+	require.Nil(t, s.Converter)
 	require.Equal(t, "series", s.Values)
 
 	// Bessel's default Amax is 10·log10(2) dB, its −3 dB point (INTERFACE.md).
 	b, err := synth.ParseSpecBytes([]byte(`{"approximation": "bessel", "passband_hz": 1000, "order": 4}`))
 	require.NoError(t, err)
 	require.InDelta(t, 3.0102999566398121, b.PassbandRippleDB, 1e-15)
+
+	v, err := synth.ParseSpecBytes([]byte(`{"passband_hz": 1000, "order": 2, "tolerance": {"resistor_pct": 0.1, "distribution": "gaussian"},
+		"montecarlo": {"trials": 500, "seed": 7}, "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4},
+		"opamp": {"ideal": true, "noise_v_per_rthz": 4e-9}}`))
+	require.NoError(t, err)
+	require.Equal(t, synth.Tolerance{ResistorPct: 0.1, Distribution: "gaussian"}, v.Tolerance)
+	require.Equal(t, synth.MonteCarlo{Trials: 500, Seed: 7}, v.MonteCarlo)
+	require.Equal(t, &synth.Converter{Bits: 16, SampleRateHz: 48000, FullScaleVpp: 4}, v.Converter)
+	require.Equal(t, synth.OpAmp{Ideal: true, NoiseVPerRtHz: 4e-9, NoiseAPerRtHz: 1e-12, SlewVPerS: 10e6}, v.OpAmp)
 
 	bp, err := synth.ParseSpecBytes([]byte(`{"response": "bandpass", "passband_hz": [900, 1100], "stopband_hz": [500, 2000],
 		"opamp": {"ideal": true}, "values": "exact", "resistor_series": "e24"}`))
@@ -91,6 +104,15 @@ func TestParseSpecErrors(t *testing.T) {
 		{"dc gain low", `{"passband_hz": 1000, "order": 2, "opamp": {"dc_gain_db": 3}}`, "opamp.dc_gain_db", "20 to 200"},
 		{"opamp unknown", `{"passband_hz": 1000, "order": 2, "opamp": {"slew": 3}}`, "opamp.slew", "unknown field"},
 		{"ideal with gbw", `{"passband_hz": 1000, "order": 2, "opamp": {"ideal": true, "gbw_hz": 1e6}}`, "opamp.ideal", "ideal"},
+		{"tolerance unknown", `{"passband_hz": 1000, "order": 2, "tolerance": {"inductor_pct": 5}}`, "tolerance.inductor_pct", "unknown field"},
+		{"tolerance negative", `{"passband_hz": 1000, "order": 2, "tolerance": {"resistor_pct": -1}}`, "tolerance.resistor_pct", "0 to 50"},
+		{"tolerance distribution", `{"passband_hz": 1000, "order": 2, "tolerance": {"distribution": "triangular"}}`, "tolerance.distribution", "one of"},
+		{"too many trials", `{"passband_hz": 1000, "order": 2, "montecarlo": {"trials": 100001}}`, "montecarlo.trials", "at most 100000"},
+		{"fractional trials", `{"passband_hz": 1000, "order": 2, "montecarlo": {"trials": 2.5}}`, "montecarlo.trials", "whole number"},
+		{"converter incomplete", `{"passband_hz": 1000, "order": 2, "converter": {"bits": 16}}`, "converter", "needs bits"},
+		{"converter bits", `{"passband_hz": 1000, "order": 2, "converter": {"bits": 40, "sample_rate_hz": 48000, "full_scale_vpp": 4}}`, "converter.bits", "1 to 32"},
+		{"opamp noise", `{"passband_hz": 1000, "order": 2, "opamp": {"noise_v_per_rthz": -1e-9}}`, "opamp.noise_v_per_rthz", "from 0"},
+		{"opamp slew", `{"passband_hz": 1000, "order": 2, "opamp": {"slew_v_per_s": 0}}`, "opamp.slew_v_per_s", "above 0"},
 		{"huge number", `{"passband_hz": 1e400, "order": 2}`, "passband_hz", ""},
 		{"resistor window single", `{"passband_hz": 1000, "order": 2, "resistor_range_ohm": [1000]}`, "resistor_range_ohm", "[lo, hi]"},
 		{"resistor window narrow", `{"passband_hz": 1000, "order": 2, "resistor_range_ohm": [1000, 2000]}`, "resistor_range_ohm", "10 times"},

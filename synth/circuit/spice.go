@@ -20,7 +20,26 @@ const (
 	// DefaultDataFile is the file the deck's .control block writes the AC
 	// data to when SpiceOptions.DataFile is empty.
 	DefaultDataFile = "ac.data"
+	// DefaultNoiseDataFile is the file the noise analysis writes when
+	// SpiceNoise.Analysis is set and SpiceNoise.DataFile is empty.
+	DefaultNoiseDataFile = "noise.data"
+	// DefaultTranDataFile is the file the transient analysis writes when
+	// SpiceTransient.DataFile is empty.
+	DefaultTranDataFile = "tran.data"
+	// DefaultNoiseTempK is the temperature of the deck's noise analysis
+	// when SpiceNoise.TempK is 0: 300 K, written as .options temp=26.85
+	// (SPICE takes degrees Celsius).
+	DefaultNoiseTempK = 300
 )
+
+// boltzmann is the Boltzmann constant in J/K (exact in the SI since 2019),
+// the k of the noise helpers' resistances. ngspice 39 uses its own value
+// (CONSTboltz, 1.38064852e-23), which differs by 3.4e-7 relative, far
+// below any tolerance of a noise check.
+const boltzmann = 1.380649e-23
+
+// celsiusZeroK is 0 °C in kelvin, SPICE's offset between temp and T.
+const celsiusZeroK = 273.15
 
 // IdealOpAmpGain is the gain of the VCVS that stands for an ideal op-amp in
 // the SPICE deck (SPICE has no nullor). Its residual error against the
@@ -53,6 +72,52 @@ type SpiceOptions struct {
 	StartHz, StopHz float64
 	// DataFile is the file, relative to ngspice's working directory, that
 	// the .control block writes with wrdata; DefaultDataFile when empty.
+	DataFile string
+	// Noise, when set, gives the op-amp subcircuit noise sources of these
+	// densities, so that a SPICE noise analysis of the deck sees the same
+	// sources as package noise (see [SpiceNoise]).
+	Noise *SpiceNoise
+	// Transient, when set, makes the source a step as well and adds a
+	// transient analysis to the .control block (see [SpiceTransient]).
+	Transient *SpiceTransient
+}
+
+// SpiceNoise describes the op-amp noise of the deck (see
+// [Chain.WriteSPICE]). The densities are white; zero leaves a source out.
+type SpiceNoise struct {
+	// VoltageVPerRtHz is the op-amp's input voltage noise density en, in
+	// series with the non-inverting input, in V/√Hz.
+	VoltageVPerRtHz float64
+	// CurrentAPerRtHz is the op-amp's input current noise density in,
+	// from each input to ground (uncorrelated), in A/√Hz.
+	CurrentAPerRtHz float64
+	// TempK is the circuit temperature in kelvin, which sets both the
+	// resistors' thermal noise and the helpers' resistances;
+	// DefaultNoiseTempK when 0.
+	TempK float64
+	// Analysis adds `noise v(out) vin dec N StartHz StopHz` (the .ac
+	// sweep's points) to the .control block, writing the output noise
+	// density onoise_spectrum (V/√Hz) to DataFile.
+	Analysis bool
+	// DataFile is the noise analysis' data file; DefaultNoiseDataFile when
+	// empty.
+	DataFile string
+}
+
+// SpiceTransient describes the deck's step-response analysis (see
+// [Chain.WriteSPICE]).
+type SpiceTransient struct {
+	// StopS is the end of the analysis in seconds, finite and > 0.
+	StopS float64
+	// StepS is the print step and the largest internal time step of the
+	// simulator (tran's tstep and tmax); StopS/1000 when 0.
+	StepS float64
+	// RiseS is the rise time of the input step, a ramp from 0 V at t = 0
+	// to 1 V at RiseS; StepS/1000 when 0. To first order the ramp delays
+	// the response by RiseS/2, so the response differs from the ideal
+	// step's by at most about RiseS/2 times its largest slope.
+	RiseS float64
+	// DataFile is the analysis' data file; DefaultTranDataFile when empty.
 	DataFile string
 }
 
@@ -120,6 +185,101 @@ func commentLine(s string) string {
 	}, s)
 }
 
+// noiseHelpers resolves the noise option: the temperature in kelvin and
+// the helpers' resistances, 0 for a source that is left out.
+type noiseHelpers struct {
+	tempK    float64
+	rv, ri   float64 // en²/(4kT) and 4kT/in², in Ohm
+	file     string
+	analysis bool
+	en, in   float64
+	fourKT   float64
+}
+
+func resolveNoise(n *SpiceNoise) (*noiseHelpers, error) {
+	if n == nil {
+		return nil, nil
+	}
+	for _, v := range []struct {
+		name string
+		x    float64
+	}{{"VoltageVPerRtHz", n.VoltageVPerRtHz}, {"CurrentAPerRtHz", n.CurrentAPerRtHz}} {
+		if !(v.x >= 0) || math.IsInf(v.x, 1) {
+			return nil, invalidf("spice options: Noise.%s %v is not finite and >= 0", v.name, v.x)
+		}
+	}
+	h := &noiseHelpers{tempK: n.TempK, en: n.VoltageVPerRtHz, in: n.CurrentAPerRtHz, analysis: n.Analysis, file: n.DataFile}
+	if h.tempK == 0 {
+		h.tempK = DefaultNoiseTempK
+	}
+	if !finitePositive(h.tempK) {
+		return nil, invalidf("spice options: Noise.TempK %v is not finite and > 0", n.TempK)
+	}
+	h.fourKT = 4 * boltzmann * h.tempK
+	if h.en > 0 {
+		h.rv = h.en * h.en / h.fourKT
+	}
+	if h.in > 0 {
+		h.ri = h.fourKT / (h.in * h.in)
+	}
+	for _, r := range []float64{h.rv, h.ri} {
+		if r != 0 && !finitePositive(r) {
+			return nil, invalidf("spice options: Noise densities %v V/√Hz, %v A/√Hz give a helper resistance out of range", h.en, h.in)
+		}
+	}
+	if h.file == "" {
+		h.file = DefaultNoiseDataFile
+	}
+	if err := checkDataFile("Noise.DataFile", h.file); err != nil {
+		return nil, err
+	}
+	return h, nil
+}
+
+// tranSpec is the resolved transient option.
+type tranSpec struct {
+	stop, step, rise float64
+	file             string
+}
+
+func resolveTransient(t *SpiceTransient) (*tranSpec, error) {
+	if t == nil {
+		return nil, nil
+	}
+	r := &tranSpec{stop: t.StopS, step: t.StepS, rise: t.RiseS, file: t.DataFile}
+	if !finitePositive(r.stop) {
+		return nil, invalidf("spice options: Transient.StopS %v is not finite and > 0", t.StopS)
+	}
+	if r.step == 0 {
+		r.step = r.stop / 1000
+	}
+	if !finitePositive(r.step) || r.step > r.stop {
+		return nil, invalidf("spice options: Transient.StepS %v is not finite with 0 < StepS <= StopS", t.StepS)
+	}
+	if r.rise == 0 {
+		r.rise = r.step / 1000
+	}
+	if !finitePositive(r.rise) || r.rise >= r.stop {
+		return nil, invalidf("spice options: Transient.RiseS %v is not finite with 0 < RiseS < StopS", t.RiseS)
+	}
+	if r.file == "" {
+		r.file = DefaultTranDataFile
+	}
+	if err := checkDataFile("Transient.DataFile", r.file); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// checkDataFile rejects a data file name that the control block cannot
+// carry.
+func checkDataFile(field, name string) error {
+	if strings.ContainsAny(name, " \t\r\n\"';") {
+		return invalidf("spice options: %s %q holds white space, quotes or ';'", field, name)
+	}
+	return nil
+}
+
 // WriteSPICE writes the chain as a SPICE3 deck that ngspice runs unchanged
 // in batch mode (`ngspice -b deck.cir`):
 //
@@ -141,11 +301,43 @@ func commentLine(s string) string {
 //     wrdata (16 digits) to opt.DataFile, then quits;
 //   - `.end`.
 //
+// With opt.Noise the subcircuit carries the op-amp's noise, as ideal
+// sources that neither load the circuit nor change its response:
+//
+//   - voltage noise en: a resistor Rvn = en²/(4kT) alone between node nvn
+//     and ground, whose open-circuit thermal noise is √(4kT·Rvn) = en, and
+//     a unity VCVS Evn from inp to inpn adding V(nvn) to the input the
+//     amplifier senses (inpn instead of inp); no current flows in Evn,
+//     because the amplifier's input is a controlling port;
+//   - current noise in at each input: a resistor Rin = 4kT/in², shorted by
+//     a 0 V source whose current (the resistor's thermal noise current,
+//     √(4kT/Rin) = in) a unity CCCS copies from the input pin to ground,
+//     one independent pair per input; at DC all carry zero current;
+//   - the single-pole model's A0 Ohm resistor is written with noisy=0 (an
+//     instance parameter of ngspice's resistor), so that the model itself
+//     is noiseless, as in package noise;
+//   - `.options temp=T−273.15` (SPICE takes °C; T = Noise.TempK, the °C
+//     value rounded to 1e-9), the temperature of every resistor's thermal
+//     noise.
+//
+// With Noise.Analysis the .control block then runs `noise v(out) vin dec N
+// StartHz StopHz` over the .ac sweep and writes onoise_spectrum (V/√Hz) to
+// Noise.DataFile, as a complex vector with zero imaginary part, so that
+// spicerun.ReadData reads it.
+//
+// With opt.Transient the source also carries PWL(0 0 RiseS 1), a unit step
+// with a linear rise over RiseS, and the .control block runs `tran StepS
+// StopS 0 StepS` (StepS is also the largest time step) and writes v(out)
+// at the simulator's time points, again as a complex vector with zero
+// imaginary part, to Transient.DataFile. The AC data file is always the
+// first one written; the analyses run in the order ac, noise, tran.
+//
 // Values are written in exponent form with at least 12 significant digits
 // and as many as the exact float64 needs (see the package documentation),
 // with no scale suffixes. The chain is validated first; an
 // invalid chain or option returns an error wrapping [ErrInvalid] and
-// writes nothing.
+// writes nothing. Without Noise and Transient the deck is exactly what it
+// was before they existed.
 func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	if err := c.Validate(); err != nil {
 		return err
@@ -158,8 +350,16 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	if data == "" {
 		data = DefaultDataFile
 	}
-	if strings.ContainsAny(data, " \t\r\n\"';") {
-		return invalidf("spice options: DataFile %q holds white space, quotes or ';'", data)
+	if err := checkDataFile("DataFile", data); err != nil {
+		return err
+	}
+	nz, err := resolveNoise(opt.Noise)
+	if err != nil {
+		return err
+	}
+	tr, err := resolveTransient(opt.Transient)
+	if err != nil {
+		return err
 	}
 	title := opt.Title
 	if title == "" {
@@ -185,7 +385,15 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 			spiceNum(c.Model.a0()), strconv.FormatFloat(c.Model.DCGainDB, 'g', -1, 64))
 		fmt.Fprintf(b, "* GBW = %s Hz.\n", spiceNum(c.Model.GBWHz))
 	}
-	b.WriteString("Vin in 0 DC 0 AC 1\n")
+	if nz != nil {
+		fmt.Fprintf(b, "* Op-amp noise: en = %s V/rtHz at the + input, in = %s A/rtHz at each\n", spiceNum(nz.en), spiceNum(nz.in))
+		fmt.Fprintf(b, "* input, from the thermal noise of helper resistors; T = %s K.\n", spiceNum(nz.tempK))
+	}
+	if tr != nil {
+		fmt.Fprintf(b, "Vin in 0 DC 0 AC 1 PWL(0 0 %s 1)\n", spiceNum(tr.rise))
+	} else {
+		b.WriteString("Vin in 0 DC 0 AC 1\n")
+	}
 	for k, st := range c.Stages {
 		stage := k + 1
 		fmt.Fprintf(b, "* stage %d: %s\n", stage, commentLine(st.Topology))
@@ -199,15 +407,35 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		}
 	}
 	fmt.Fprintf(b, ".subckt %s inp inn out\n", opAmpSubckt)
+	sense, noisy := "inp", ""
+	if nz != nil {
+		noisy = " noisy=0"
+		if nz.rv > 0 {
+			fmt.Fprintf(b, "Rvn nvn 0 %s\n", spiceNum(nz.rv))
+			b.WriteString("Evn inpn inp nvn 0 1\n")
+			sense = "inpn"
+		}
+		if nz.ri > 0 {
+			for _, pin := range []string{"inp", "inn"} {
+				fmt.Fprintf(b, "Rn%s n%s 0 %s\n", pin, pin, spiceNum(nz.ri))
+				fmt.Fprintf(b, "Vn%s n%s 0 DC 0\n", pin, pin)
+				fmt.Fprintf(b, "Fn%s %s 0 Vn%s 1\n", pin, pin, pin)
+			}
+		}
+	}
 	if c.Model.Ideal {
-		fmt.Fprintf(b, "E1 out 0 inp inn %s\n", spiceNum(IdealOpAmpGain))
+		fmt.Fprintf(b, "E1 out 0 %s inn %s\n", sense, spiceNum(IdealOpAmpGain))
 	} else {
-		b.WriteString("G1 0 n1 inp inn 1\n")
-		fmt.Fprintf(b, "R1 n1 0 %s\n", spiceNum(c.Model.a0()))
+		fmt.Fprintf(b, "G1 0 n1 %s inn 1\n", sense)
+		fmt.Fprintf(b, "R1 n1 0 %s%s\n", spiceNum(c.Model.a0()), noisy)
 		fmt.Fprintf(b, "C1 n1 0 %s\n", spiceNum(1/(2*math.Pi*c.Model.GBWHz)))
 		b.WriteString("E1 out 0 n1 0 1\n")
 	}
 	fmt.Fprintf(b, ".ends %s\n", opAmpSubckt)
+	if nz != nil {
+		// In °C, rounded to 1e-9 K (26.85, not 26.850000000000023).
+		fmt.Fprintf(b, ".options temp=%s\n", spiceNum(math.Round((nz.tempK-celsiusZeroK)*1e9)/1e9))
+	}
 	fmt.Fprintf(b, ".ac dec %d %s %s\n", ppd, spiceNum(start), spiceNum(stop))
 	b.WriteString(".control\n")
 	b.WriteString("set wr_singlescale\n")
@@ -215,6 +443,21 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	b.WriteString("set numdgt=15\n")
 	b.WriteString("run\n")
 	fmt.Fprintf(b, "wrdata %s v(out)\n", data)
+	if nz != nil && nz.analysis {
+		fmt.Fprintf(b, "noise v(out) vin dec %d %s %s\n", ppd, spiceNum(start), spiceNum(stop))
+		// noise makes the spectrum plot, then the integrated-noise plot,
+		// which is current; the spectrum is the previous one.
+		b.WriteString("setplot previous\n")
+		b.WriteString("let onoise_c = onoise_spectrum + j(0)\n")
+		fmt.Fprintf(b, "wrdata %s onoise_c\n", nz.file)
+	}
+	if tr != nil {
+		fmt.Fprintf(b, "tran %s %s 0 %s\n", spiceNum(tr.step), spiceNum(tr.stop), spiceNum(tr.step))
+		// The new transient plot is current (its name, tranN, depends on
+		// the analyses before it).
+		b.WriteString("let vout_c = v(out) + j(0)\n")
+		fmt.Fprintf(b, "wrdata %s vout_c\n", tr.file)
+	}
 	b.WriteString("quit\n")
 	b.WriteString(".endc\n")
 	b.WriteString(".end\n")

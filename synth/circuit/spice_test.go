@@ -6,6 +6,8 @@ import (
 	"encoding/csv"
 	"math"
 	"math/cmplx"
+	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
@@ -221,6 +223,31 @@ func TestSpiceOptions(t *testing.T) {
 		{"bad-range", circuit.SpiceOptions{StartHz: 10, StopHz: 1}, "StartHz", true},
 		{"half-range", circuit.SpiceOptions{StartHz: 10}, "StartHz", true},
 		{"bad-data", circuit.SpiceOptions{DataFile: "a b"}, "DataFile", true},
+		// Noise: 4kT at 300 K is 1.656779e-20 J, so en = 10 nV/√Hz needs
+		// en²/(4kT) = 6035.8 Ω and in = 1 pA/√Hz needs 4kT/in² = 16567.8 Ω.
+		{"noise-temp", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{VoltageVPerRtHz: 10e-9}}, ".options temp=2.68500000000e+01", false},
+		{"noise-350K", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{TempK: 350}}, ".options temp=7.68500000000e+01", false},
+		{"noise-en", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{VoltageVPerRtHz: 10e-9}}, "Evn inpn inp nvn 0 1", false},
+		{"noise-en-sensed", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{VoltageVPerRtHz: 10e-9}}, "E1 out 0 inpn inn 1.00000000000e+08", false},
+		{"noise-in", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{CurrentAPerRtHz: 1e-12}}, "Fninn inn 0 Vninn 1", false},
+		{"noise-no-en", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{CurrentAPerRtHz: 1e-12}}, "E1 out 0 inp inn 1.00000000000e+08", false},
+		{"noise-analysis", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{Analysis: true}}, "noise v(out) vin dec 100 1.00000000000e+00 1.00000000000e+05", false},
+		{"noise-data", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{Analysis: true}}, "wrdata " + circuit.DefaultNoiseDataFile + " onoise_c", false},
+		{"noise-data-named", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{Analysis: true, DataFile: "n.txt"}}, "wrdata n.txt onoise_c", false},
+		{"bad-noise-en", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{VoltageVPerRtHz: -1}}, "Noise.VoltageVPerRtHz", true},
+		{"bad-noise-in", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{CurrentAPerRtHz: math.NaN()}}, "Noise.CurrentAPerRtHz", true},
+		{"bad-noise-temp", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{TempK: -3}}, "Noise.TempK", true},
+		{"tiny-noise-in", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{CurrentAPerRtHz: 1e-200}}, "helper resistance", true},
+		{"bad-noise-data", circuit.SpiceOptions{Noise: &circuit.SpiceNoise{DataFile: "x;y"}}, "Noise.DataFile", true},
+		// Transient: StepS defaults to StopS/1000, RiseS to StepS/1000.
+		{"tran-source", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1e-2}}, "Vin in 0 DC 0 AC 1 PWL(0 0 1.00000000000e-08 1)", false},
+		{"tran-command", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1e-2}}, "tran 1.00000000000e-05 1.00000000000e-02 0 1.00000000000e-05", false},
+		{"tran-data", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1e-2}}, "wrdata " + circuit.DefaultTranDataFile + " vout_c", false},
+		{"tran-rise", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, StepS: 1e-3, RiseS: 2e-6}}, "Vin in 0 DC 0 AC 1 PWL(0 0 2.00000000000e-06 1)", false},
+		{"bad-tran-stop", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{}}, "Transient.StopS", true},
+		{"bad-tran-step", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, StepS: 2}}, "Transient.StepS", true},
+		{"bad-tran-rise", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, RiseS: 1}}, "Transient.RiseS", true},
+		{"bad-tran-data", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, DataFile: "a'b"}}, "Transient.DataFile", true},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -235,6 +262,119 @@ func TestSpiceOptions(t *testing.T) {
 			}
 			require.NoError(t, err)
 			require.Contains(t, strings.Split(buf.String(), "\n"), tc.want)
+		})
+	}
+}
+
+// TestDeckNoiseHelpers checks the subcircuit's noise helpers: their
+// values (R = en²/(4kT) and 4kT/in², k = 1.380649e-23 J/K exact, T =
+// 300 K), the noiseless single-pole resistor, and that the elements
+// outside the subcircuit (the bill of materials' parts) are those of the
+// plain deck.
+func TestDeckNoiseHelpers(t *testing.T) {
+	t.Parallel()
+	const k, temp, en, in = 1.380649e-23, 300.0, 10e-9, 1e-12
+	chain := circuit.Chain{Model: singlePole, Stages: []circuit.Stage{sallenKeyLP(skR1, skR2, skC1, skC2), mfbLP(mfR1, mfR2, mfR3, mfC1, mfC2)}}
+	var plain, noisy bytes.Buffer
+	require.NoError(t, chain.WriteSPICE(&plain, circuit.SpiceOptions{}))
+	require.NoError(t, chain.WriteSPICE(&noisy, circuit.SpiceOptions{Noise: &circuit.SpiceNoise{VoltageVPerRtHz: en, CurrentAPerRtHz: in}}))
+	_, pe, _ := parseDeck(t, plain.String())
+	_, ne, dots := parseDeck(t, noisy.String())
+	require.Equal(t, pe, ne)
+	require.Contains(t, dots, ".options temp=2.68500000000e+01")
+	lines := strings.Split(noisy.String(), "\n")
+	value := func(prefix string) float64 {
+		for _, l := range lines {
+			if strings.HasPrefix(l, prefix+" ") {
+				f := strings.Fields(l)
+				v, err := strconv.ParseFloat(f[3], 64)
+				require.NoError(t, err)
+				return v
+			}
+		}
+		t.Fatalf("no line %s", prefix)
+		return 0
+	}
+	require.InEpsilon(t, en*en/(4*k*temp), value("Rvn"), 1e-15)
+	require.InEpsilon(t, 6035.8, value("Rvn"), 1e-4)
+	require.InEpsilon(t, 4*k*temp/(in*in), value("Rninp"), 1e-15)
+	require.InEpsilon(t, 16567.8, value("Rninn"), 1e-4)
+	require.Contains(t, lines, "R1 n1 0 1.00000000000e+05 noisy=0")
+	require.Contains(t, lines, "G1 0 n1 inpn inn 1")
+	require.NotContains(t, plain.String(), "noisy")
+}
+
+// TestNgspiceNoiseClosedForm runs ngspice's noise analysis of a
+// non-inverting amplifier with a source resistor, R3 from in to the +
+// input, R1 from − to ground and R2 from − to out, ideal op-amp, and
+// compares onoise_spectrum with the closed form (superposition of
+// uncorrelated sources; gain g = R2/R1, noise gain 1 + g):
+//
+//	e² = (4kT·R3 + in²·R3² + en²)·(1 + g)² + 4kT·R2 + 4kT·R1·g² + in²·R2²
+//
+// (in at the − input sees R1 ∥ R2 times the noise gain, which is R2).
+// It checks that the deck's helpers give exactly the spec's densities and
+// that they leave the AC response and the transient unchanged.
+func TestNgspiceNoiseClosedForm(t *testing.T) {
+	t.Parallel()
+	spicerun.Require(t)
+	const k = 1.380649e-23
+	const r1, r2, r3 = 1e3, 9e3, 4.7e3
+	amp := circuit.Stage{
+		Topology: "non-inverting",
+		Parts:    []circuit.Part{res("R3", "in", "n2", r3), res("R1", "n1", "0", r1), res("R2", "n1", "out", r2)},
+		OpAmps:   []circuit.OpAmp{{Ref: "U1", Plus: "n2", Minus: "n1", Out: "out"}},
+		Out:      "out",
+	}
+	for _, tc := range []struct {
+		name   string
+		en, in float64
+		tempK  float64
+	}{
+		{"default", 10e-9, 1e-12, 300},
+		{"current-heavy", 2e-9, 5e-11, 300},
+		{"hot", 10e-9, 1e-12, 400},
+		{"resistors-only", 0, 0, 300},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			chain := circuit.Chain{Model: ideal, Stages: []circuit.Stage{amp}}
+			opt := circuit.SpiceOptions{PointsPerDecade: 10, StartHz: 1, StopHz: 1e6,
+				Noise:     &circuit.SpiceNoise{VoltageVPerRtHz: tc.en, CurrentAPerRtHz: tc.in, TempK: tc.tempK, Analysis: true},
+				Transient: &circuit.SpiceTransient{StopS: 1e-3},
+			}
+			var deck bytes.Buffer
+			require.NoError(t, chain.WriteSPICE(&deck, opt))
+			ctx, cancel := context.WithTimeout(t.Context(), 60*time.Second)
+			defer cancel()
+			dir := t.TempDir()
+			freq, v, err := spicerun.RunDir(ctx, dir, deck.Bytes())
+			require.NoError(t, err)
+			for i := range freq {
+				require.InDelta(t, 10, real(v[i]), 1e-6, "gain 1 + R2/R1 at %v Hz", freq[i])
+			}
+			read := func(name string) ([]float64, []complex128) {
+				f, err := os.Open(filepath.Join(dir, name))
+				require.NoError(t, err)
+				defer f.Close()
+				x, vecs, err := spicerun.ReadData(f)
+				require.NoError(t, err)
+				return x, vecs[0]
+			}
+			nf, nv := read(circuit.DefaultNoiseDataFile)
+			require.Equal(t, freq, nf)
+			fourKT := 4 * k * tc.tempK
+			g := r2 / r1
+			want := math.Sqrt((fourKT*r3+tc.in*tc.in*r3*r3+tc.en*tc.en)*(1+g)*(1+g) + fourKT*r2 + fourKT*r1*g*g + tc.in*tc.in*r2*r2)
+			for i := range nf {
+				require.InDelta(t, 0, 20*math.Log10(real(nv[i])/want), 1e-4, "at %v Hz", nf[i])
+			}
+			ts, tv := read(circuit.DefaultTranDataFile)
+			for i := range ts {
+				if ts[i] >= 1e-8 { // after the input's rise
+					require.InDelta(t, 10, real(tv[i]), 1e-6, "step at %v s", ts[i])
+				}
+			}
 		})
 	}
 }

@@ -103,9 +103,22 @@ func rootPoly(roots []complex128, w float64) []float64 {
 }
 
 // FromRational returns r as a Stage, with copies of its coefficients.
+//
+// Numerator coefficients above the denominator's degree that are rounding
+// residue of the circuit's interpolation (below 1e-9 of the numerator's
+// largest coefficient, in the normalised variable) are dropped, so that a
+// proper stage stays proper.
 func FromRational(r circuit.Rational) Stage {
+	num := append([]float64(nil), r.Num...)
+	big := 0.0
+	for _, c := range num {
+		big = math.Max(big, math.Abs(c))
+	}
+	for len(num) > len(r.Den) && math.Abs(num[len(num)-1]) <= 1e-9*big {
+		num = num[:len(num)-1]
+	}
 	return Stage{
-		Num:            append([]float64(nil), r.Num...),
+		Num:            num,
 		Den:            append([]float64(nil), r.Den...),
 		ScaleRadPerSec: r.ScaleRadPerSec,
 	}

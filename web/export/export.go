@@ -102,11 +102,26 @@ func writeSpice(w io.Writer, d *synth.Design) error {
 		return err
 	}
 	lo, hi := d.Response.FreqHz[0], d.Response.FreqHz[len(d.Response.FreqHz)-1]
-	return ch.WriteSPICE(w, circuit.SpiceOptions{
+	opt := circuit.SpiceOptions{
 		Title:           fmt.Sprintf("polewright %s %s, order %d", d.Spec.Approximation, d.Spec.Response, d.Order),
 		Description:     SpiceDescription(d),
 		PointsPerDecade: 100,
 		StartHz:         lo,
 		StopHz:          hi,
-	})
+		// The op-amps carry the spec's noise densities, so that the deck's
+		// noise analysis gives the design's output noise density.
+		Noise: &circuit.SpiceNoise{
+			VoltageVPerRtHz: d.Spec.OpAmp.NoiseVPerRtHz,
+			CurrentAPerRtHz: d.Spec.OpAmp.NoiseAPerRtHz,
+			TempK:           300,
+			Analysis:        true,
+		},
+	}
+	if st := d.Step; st != nil && len(st.TimeS) > 1 {
+		end := st.TimeS[len(st.TimeS)-1]
+		// The simulator integrates with at most this step; ten times finer
+		// than the design's grid keeps its error well under 0.1 %.
+		opt.Transient = &circuit.SpiceTransient{StopS: end, StepS: end / float64(10*(len(st.TimeS)-1))}
+	}
+	return ch.WriteSPICE(w, opt)
 }

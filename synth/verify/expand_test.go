@@ -1,0 +1,114 @@
+package verify_test
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"slices"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/verify"
+)
+
+// TestStageTrialMatchesNodalSolve checks the per-trial analysis (the
+// multi-affine fast path and the generic path) against the circuit
+// package's direct nodal solve of the perturbed stage at every grid
+// frequency (circuit.Stage.SolveAt, LU with iterative refinement: the
+// reference of the circuit package) and against its rational form's
+// DominantPair for f0 and Q.
+func TestStageTrialMatchesNodalSolve(t *testing.T) {
+	t.Parallel()
+	type tc struct {
+		name  string
+		st    circuit.Stage
+		fast  bool // the fast path is expected
+		model circuit.Model
+	}
+	var cases []tc
+	for _, m := range []struct {
+		name string
+		m    circuit.Model
+	}{{"ideal", ideal}, {"single-pole", singlePole}, {"slow-op-amp", circuit.Model{GBWHz: 2e4, DCGainDB: 80}}} {
+		for _, s := range []struct {
+			name string
+			st   circuit.Stage
+		}{
+			{"sallen-key-lp", sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9)},
+			{"sallen-key-hp", sallenKeyHP(10e-9, 10e-9, 33e3, 4.7e3)},
+			{"mfb-lp", mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9)},
+			{"rc-buffer", rcBuffer(15e3, 10e-9)},
+			{"inverting", inverting(10e3, 47e3)},
+		} {
+			cases = append(cases, tc{s.name + "/" + m.name, s.st, true, m.m})
+		}
+	}
+	for name, ch := range exampleChains(t) {
+		for k, st := range ch.Stages {
+			vars := len(st.Parts) + len(st.OpAmps)
+			cases = append(cases, tc{fmt.Sprintf("%s/stage%d-%s", name, k+1, st.Topology), st, vars <= 16, ch.Model})
+		}
+	}
+	for _, c := range cases {
+		for _, generic := range []bool{false, true} {
+			name := c.name
+			if generic {
+				name += "/generic"
+			}
+			t.Run(name, func(t *testing.T) {
+				t.Parallel()
+				nom, err := c.st.TransferFunction(c.model)
+				require.NoError(t, err)
+				f0n, _, okn := nom.DominantPair()
+				centre := 1e3
+				if okn {
+					centre = f0n
+				}
+				freq := make([]float64, 61)
+				for i := range freq {
+					freq[i] = centre * math.Pow(10, -3+float64(i)/10)
+				}
+				rng := rand.New(rand.NewPCG(1, uint64(len(name))))
+				for trial := range 5 {
+					fac := make([]float64, len(c.st.Parts))
+					pert := c.st
+					pert.Parts = slices.Clone(c.st.Parts)
+					for j := range fac {
+						fac[j] = 1 + 0.1*(2*rng.Float64()-1)
+						if trial == 0 {
+							fac[j] = 1
+						}
+						pert.Parts[j].Value *= fac[j]
+					}
+					m := c.model
+					var gbw []float64
+					if !m.Ideal {
+						g := 1 + 0.3*(2*rng.Float64()-1)
+						for range c.st.OpAmps {
+							gbw = append(gbw, g) // one GBW for the reference's single model
+						}
+						m.GBWHz *= g
+					}
+					db, f0, q, ok, fast, err := verify.StageTrial(c.st, c.model, fac, gbw, freq, generic)
+					require.NoError(t, err)
+					require.Equal(t, c.fast && !generic, fast, "path")
+					for i, f := range freq {
+						h, err := pert.SolveAt(m, complex(0, 2*math.Pi*f))
+						require.NoError(t, err)
+						want := 20 * math.Log10(cmplx.Abs(h))
+						require.InDelta(t, want, db[i], 1e-8*math.Max(1, math.Abs(want)), "trial %d f %g Hz", trial, f)
+					}
+					r, err := pert.TransferFunction(m)
+					require.NoError(t, err)
+					wf0, wq, wok := r.DominantPair()
+					require.Equal(t, wok, ok)
+					require.InDelta(t, wf0, f0, 1e-9*wf0, "f0, trial %d", trial)
+					require.InDelta(t, wq, q, 1e-9*math.Max(1, math.Abs(wq)), "Q, trial %d", trial)
+				}
+			})
+		}
+	}
+}
