@@ -45,9 +45,26 @@ func BenchmarkSynthesizeIdeal(b *testing.B) {
 	}
 }
 
-// BenchmarkSynthesize times a whole design: the core above plus the part-
-// value search of every stage, the as-built analysis (realised f0 and Q,
-// op-amp needs) and the as-built response.
+// BenchmarkSynthesizeCircuits times the core above plus the part-value
+// search of every stage, the as-built analysis (realised f0 and Q, op-amp
+// needs) and the as-built response.
+func BenchmarkSynthesizeCircuits(b *testing.B) {
+	for _, bs := range benchSpecs {
+		b.Run(bs.name, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			for b.Loop() {
+				if _, err := synth.SynthesizeTo(ctx, bs.spec, synth.Circuits); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkSynthesize times a whole design: the above plus sensitivities,
+// part tolerances, noise, step response and settling (no Monte Carlo: the
+// benchmark specs ask for no trials).
 func BenchmarkSynthesize(b *testing.B) {
 	for _, bs := range benchSpecs {
 		b.Run(bs.name, func(b *testing.B) {

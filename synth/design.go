@@ -226,16 +226,45 @@ type MaskReport struct {
 // design that meets an edge exactly is not failed by rounding.
 const MaskToleranceDB = 1e-6
 
-// Synthesize designs the filter that s asks for, circuits included: it is
-// [SynthesizeIdeal] followed by the mapping of every section onto a stage
-// with part values and the analysis of the chain as built. It returns a
-// [*FieldError] for a spec that cannot be built (for example a mask that
-// needs more than [MaxOrder], or a section no topology fits within the
-// part windows), and ctx.Err() if ctx is done first.
+// Level says how far [SynthesizeTo] goes.
+type Level int
+
+// The levels, each including the ones before it.
+const (
+	// Ideal: order, poles and zeros, sections in headroom order with their
+	// gains, the ideal response and the mask check.
+	Ideal Level = iota
+	// Circuits: every section mapped onto a stage with part values, the
+	// as-built analysis (realised f0 and Q, op-amp needs) and the as-built
+	// response.
+	Circuits
+	// Verified: sensitivities and part tolerances, slew needs, noise,
+	// step response and settling, and the Monte Carlo the spec asks for.
+	Verified
+)
+
+// Synthesize designs the filter that s asks for, everything included: it
+// is [SynthesizeTo] at [Verified]. It returns a [*FieldError] for a spec
+// that cannot be built (for example a mask that needs more than
+// [MaxOrder], or a section no topology fits within the part windows), and
+// ctx.Err() if ctx is done first.
 func Synthesize(ctx context.Context, s Spec) (*Design, error) {
+	return SynthesizeTo(ctx, s, Verified)
+}
+
+// SynthesizeIdeal is [SynthesizeTo] at [Ideal]: its Design has no
+// components, no realized figures and an empty realized_db, and
+// [Design.Chain] reports [ErrNoCircuit].
+func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
+	return SynthesizeTo(ctx, s, Ideal)
+}
+
+// SynthesizeTo designs the filter that s asks for up to the given level.
+// Errors are as for [Synthesize].
+func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
 	d, ordered, err := synthesize(ctx, s)
-	if err != nil {
-		return nil, err
+	if err != nil || level == Ideal {
+		return d, err
 	}
 	if err := d.realize(ordered); err != nil {
 		return nil, err
@@ -245,20 +274,13 @@ func Synthesize(ctx context.Context, s Spec) (*Design, error) {
 		return nil, fmt.Errorf("synth: as-built response: %w", err)
 	}
 	d.Response.RealizedDB = floorDB(realized)
+	if level == Circuits {
+		return d, nil
+	}
 	if err := d.verifyDesign(ctx); err != nil {
 		return nil, err
 	}
 	return d, nil
-}
-
-// SynthesizeIdeal designs the filter that s asks for without circuits:
-// order, poles and zeros, sections in headroom order with their gains, the
-// ideal response and the mask check. Its Design has no components, no
-// realized figures and an empty realized_db, and [Design.Chain] reports
-// [ErrNoCircuit]. Errors are as for [Synthesize].
-func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
-	d, _, err := synthesize(ctx, s)
-	return d, err
 }
 
 func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error) {

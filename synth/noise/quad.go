@@ -9,7 +9,7 @@ import (
 const (
 	// quadRelTol is the target of the summed Kronrod error estimates
 	// |K15 − G7| relative to the integrated power.
-	quadRelTol = 1e-7
+	quadRelTol = 1e-5
 	// quadPanelDecades is the widest initial panel, in decades.
 	quadPanelDecades = 0.5
 	// quadMaxPanels bounds the number of panels (15 evaluations each).
