@@ -18,6 +18,7 @@ func exportCmd(ctx context.Context, args []string, stdin io.Reader, stdout, stde
 	fs := newFlags("export", stderr)
 	specPath := fs.String("spec", "", "spec JSON file, - for standard input")
 	kind := fs.String("as", "", "what to write: "+exportKindList)
+	mc := addMCFlags(fs)
 	if err := fs.Parse(args); err != nil {
 		return flagError(stderr, "export", err)
 	}
@@ -29,7 +30,7 @@ func exportCmd(ctx context.Context, args []string, stdin io.Reader, stdout, stde
 		fmt.Fprintf(stderr, "polewright export: -as %q is not a kind this build writes (KIND: %s)\n", *kind, exportKindList)
 		return exitUsage
 	}
-	d, code := build(ctx, "export", *specPath, stdin, stderr)
+	d, code := build(ctx, "export", *specPath, mc, stdin, stderr)
 	if d == nil {
 		return code
 	}

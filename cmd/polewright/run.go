@@ -46,7 +46,7 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 const usage = `polewright designs active analog filters.
 
   polewright serve  [-addr 127.0.0.1:8080]   the workbench in a browser
-  polewright design -spec FILE               design as JSON on stdout
+  polewright design -spec FILE [-trials N] [-seed S]   design as JSON on stdout
   polewright export -spec FILE -as KIND      KIND: spice, bom, json, bode-svg, delay-svg, step-svg
 
 -spec - reads standard input.
@@ -82,14 +82,44 @@ func readSpec(path string, stdin io.Reader) (synth.Spec, error) {
 	return synth.ParseSpec(r)
 }
 
+// mcFlags are the Monte Carlo options of design and export, which
+// override the spec's montecarlo object when given.
+type mcFlags struct {
+	trials, seed *int64
+}
+
+func addMCFlags(fs *flag.FlagSet) mcFlags {
+	return mcFlags{
+		trials: fs.Int64("trials", -1, "Monte Carlo trials, overriding the spec's montecarlo.trials (0..100000)"),
+		seed:   fs.Int64("seed", -1, "Monte Carlo seed, overriding the spec's montecarlo.seed"),
+	}
+}
+
+// apply writes the flags that were given into s and validates it again.
+func (m mcFlags) apply(s *synth.Spec) error {
+	if m.trials != nil && *m.trials >= 0 {
+		if *m.trials > synth.MaxTrials {
+			return &synth.FieldError{Field: "montecarlo.trials", Reason: fmt.Sprintf("must be from 0 to %d (got %d from -trials)", synth.MaxTrials, *m.trials)}
+		}
+		s.MonteCarlo.Trials = int(*m.trials)
+	}
+	if m.seed != nil && *m.seed >= 0 {
+		s.MonteCarlo.Seed = uint64(*m.seed)
+	}
+	return s.Validate()
+}
+
 // build reads the spec and synthesises it; a failure has been reported on
 // stderr and its exit status is returned.
-func build(ctx context.Context, cmd, path string, stdin io.Reader, stderr io.Writer) (*synth.Design, int) {
+func build(ctx context.Context, cmd, path string, mc mcFlags, stdin io.Reader, stderr io.Writer) (*synth.Design, int) {
 	if path == "" {
 		fmt.Fprintf(stderr, "polewright %s: -spec FILE is required (- reads standard input)\n", cmd)
 		return nil, exitUsage
 	}
 	spec, err := readSpec(path, stdin)
+	if err == nil {
+		err = mc.apply(&spec)
+	}
 	if err == nil {
 		var d *synth.Design
 		if d, err = synth.Synthesize(ctx, spec); err == nil {
@@ -109,6 +139,7 @@ func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
 func design(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	fs := newFlags("design", stderr)
 	specPath := fs.String("spec", "", "spec JSON file, - for standard input")
+	mc := addMCFlags(fs)
 	if err := fs.Parse(args); err != nil {
 		return flagError(stderr, "design", err)
 	}
@@ -116,7 +147,7 @@ func design(ctx context.Context, args []string, stdin io.Reader, stdout, stderr 
 		fmt.Fprintf(stderr, "polewright design: unexpected argument %q\n", fs.Arg(0))
 		return exitUsage
 	}
-	d, code := build(ctx, "design", *specPath, stdin, stderr)
+	d, code := build(ctx, "design", *specPath, mc, stdin, stderr)
 	if d == nil {
 		return code
 	}

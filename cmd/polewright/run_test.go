@@ -111,6 +111,7 @@ func TestUsageErrors(t *testing.T) {
 		{"bad flag", []string{"design", "-bogus"}, "flag provided but not defined"},
 		{"no kind", []string{"export", "-spec", "-"}, "-as KIND is required"},
 		{"bad kind", []string{"export", "-spec", "-", "-as", "pdf"}, "not a kind"},
+		{"too many trials", []string{"design", "-spec", "-", "-trials", "200000"}, "spec: montecarlo.trials: must be from 0 to 100000"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -122,4 +123,26 @@ func TestUsageErrors(t *testing.T) {
 			require.Equal(t, 1, strings.Count(errOut, "\n"), errOut)
 		})
 	}
+}
+
+func TestTrialsFlag(t *testing.T) {
+	t.Parallel()
+	spec := `{"passband_hz": 1000, "stopband_hz": 3000, "stopband_atten_db": 30}`
+	code, out, errOut := runCLI(t, spec, "design", "-spec", "-", "-trials", "300", "-seed", "9")
+	require.Equal(t, exitOK, code, errOut)
+	var d struct {
+		MC struct {
+			Trials int     `json:"trials"`
+			Seed   uint64  `json:"seed"`
+			Yield  float64 `json:"yield"`
+		} `json:"montecarlo"`
+	}
+	require.NoError(t, json.Unmarshal([]byte(out), &d))
+	require.Equal(t, 300, d.MC.Trials)
+	require.Equal(t, uint64(9), d.MC.Seed)
+	require.GreaterOrEqual(t, d.MC.Yield, 0.0)
+	require.LessOrEqual(t, d.MC.Yield, 1.0)
+	// The same seed gives the same run.
+	_, out2, _ := runCLI(t, spec, "design", "-spec", "-", "-trials", "300", "-seed", "9")
+	require.JSONEq(t, out, out2)
 }
