@@ -83,7 +83,6 @@ type expansion []term
 // package has one model per chain).
 type stageModel struct {
 	stage        circuit.Stage
-	model        circuit.Model
 	scale, rn    float64 // natural scale (rad/s) and resistance of the nominal stage
 	nOps         int     // single-pole op-amps (0 for the ideal model)
 	sectionOrder int
@@ -142,7 +141,7 @@ const (
 // newStageModel prepares a valid stage with a valid model for a run of
 // the given number of trials.
 func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode) (*stageModel, error) {
-	sm := &stageModel{stage: st, model: m}
+	sm := &stageModel{stage: st}
 	sm.scale, sm.rn = stageScale(st, m)
 	if !m.Ideal {
 		sm.nOps = len(st.OpAmps)

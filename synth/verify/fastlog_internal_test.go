@@ -24,9 +24,13 @@ func TestLnNormal(t *testing.T) {
 		got := lnNormal(x)
 		ulp := math.Abs(math.Nextafter(want, math.Inf(1)) - want)
 		require.LessOrEqual(t, math.Abs(got-want), 2*ulp+1e-300, "x = %v", x)
+		db := []float64{x}
+		dbInPlace(db)
+		require.Equal(t, dbPerLn*got, db[0], "dbInPlace(%v)", x)
 	}
-	db := []float64{0, math.Inf(1), math.NaN(), 1, 100, 1e-320}
+	db := []float64{0, math.Inf(1), math.NaN(), 1, 100, 1e-320, -1}
 	dbInPlace(db)
+	require.Equal(t, -1.0, db[6], "markers are left alone")
 	require.Equal(t, math.Inf(-1), db[0])
 	require.Equal(t, math.Inf(1), db[1])
 	require.Equal(t, math.Inf(-1), db[2])

@@ -79,7 +79,12 @@ type MonteCarloOptions struct {
 // h = (n−1)·p). An exact zero of the response at a grid frequency is
 // −Inf dB, as in package circuit; callers clamp for display.
 type Envelope struct {
-	FreqHz, MinDB, P01DB, P99DB, MaxDB []float64
+	// FreqHz is the grid (a copy of MonteCarloOptions.FreqHz).
+	FreqHz []float64
+	// MinDB and MaxDB are the extremes over the trials.
+	MinDB, MaxDB []float64
+	// P01DB and P99DB are the 1st and 99th percentiles.
+	P01DB, P99DB []float64
 }
 
 // StageSpread is the spread of one stage's f0 and Q over the trials, from
@@ -103,9 +108,11 @@ type StageSpread struct {
 // edges are that value.
 type Histogram struct {
 	// FreqHz is the frequency the loss was taken at.
-	FreqHz  float64
+	FreqHz float64
+	// EdgesDB are the bin edges, len(Counts)+1 of them, ascending.
 	EdgesDB []float64
-	Counts  []int
+	// Counts are the number of trials per bin; they add up to the trials.
+	Counts []int
 }
 
 // MonteCarloResult is what a [MonteCarlo] run found.
@@ -253,10 +260,7 @@ func MonteCarlo(ctx context.Context, ch circuit.Chain, tol Tolerance, opt MonteC
 		}()
 	}
 	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return MonteCarloResult{}, err
-	}
-	if runErr != nil {
+	if runErr != nil { // ctx.Err() when cancelled, or an analysis error
 		return MonteCarloResult{}, runErr
 	}
 
@@ -603,9 +607,9 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 			db[f] = -1 // out of range: redone below
 		}
 	}
+	dbInPlace(db)
 	for f, v := range db {
-		if v >= minNormal && v <= math.MaxFloat64 {
-			db[f] = dbPerLn * lnNormal(v)
+		if v != -1 {
 			continue
 		}
 		uf, xf := u[f], x[f]

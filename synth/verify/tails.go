@@ -22,7 +22,7 @@ func tailSizes(n int) (kLo, kHi int) {
 
 // tails keeps, per frequency, the kLo lowest values seen (a max-heap, the
 // largest of them at the top) and the kHi highest (a max-heap of their
-// negatives), and the extremes. Each heap's top is also kept in a contiguous array, so that
+// negatives); the extremes are the largest of the heaps' values. Each heap's top is also kept in a contiguous array, so that
 // the common case, a value that enters neither heap, touches one cache
 // line per frequency and heap.
 type tails struct {
@@ -30,7 +30,6 @@ type tails struct {
 	seen            int
 	lo, hi          []float64 // nFreq heaps of kLo, kHi values
 	loTop, hiTop    []float64
-	min, max        []float64
 }
 
 func newTails(nFreq, trials int) tails {
@@ -41,12 +40,6 @@ func newTails(nFreq, trials int) tails {
 		hi:    make([]float64, nFreq*kHi),
 		loTop: make([]float64, nFreq),
 		hiTop: make([]float64, nFreq),
-		min:   make([]float64, nFreq),
-		max:   make([]float64, nFreq),
-	}
-	for f := range t.min {
-		t.min[f] = math.Inf(1)
-		t.max[f] = math.Inf(-1)
 	}
 	return t
 }
@@ -55,12 +48,6 @@ func newTails(nFreq, trials int) tails {
 func (t *tails) add(v []float64) {
 	fillLo, fillHi := t.seen < t.kLo, t.seen < t.kHi
 	for f, x := range v {
-		if x < t.min[f] {
-			t.min[f] = x
-		}
-		if x > t.max[f] {
-			t.max[f] = x
-		}
 		switch {
 		case fillLo:
 			h := t.lo[f*t.kLo : f*t.kLo+t.seen+1]
@@ -136,14 +123,12 @@ func mergeTails(ts []*tails, freqHz []float64, n int) Envelope {
 	kLo, kHi := tailSizes(n)
 	var buf []float64
 	for f := range nf {
-		env.MinDB[f], env.MaxDB[f] = math.Inf(1), math.Inf(-1)
 		buf = buf[:0]
 		for _, t := range ts {
-			env.MinDB[f] = math.Min(env.MinDB[f], t.min[f])
-			env.MaxDB[f] = math.Max(env.MaxDB[f], t.max[f])
 			buf = append(buf, t.lo[f*t.kLo:f*t.kLo+min(t.seen, t.kLo)]...)
 		}
 		slices.Sort(buf)
+		env.MinDB[f] = buf[0]
 		// buf[:kLo] are the order statistics 0..kLo−1.
 		env.P01DB[f] = quantile(buf[:kLo], 0, n, pLow)
 		buf = buf[:0]
@@ -153,6 +138,7 @@ func mergeTails(ts []*tails, freqHz []float64, n int) Envelope {
 			}
 		}
 		slices.Sort(buf)
+		env.MaxDB[f] = buf[len(buf)-1]
 		// buf[len−kHi:] are the order statistics n−kHi..n−1.
 		env.P99DB[f] = quantile(buf[len(buf)-kHi:], n-kHi, n, pHigh)
 	}
