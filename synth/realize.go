@@ -191,6 +191,9 @@ func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model) erro
 	if err != nil {
 		return fmt.Errorf("synth: stage %d: %w", i+1, err)
 	}
+	// The section's order is known; the rational form's own count can come
+	// out short when a far op-amp coefficient is taken for rounding noise.
+	built.SectionOrder, ideal.SectionOrder = sec.Order, sec.Order
 	f0, q, ok := built.DominantPair()
 	if !ok {
 		return fmt.Errorf("synth: stage %d has no dominant pole", i+1)
@@ -260,6 +263,7 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 		if err != nil {
 			return math.Inf(1)
 		}
+		tf.SectionOrder = order
 		f, qq, ok := tf.DominantPair()
 		if !ok {
 			return math.Inf(1)
