@@ -1,6 +1,7 @@
 package plotting
 
 import (
+	"image/color"
 	"io"
 	"math"
 
@@ -182,6 +183,69 @@ type shape struct{ poly *plotter.Polygon }
 // Plot implements plot.Plotter.
 func (s shape) Plot(c draw.Canvas, p *plot.Plot) { s.poly.Plot(c, p) }
 
+// Thumbnail implements plot.Thumbnailer.
+func (s shape) Thumbnail(c *draw.Canvas) { s.poly.Thumbnail(c) }
+
+// The Monte Carlo envelope's shading: the min–max band light, the
+// 1st–99th percentile band darker, in the as-built curve's colour.
+var (
+	envelopeOuterFill = color.NRGBA{R: 0xd9, G: 0x6c, B: 0x06, A: 0x30}
+	envelopeInnerFill = color.NRGBA{R: 0xd9, G: 0x6c, B: 0x06, A: 0x60}
+)
+
+// Legend names of the envelope's bands.
+const (
+	envelopeOuterName = "Monte Carlo min–max"
+	envelopeInnerName = "Monte Carlo 1–99 %"
+)
+
+// band is one shaded band of the envelope with its legend name.
+type band struct {
+	shape shape
+	name  string
+}
+
+// envelopeBands returns the shaded bands of the Monte Carlo envelope of
+// mc (none for a nil mc or an envelope without two usable points),
+// values clamped to [lo, hi].
+func envelopeBands(mc *synth.MonteCarloReport, lo, hi float64) []band {
+	if mc == nil {
+		return nil
+	}
+	e := mc.Envelope
+	var out []band
+	for _, b := range []struct {
+		lower, upper []float64
+		fill         color.Color
+		name         string
+	}{{e.MinDB, e.MaxDB, envelopeOuterFill, envelopeOuterName}, {e.P01DB, e.P99DB, envelopeInnerFill, envelopeInnerName}} {
+		var top, bottom plotter.XYs
+		for i, f := range e.FreqHz {
+			if i >= len(b.lower) || i >= len(b.upper) || !(f > 0) || !finite(f) || math.IsNaN(b.lower[i]) || math.IsNaN(b.upper[i]) {
+				continue
+			}
+			top = append(top, plotter.XY{X: f, Y: min(max(b.upper[i], lo), hi)})
+			bottom = append(bottom, plotter.XY{X: f, Y: min(max(b.lower[i], lo), hi)})
+		}
+		if len(top) < 2 {
+			continue
+		}
+		ring := make(plotter.XYs, 0, 2*len(top))
+		ring = append(ring, top...)
+		for i := len(bottom) - 1; i >= 0; i-- {
+			ring = append(ring, bottom[i])
+		}
+		poly, err := plotter.NewPolygon(ring)
+		if err != nil {
+			continue
+		}
+		poly.Color = b.fill
+		poly.LineStyle.Width = 0
+		out = append(out, band{shape{poly}, b.name})
+	}
+	return out
+}
+
 // magnitudePlot returns the top panel of the Bode plot.
 func magnitudePlot(d *synth.Design, sw sweep) *plot.Plot {
 	p := newPlot()
@@ -210,9 +274,16 @@ func magnitudePlot(d *synth.Design, sw sweep) *plot.Plot {
 	}
 	// Clamp just outside the axis so that a curve leaves it cleanly.
 	cLo, cHi := ax.lo-0.05*(ax.hi-ax.lo), ax.hi+0.05*(ax.hi-ax.lo)
+	bands := envelopeBands(d.MonteCarlo, cLo, cHi)
+	for _, b := range bands {
+		p.Add(b.shape)
+	}
 	drawn := addCurves(p, true,
 		idealCurve(points(sw.f, sw.idealDB, cLo, cHi)),
 		builtCurve(points(sw.f, sw.builtDB, cLo, cHi)))
+	for _, b := range bands {
+		p.Legend.Add(b.name, b.shape)
+	}
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, ax.lo, ax.hi)
 	placeLegend(p, drawn...)

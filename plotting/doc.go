@@ -1,7 +1,25 @@
 // Package plotting draws a [synth.Design] as SVG with gonum.org/v1/plot:
 // the magnitude and phase responses ([Bode]), the group delay
 // ([GroupDelay]) and the step response ([Step]), each with the ideal curve
-// and, once the design has circuits, the as-built one.
+// and, once the design has circuits, the as-built one; and the output
+// noise density ([Noise]).
+//
+// # Verification
+//
+// With Design.MonteCarlo, the magnitude plot shades the envelope of the
+// trials under the curves: min to max lightly, the 1st to 99th percentile
+// darker. With Design.Step, the step plot spans the settling of both
+// responses (the time axis reaches 15 % past the later settling time),
+// shades the settling band (±Step.SettlingFrac of the final value: ±½ LSB
+// with a converter, else ±0.1 %) from the as-built settling time on and
+// marks that time, and adds a panel below with each response's distance
+// from its own final value on a logarithmic axis, the band shaded. [Noise]
+// draws Design.Noise.OutputVPerRtHz on log-log axes and, with a converter,
+// a dashed line at LSB/√12/√(fs/2): the converter's quantisation noise
+// spread evenly over 0 to fs/2, the density a white noise would need to
+// equal it over the band. Logarithmic value axes are drawn as linear axes
+// of log10 values (see log10Axis). Designs without these fields draw as
+// before.
 //
 // # Curves
 //

@@ -368,10 +368,38 @@ type hline struct {
 	sty draw.LineStyle
 }
 
+// Thumbnail implements plot.Thumbnailer.
+func (h hline) Thumbnail(c *draw.Canvas) {
+	y := (c.Min.Y + c.Max.Y) / 2
+	c.StrokeLine2(h.sty, c.Min.X, y, c.Max.X, y)
+}
+
 // Plot implements plot.Plotter.
 func (h hline) Plot(c draw.Canvas, plt *plot.Plot) {
 	_, trY := plt.Transforms(&c)
 	if y := trY(h.y); y >= c.Min.Y && y <= c.Max.Y {
 		c.StrokeLine2(h.sty, c.Min.X, y, c.Max.X, y)
 	}
+}
+
+// log10Axis maps the ticks of a logarithmic axis onto a linear axis of
+// log10 values. A logarithmic value axis is drawn this way, linear in
+// log10(y), because gonum/plot reserves room for the axis label at the
+// arithmetic mean of the range (the FIXME in verticalAxis.GlyphBoxes),
+// which on a log scale lies near the top and pushes the data area down.
+func log10Axis(ticks []plot.Tick) []plot.Tick {
+	out := make([]plot.Tick, len(ticks))
+	for i, t := range ticks {
+		out[i] = plot.Tick{Value: math.Log10(t.Value), Label: t.Label}
+	}
+	return out
+}
+
+// log10Points returns pts with Y replaced by log10(Y).
+func log10Points(pts plotter.XYs) plotter.XYs {
+	out := make(plotter.XYs, len(pts))
+	for i, p := range pts {
+		out[i] = plotter.XY{X: p.X, Y: math.Log10(p.Y)}
+	}
+	return out
 }

@@ -126,6 +126,7 @@ func TestBrowser(t *testing.T) {
 		setField("f-passband_hz", ""),
 		setField("f-passband_ripple_db", "0.1"),
 		setField("f-opamp_gbw_hz", "50e6"),
+		setField("f-montecarlo_trials", "300"),
 		chromedp.SendKeys(chromedp.CSS("#f-adc_rate_hz"), "200000"),
 		chromedp.SendKeys(chromedp.CSS("#f-adc_bits"), "18"),
 		chromedp.SendKeys(chromedp.CSS("#f-adc_band_hz"), "20000"),
@@ -156,7 +157,7 @@ func TestBrowser(t *testing.T) {
 
 	// The stage table has one row per section synth designs for this spec.
 	rows := step(t, ctx, "stage rows", chromedp.Evaluate[int](`document.querySelectorAll('[data-testid="stage-row"]').length`))
-	want := sectionCount(t, `{"approximation":"chebyshev1","passband_hz":20000,"stopband_hz":180000,"passband_ripple_db":0.1,"stopband_atten_db":110.12,"opamp":{"gbw_hz":50e6}}`)
+	want := sectionCount(t, `{"approximation":"chebyshev1","passband_hz":20000,"stopband_hz":180000,"passband_ripple_db":0.1,"stopband_atten_db":110.12,"opamp":{"gbw_hz":50e6},"montecarlo":{"trials":300}}`)
 	require.Equal(t, want, rows)
 
 	// The magnitude plot: curves and the shaded mask.
@@ -164,12 +165,19 @@ func TestBrowser(t *testing.T) {
 	if realDeps().Plots == nil {
 		t.Log("plot checks skipped: this build has no plotting package wired in")
 	} else {
-		require.Equal(t, 3, plots, "magnitude/phase, group delay and step")
+		require.Equal(t, 4, plots, "magnitude/phase, group delay, step and the noise density")
 		curves := step(t, ctx, "curves", chromedp.Evaluate[int](bodeCurvesJS))
 		require.GreaterOrEqual(t, curves, 2, "ideal and as-built magnitude curves at least")
 		mask := step(t, ctx, "mask", chromedp.Evaluate[int](bodeMaskJS))
 		require.GreaterOrEqual(t, mask, 2, "shaded forbidden regions: passband and stopband")
 	}
+
+	// The bench panel: the yield of the 300 trials asked for, and the
+	// edge-loss histograms.
+	yield := step(t, ctx, "yield", chromedp.Text(chromedp.CSS(`[data-testid="fig-yield"]`)))
+	require.Contains(t, yield, "of 300 trials meet the mask")
+	hists := step(t, ctx, "histograms", chromedp.Evaluate[int](`document.querySelectorAll('[data-testid^="histogram-"] rect.bar').length`))
+	require.Positive(t, hists, "edge-loss histograms have bars")
 
 	// Screenshots: the result page, wide and on a phone.
 	shot := step(t, ctx, "screenshot", chromedp.FullScreenshot(100))

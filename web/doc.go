@@ -6,6 +6,7 @@
 //	GET  /                       the spec form (with the converter helper)
 //	GET  /design?QUERY           the result page of the spec in QUERY (a permalink)
 //	GET  /download/KIND?QUERY    one export of that design as a file
+//	GET  /download/noise-svg?QUERY  its noise density plot (the page's own)
 //	POST /api/v1/design          spec JSON in, design JSON out
 //	POST /api/v1/export?as=KIND  spec JSON in, the export out
 //	GET  /static/...             the embedded style sheet and script
@@ -14,21 +15,49 @@
 // # The spec in the URL
 //
 // QUERY carries the spec's fields by their JSON names (passband_hz=20000),
-// band edges as "lo,hi" (passband_hz=18000,22000) and the op-amp object
-// flattened (opamp_gbw_hz, opamp_dc_gain_db, opamp_ideal=1). An empty value
-// means the field is absent. The handler turns the query into a JSON object
+// band edges as "lo,hi" (passband_hz=18000,22000) and the nested objects
+// flattened with underscores: the op-amp (opamp_gbw_hz, opamp_dc_gain_db,
+// opamp_ideal=1, opamp_noise_v_per_rthz, opamp_noise_a_per_rthz,
+// opamp_slew_v_per_s), the tolerances (tolerance_resistor_pct,
+// tolerance_capacitor_pct, tolerance_distribution), the Monte Carlo
+// (montecarlo_trials, montecarlo_seed) and the converter
+// (converter_bits, converter_sample_rate_hz, converter_full_scale_vpp:
+// all three or none). An empty value means the field is absent, so that
+// the page runs no Monte Carlo unless trials are given (at most
+// [synth.MaxTrials]). A number may end in a metric prefix (4.7k, 10n,
+// 20M). An error in a nested field ("montecarlo.trials") is shown beside
+// its flattened control. The handler turns the query into a JSON object
 // and hands it to [synth.ParseSpecBytes], so the page validates exactly as
 // the API does; a parameter that is neither a spec field nor one of the
 // converter helper's (adc_rate_hz, adc_bits, adc_band_hz) is an error that
 // names it. The server keeps no state between requests: a result page is
 // reproduced by its URL alone.
 //
+// # Will it work on the bench
+//
+// The result page's bench panel shows what synth's verification fills:
+// the yield of the Monte Carlo with its trial count and seed, the spread
+// of each stage's f0 and Q (beside the first-order prediction from the
+// sensitivities), histograms of the loss at the band edges against the
+// mask's limit, the output noise against the converter's LSB/√12 with the
+// noise density plot and the largest contributors, the step figures with
+// the settling time to ±½ LSB (±0.1 % without a converter), and the slew
+// rate needed. Under each stage of the stage table are its most sensitive
+// parts and the tolerances they need. A long Monte Carlo has no progress
+// bar: the page's script says that it runs, with the time so far, and
+// offers to stop it (window.stop), which closes the request; the
+// request's context then cancels the run in synth, as it does when a
+// client goes away.
+//
 // # Drawing
 //
 // Plots and stage schematics come through the small interfaces [Plots] and
 // [Schematics] of [Deps], so that the handler does not depend on how they
 // are drawn; a nil one leaves its part out of the page. The SVG they write
-// is inlined into the page with its XML prolog removed.
+// is inlined into the page with its XML prolog removed. A Plots that also
+// implements [NoisePlots] draws the noise density plot, which the page
+// shows and offers as GET /download/noise-svg (a download of the page's
+// own, not an export kind of package export).
 //
 // # Hardening
 //

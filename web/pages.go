@@ -34,7 +34,7 @@ func (h *handler) home(w http.ResponseWriter, r *http.Request) {
 	var msgs map[string]string
 	filled := ""
 	if err != nil {
-		msgs = placeError(err)
+		msgs = placeError(vals, err)
 	} else if vals[paramFill] != "" {
 		msgs, filled = applyHelper(vals)
 	}
@@ -65,6 +65,10 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 // download serves one export of the spec in the query as a file.
 func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 	kind := chi.URLParam(r, "kind")
+	if np, ok := h.deps.Plots.(NoisePlots); ok && kind == noiseKind {
+		h.downloadNoise(w, r, np)
+		return
+	}
 	if !export.Known(kind) {
 		h.fail(w, r, http.StatusNotFound, fmt.Sprintf("there is no download %q (kinds: %s)", clip(kind), strings.Join(export.Kinds, ", ")), "")
 		return
@@ -84,6 +88,28 @@ func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 	_, _ = w.Write(buf.Bytes())
 }
 
+// downloadNoise serves the noise plot of the spec in the query. It is the
+// page's own download, drawn by Deps.Plots, not an export kind.
+func (h *handler) downloadNoise(w http.ResponseWriter, r *http.Request, np NoisePlots) {
+	_, d, ok := h.designFromQuery(w, r)
+	if !ok {
+		return
+	}
+	if d.Noise == nil {
+		h.fail(w, r, http.StatusNotImplemented, "this design has no noise analysis (it needs the circuit)", "")
+		return
+	}
+	var buf bytes.Buffer
+	if err := np.Noise(&buf, d); err != nil {
+		h.internal(w, r, err)
+		return
+	}
+	w.Header().Set("Content-Type", "image/svg+xml")
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", noiseFileName))
+	w.Header().Set("Cache-Control", "no-store")
+	_, _ = w.Write(buf.Bytes())
+}
+
 // designFromQuery parses and synthesises the spec of r's query. On failure
 // it has answered (the form with the error for a bad spec) and returns
 // ok = false.
@@ -97,7 +123,7 @@ func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formV
 		return vals, d, true
 	}
 	if _, ok := synth.IsFieldError(err); ok {
-		h.render(w, r, http.StatusBadRequest, components.Home(buildForm(vals, placeError(err)), "Correct the field marked below and design again."))
+		h.render(w, r, http.StatusBadRequest, components.Home(buildForm(vals, placeError(vals, err)), "Correct the field marked below and design again."))
 		return nil, nil, false
 	}
 	h.synthFailed(w, r, err)
@@ -178,13 +204,18 @@ func initialValues() formValues {
 
 // placeError turns a spec error into messages by control name; a message
 // that concerns no control is under the key "".
-func placeError(err error) map[string]string {
+func placeError(vals formValues, err error) map[string]string {
 	fe, ok := synth.IsFieldError(err)
 	if !ok {
 		return map[string]string{"": "the spec cannot be read"}
 	}
 	if f, ok := fieldByJSON(fe.Field); ok {
 		return map[string]string{f.Name: practitionerReason(fe.Reason)}
+	}
+	if fe.Field == "converter" {
+		// Synth takes the converter whole: the message goes beside the
+		// first of its controls left empty.
+		return map[string]string{missingConverterField(vals): "the converter needs its sample rate, resolution and full scale together; give all three, or leave all three empty"}
 	}
 	if f, ok := lookupField(fe.Field); ok {
 		return map[string]string{f.Name: practitionerReason(fe.Reason)}
@@ -195,10 +226,26 @@ func placeError(err error) map[string]string {
 	return map[string]string{"": practitionerReason(fe.Field + ": " + fe.Reason)}
 }
 
+// missingConverterField is the first converter control of vals that is
+// empty (the first control when none is).
+func missingConverterField(vals formValues) string {
+	for _, name := range converterFields {
+		if strings.TrimSpace(vals[name]) == "" {
+			return name
+		}
+	}
+	return converterFields[0]
+}
+
 // helperNote explains the converter helper on the form.
 const helperNote = "For an anti-alias lowpass in front of a converter: the stopband edge becomes " +
 	"fs − fb (the lowest frequency that folds back into the signal band) and the attenuation " +
-	"6.02·N + 1.76 dB (the ideal N-bit quantisation SNR, common practice). Both stay editable."
+	"6.02·N + 1.76 dB (the ideal N-bit quantisation SNR, common practice). Both stay editable. " +
+	"An empty sample rate or resolution is taken from the converter fields above."
+
+// helperFallback names the converter field whose value the helper uses
+// when its own is empty.
+var helperFallback = map[string]string{paramRate: "converter_sample_rate_hz", paramBits: "converter_bits"}
 
 // applyHelper fills the stopband edge and attenuation (and an empty
 // passband edge) from the converter fields of vals. It returns messages by
@@ -208,6 +255,14 @@ func applyHelper(vals formValues) (map[string]string, string) {
 	num := func(name string) float64 {
 		f, _ := lookupField(name)
 		text := strings.TrimSpace(vals[name])
+		if text == "" {
+			if conv := helperFallback[name]; conv != "" && strings.TrimSpace(vals[conv]) != "" {
+				// The converter's own field stands in; an error in it is
+				// shown beside the helper's, which is where it was used.
+				f, _ = lookupField(conv)
+				text = strings.TrimSpace(vals[conv])
+			}
+		}
 		if text == "" {
 			msgs[name] = "is needed to fill the stopband from a converter"
 			return math.NaN()
@@ -251,7 +306,7 @@ func applyHelper(vals formValues) (map[string]string, string) {
 
 // buildForm is the form view of vals, with msgs beside their controls.
 func buildForm(vals formValues, msgs map[string]string) components.Form {
-	form := components.Form{Error: msgs[""], HelperNote: helperNote}
+	form := components.Form{Error: msgs[""], HelperNote: helperNote, SlowTrials: slowTrials}
 	var cur *components.Group
 	for _, f := range specFields {
 		if cur == nil || cur.Legend != f.Group {
@@ -317,6 +372,22 @@ var downloadKinds = map[string]struct {
 	"bode-svg":  {"Magnitude and phase", "SVG", false, true},
 	"delay-svg": {"Group delay", "SVG", false, true},
 	"step-svg":  {"Step response", "SVG", false, true},
+}
+
+// The noise plot's download: a kind of the page's own, not of package
+// export.
+const (
+	noiseKind     = "noise-svg"
+	noiseFileName = "polewright-noise.svg"
+)
+
+// noiseLink is the address of the noise plot's download for the query.
+func noiseLink(query string) components.Link {
+	return components.Link{
+		Label: "Output noise", Detail: "SVG",
+		Href:     "/download/" + noiseKind + "?" + query,
+		Download: noiseFileName, Kind: noiseKind,
+	}
 }
 
 // downloadLink is the address of the download of kind for the query.

@@ -59,6 +59,8 @@ const (
 	groupBands   = "Response and mask"
 	groupCircuit = "Circuit"
 	groupOpAmp   = "Op-amp"
+	groupBench   = "Tolerances and Monte Carlo"
+	groupConv    = "Converter (optional)"
 	groupHelper  = "From a converter"
 )
 
@@ -101,7 +103,37 @@ var specFields = []field{
 		Placeholder: "100", Hint: "20 to 200 dB", Group: groupOpAmp},
 	{Name: "opamp_ideal", Path: []string{"opamp", "ideal"}, Label: "Ideal op-amp", Noun: "the ideal op-amp", Kind: kindBool,
 		Hint: "infinite gain and bandwidth; leave the two fields above empty when ticked", Group: groupOpAmp},
+	{Name: "opamp_noise_v_per_rthz", Path: []string{"opamp", "noise_v_per_rthz"}, Label: "Input voltage noise (V/√Hz)", Noun: "the op-amp's voltage noise", Kind: kindNumber,
+		Placeholder: "10n", Hint: "white density, 0 to 10 µV/√Hz; 10n is 10 nV/√Hz", Group: groupOpAmp},
+	{Name: "opamp_noise_a_per_rthz", Path: []string{"opamp", "noise_a_per_rthz"}, Label: "Input current noise (A/√Hz)", Noun: "the op-amp's current noise", Kind: kindNumber,
+		Placeholder: "1p", Hint: "white density, 0 to 1 µA/√Hz; 1p is 1 pA/√Hz", Group: groupOpAmp},
+	{Name: "opamp_slew_v_per_s", Path: []string{"opamp", "slew_v_per_s"}, Label: "Slew rate (V/s)", Noun: "the op-amp's slew rate", Kind: kindNumber,
+		Placeholder: "10M", Hint: "10M is 10 V/µs; compared with what each stage needs", Group: groupOpAmp},
+	{Name: "tolerance_resistor_pct", Path: []string{"tolerance", "resistor_pct"}, Label: "Resistor tolerance (%)", Noun: "the resistor tolerance", Kind: kindNumber,
+		Placeholder: "the series' usual (E96: 1)", Hint: "0 or empty: E3 40, E6 20, E12 10, E24 5, E48 2, E96 1, E192 0.5; at most 50", Group: groupBench},
+	{Name: "tolerance_capacitor_pct", Path: []string{"tolerance", "capacitor_pct"}, Label: "Capacitor tolerance (%)", Noun: "the capacitor tolerance", Kind: kindNumber,
+		Placeholder: fmt.Sprint(synth.DefaultCapacitorPct), Hint: "0 or empty: 5; at most 50", Group: groupBench},
+	{Name: "tolerance_distribution", Path: []string{"tolerance", "distribution"}, Label: "Part spread", Noun: "the part spread", Kind: kindChoice,
+		Choices: synth.Distributions, Default: "uniform", Hint: "gaussian takes the tolerance as 3σ", Group: groupBench},
+	{Name: "montecarlo_trials", Path: []string{"montecarlo", "trials"}, Label: "Monte Carlo trials", Noun: "the number of trials", Kind: kindInteger,
+		Placeholder: "0 (none)", Hint: fmt.Sprintf("boards drawn within the tolerances, e.g. 1000; at most %d (more than %d take a few seconds)", synth.MaxTrials, slowTrials), Group: groupBench},
+	{Name: "montecarlo_seed", Path: []string{"montecarlo", "seed"}, Label: "Seed", Noun: "the seed", Kind: kindInteger,
+		Placeholder: "1", Hint: "the same seed draws the same boards", Group: groupBench},
+	{Name: "converter_sample_rate_hz", Path: []string{"converter", "sample_rate_hz"}, Label: "Sample rate (Hz)", Noun: "the converter's sample rate", Kind: kindNumber,
+		Placeholder: "e.g. 48000", Hint: "the noise is integrated up to half of it", Group: groupConv},
+	{Name: "converter_bits", Path: []string{"converter", "bits"}, Label: "Resolution (bits)", Noun: "the converter's resolution", Kind: kindInteger,
+		Placeholder: "e.g. 16", Hint: "1 to 32; sets the LSB and the ±½ LSB settling band", Group: groupConv},
+	{Name: "converter_full_scale_vpp", Path: []string{"converter", "full_scale_vpp"}, Label: "Full scale (V peak to peak)", Noun: "the converter's full scale", Kind: kindNumber,
+		Placeholder: "e.g. 4", Hint: "give all three converter fields, or none", Group: groupConv},
 }
+
+// slowTrials is the number of Monte Carlo trials above which the form
+// says that the run may take a few seconds.
+const slowTrials = 20000
+
+// converterFields are the converter object's controls: synth needs all
+// three or none.
+var converterFields = []string{"converter_sample_rate_hz", "converter_bits", "converter_full_scale_vpp"}
 
 // The converter helper's parameters: not part of the spec, carried along so
 // that the form keeps them.
@@ -113,8 +145,8 @@ const (
 )
 
 var helperFields = []field{
-	{Name: paramRate, Label: "Sample rate (Hz)", Noun: "the sample rate", Kind: kindNumber, Placeholder: "e.g. 200000", Group: groupHelper},
-	{Name: paramBits, Label: "Resolution (bits)", Noun: "the resolution", Kind: kindNumber, Placeholder: "e.g. 18", Group: groupHelper},
+	{Name: paramRate, Label: "Sample rate (Hz)", Noun: "the sample rate", Kind: kindNumber, Placeholder: "the converter's, or e.g. 200000", Group: groupHelper},
+	{Name: paramBits, Label: "Resolution (bits)", Noun: "the resolution", Kind: kindNumber, Placeholder: "the converter's, or e.g. 18", Group: groupHelper},
 	{Name: paramBand, Label: "Signal bandwidth (Hz)", Noun: "the signal bandwidth", Kind: kindNumber, Placeholder: "e.g. 20000", Group: groupHelper},
 }
 
@@ -319,8 +351,14 @@ func canonicalQuery(vals formValues) string {
 	return b.String()
 }
 
-// specWord matches the spec's JSON field names inside a reason text.
-var specWord = regexp.MustCompile(`\b(?:opamp\.)?[a-z][a-z0-9]*(?:_[a-z0-9]+)+\b`)
+// specWord matches the spec's JSON field names inside a reason text: a
+// snake_case name, or a dotted nested one ("opamp.gbw_hz",
+// "montecarlo.trials").
+var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
+
+// nestedObjects are the spec's objects whose fields are named bare inside
+// their own messages ("needs bits, sample_rate_hz and full_scale_vpp").
+var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo"}
 
 // practitionerReason rewrites the JSON field names in a synth reason as
 // the nouns of the form ("must be above the passband edge for a lowpass").
@@ -334,6 +372,11 @@ func practitionerReason(reason string) string {
 			return "gain-bandwidth product"
 		case "dc_gain_db":
 			return "open-loop gain"
+		}
+		for _, obj := range nestedObjects {
+			if f, ok := fieldByJSON(obj + "." + w); ok {
+				return f.Noun
+			}
 		}
 		return w
 	})

@@ -28,6 +28,11 @@ func TestSpecJSON(t *testing.T) {
 		{name: "a window is always a pair", query: "resistor_range_ohm=1000", want: `{"resistor_range_ohm":[1000]}`},
 		{name: "three edges go to synth", query: "passband_hz=1,2,3", want: `{"passband_hz":[1,2,3]}`},
 		{name: "order as typed", query: "order=2.5", want: `{"order":2.5}`},
+		{name: "verification objects", query: "tolerance_resistor_pct=0.1&tolerance_capacitor_pct=1&tolerance_distribution=gaussian&montecarlo_trials=1000&montecarlo_seed=7" +
+			"&converter_bits=16&converter_sample_rate_hz=48k&converter_full_scale_vpp=4&opamp_noise_v_per_rthz=4n&opamp_noise_a_per_rthz=1p&opamp_slew_v_per_s=20M",
+			want: `{"tolerance":{"resistor_pct":0.1,"capacitor_pct":1,"distribution":"gaussian"},"montecarlo":{"trials":1000,"seed":7},` +
+				`"converter":{"bits":16,"sample_rate_hz":48000,"full_scale_vpp":4},"opamp":{"noise_v_per_rthz":4e-9,"noise_a_per_rthz":1e-12,"slew_v_per_s":20000000}}`},
+		{name: "trials not a number", query: "montecarlo_trials=many", field: "montecarlo.trials"},
 		{name: "not a number", query: "passband_hz=fast", field: "passband_hz"},
 		{name: "infinity", query: "stopband_atten_db=Inf", field: "stopband_atten_db"},
 		{name: "empty edge", query: "stopband_hz=100,", field: "stopband_hz"},
@@ -96,6 +101,9 @@ func TestPractitionerReason(t *testing.T) {
 		{"an ideal op-amp takes no gbw_hz or dc_gain_db", "an ideal op-amp takes no gain-bandwidth product or open-loop gain"},
 		{"the edges in mask.design_passband_hz", "the edges in mask.design_passband_hz"}, // not a spec field: kept
 		{"the lowest order that meets the mask", "the lowest order that meets the mask"},
+		{"must be below montecarlo.trials", "must be below the number of trials"},
+		{"needs bits, sample_rate_hz and full_scale_vpp", "needs bits, the converter's sample rate and the converter's full scale"},
+		{"more than opamp.slew_v_per_s", "more than the op-amp's slew rate"},
 	}
 	for _, tc := range tests {
 		require.Equal(t, tc.want, practitionerReason(tc.in))

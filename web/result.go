@@ -56,10 +56,16 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		return res, err
 	}
 	res.Columns, res.Stages = stageTable(d, ch, hasChain, views)
+	tol := newTolerances(d)
+	for i := range res.Stages {
+		res.Stages[i].Details = stageDetails(d.Sections[i], tol)
+	}
+	res.Bench = benchView(d)
 	res.TableNote = "Gain is the stage's own gain at its reference frequency (DC for lowpass kinds, high frequency for highpass, f0 for bandpass). " +
 		"Peak at output is the highest level over frequency at the stage's output, relative to the filter's passband gain: at or below 0 dB, no stage clips before the output does."
 	if hasChain {
-		res.TableNote += " Built values use the exported part values and the spec's op-amp; the GBW needed keeps the op-amp's own effect on f0 and Q within 1 %."
+		res.TableNote += " Built values use the exported part values and the spec's op-amp; the GBW needed keeps the op-amp's own effect on f0 and Q within 1 % " +
+			"(beside it the rule of thumb 100·Q·f0, common practice); the slew rate needed is 2π·f·Vpeak of a full-scale sine at the passband edge at the stage's output."
 	}
 
 	// Drawings: the plots and schematics are independent, so they are
@@ -83,10 +89,29 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 			})
 		}
 	}
+	var noisePlot *components.Plot
+	if np, ok := h.deps.Plots.(NoisePlots); ok && d.Noise != nil {
+		wg.Go(func() {
+			svg, err := drawSVG(func(w io.Writer) error { return np.Noise(w, d) })
+			if err != nil {
+				h.logWarn(ctx, "plot failed", err, slog.String("plot", noiseKind))
+				return
+			}
+			noisePlot = &components.Plot{
+				Title:   "Output noise density",
+				Caption: "Output noise density of the circuit as built; dashed: the converter's quantisation noise LSB/√12 spread evenly over 0 to fs/2, when a converter is given.",
+				SVG:     svg, TestID: "plot-" + noiseKind, Download: noiseLink(query),
+			}
+			noisePlot.Download.Label = "Download SVG"
+		})
+	}
 	if hasChain {
 		res.Cards = make([]components.StageCard, len(ch.Stages))
 		for k := range ch.Stages {
 			res.Cards[k] = stageCard(ch, k)
+			if k < len(d.Sections) {
+				fillPartBench(&res.Cards[k], d.Sections[k], tol)
+			}
 			if h.deps.Schematics == nil {
 				continue
 			}
@@ -101,6 +126,9 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		}
 	}
 	wg.Wait()
+	if res.Bench != nil {
+		res.Bench.NoisePlot = noisePlot
+	}
 	for _, p := range plots {
 		if p.SVG != nil {
 			res.Plots = append(res.Plots, p)
@@ -119,6 +147,9 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 			continue
 		}
 		res.Downloads = append(res.Downloads, downloadLink(kind, query))
+	}
+	if _, ok := h.deps.Plots.(NoisePlots); ok && d.Noise != nil {
+		res.Downloads = append(res.Downloads, noiseLink(query))
 	}
 	return res, nil
 }
@@ -249,6 +280,7 @@ type sectionView struct {
 	OpAmpNeeds *struct {
 		GBWHz            *float64 `json:"gbw_hz"`
 		RuleOfThumbGBWHz float64  `json:"rule_of_thumb_gbw_hz"`
+		SlewVPerS        *float64 `json:"slew_v_per_s"`
 	} `json:"opamp_needs"`
 	Warnings []string `json:"warnings"`
 }
@@ -271,10 +303,11 @@ func sectionViews(d *synth.Design) ([]sectionView, error) {
 // stageTable is the header and rows of the stage table of d. The as-built
 // and op-amp columns appear only when the design has them.
 func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectionView) ([]string, []components.StageRow) {
-	built, needs, zeros := false, false, false
+	built, needs, zeros, slews := false, false, false, false
 	for i, v := range views {
 		built = built || v.Realized != nil
 		needs = needs || v.OpAmpNeeds != nil
+		slews = slews || (v.OpAmpNeeds != nil && v.OpAmpNeeds.SlewVPerS != nil && *v.OpAmpNeeds.SlewVPerS > 0)
 		zeros = zeros || d.Sections[i].ZeroHz != nil
 	}
 	cols := []string{"#", "Kind", "f0", "Q"}
@@ -286,7 +319,10 @@ func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectio
 		cols = append(cols, "f0 built (error)", "Q built (error)")
 	}
 	if needs {
-		cols = append(cols, "GBW needed")
+		cols = append(cols, "GBW needed (rule of thumb)")
+	}
+	if slews {
+		cols = append(cols, "Slew needed")
 	}
 	rows := make([]components.StageRow, len(d.Sections))
 	for i, s := range d.Sections {
@@ -347,8 +383,18 @@ func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectio
 				default:
 					g = "none up to 1 THz"
 				}
+				if n.RuleOfThumbGBWHz > 0 {
+					g += " (" + si(n.RuleOfThumbGBWHz, "Hz", 3) + ")"
+				}
 			}
 			cells = append(cells, g)
+		}
+		if slews {
+			sl := "—"
+			if n := v.OpAmpNeeds; n != nil && n.SlewVPerS != nil && *n.SlewVPerS > 0 {
+				sl = slew(*n.SlewVPerS)
+			}
+			cells = append(cells, sl)
 		}
 		reason := v.TopologyReason
 		if reason == "" {

@@ -44,6 +44,16 @@ type Plots interface {
 	Step(w io.Writer, d *synth.Design) error
 }
 
+// NoisePlots is what a [Plots] may also draw: the output noise density.
+// When Deps.Plots implements it, the result page shows the noise plot and
+// offers it as the download noise-svg (a kind of the page's own, not of
+// package export).
+type NoisePlots interface {
+	// Noise writes the output noise density plot of d, which has
+	// d.Noise.
+	Noise(w io.Writer, d *synth.Design) error
+}
+
 // Schematics draws the circuit of one stage of a chain as an SVG document.
 type Schematics interface {
 	// Stage writes the schematic of ch.Stages[stage-1] (stage is 1-based),

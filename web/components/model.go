@@ -26,6 +26,10 @@ type Form struct {
 	Error string
 	// Filled reports that the helper has just filled the stopband.
 	Filled string
+	// SlowTrials is the number of Monte Carlo trials above which the
+	// page's script says, while the design runs, that it may take a few
+	// seconds, and offers to stop it.
+	SlowTrials int
 }
 
 // HasErrors reports whether the form carries any error message.
@@ -120,6 +124,9 @@ type Result struct {
 	Cards []StageCard
 	// Plots are the SVG plots, in order.
 	Plots []Plot
+	// Bench is the panel on tolerances, noise and settling; nil when the
+	// design has none of them (no circuit).
+	Bench *Bench
 	// Downloads are the export links.
 	Downloads []Link
 	// Permalink is the address of this result page.
@@ -142,6 +149,15 @@ type StageRow struct {
 	Reason string
 	// Warnings flag what an engineer should look at in this stage.
 	Warnings []string
+	// Details are further labelled lines under the row: the most
+	// sensitive parts, the tolerances they need.
+	Details []Detail
+}
+
+// Detail is one labelled line of text; Bad marks it as a warning.
+type Detail struct {
+	Label, Text string
+	Bad         bool
 }
 
 // StageCard is one stage's schematic and parts.
@@ -151,11 +167,91 @@ type StageCard struct {
 	SVG templ.Component
 	// Parts are the parts of the stage.
 	Parts []PartRow
+	// Sensitive reports that the part rows carry tolerances and
+	// sensitivities.
+	Sensitive bool
 }
 
-// PartRow is one part of a stage: value as built and exact value.
+// PartRow is one part of a stage: value as built and exact value, and,
+// when the design has them, its tolerance, the normalised sensitivities
+// of the stage's f0 and Q to it and the tolerance it needs (Loose: its
+// own is wider).
 type PartRow struct {
 	Ref, Kind, Value, Exact, Deviation, Series string
+	Tolerance, SensF0, SensQ, Needs            string
+	Loose                                      bool
+}
+
+// Bench is the "Will it work on the bench" panel: the Monte Carlo, the
+// noise against the converter and the settling.
+type Bench struct {
+	// Figures are the headline numbers.
+	Figures []Figure
+	// Checks are the verdicts, good or bad, in words.
+	Checks []Check
+	// MonteCarlo is nil when the spec asks for no trials; Hint then says
+	// how to ask.
+	MonteCarlo *MonteCarloView
+	Hint       string
+	// NoisePlot is the noise density plot; nil when none was drawn.
+	NoisePlot *Plot
+	// Contributors are the largest noise contributors; ContributorsNote
+	// says what the table leaves out.
+	Contributors     []ContributorRow
+	ContributorsNote string
+	// Notes explain the panel's figures.
+	Notes []string
+}
+
+// Check is one verdict of the bench panel.
+type Check struct {
+	Good   bool
+	Text   string
+	TestID string
+}
+
+// MonteCarloView is the Monte Carlo part of the bench panel.
+type MonteCarloView struct {
+	// Summary says how many trials, which seed and which tolerances.
+	Summary string
+	// Columns and Rows are the per-stage spread of f0 and Q.
+	Columns []string
+	Rows    [][]string
+	// Histograms are the edge-loss histograms.
+	Histograms []Histogram
+}
+
+// Histogram is a small bar chart of the trials' loss at one frequency,
+// laid out in SVG user units (viewBox 0 0 Width Height).
+type Histogram struct {
+	Title, Caption string
+	Width, Height  int
+	Bars           []Bar
+	// LimitX is the x of the mask's limit, HasLimit whether it is drawn.
+	LimitX   string
+	HasLimit bool
+	// Axis labels under the bars: the lowest and highest loss, and the
+	// limit.
+	LoLabel, HiLabel, LimitLabel string
+	// LimitAnchor is the text-anchor of the limit's label (kept inside).
+	LimitAnchor string
+	// BaseY is the y of the bars' baseline.
+	BaseY  string
+	TestID string
+}
+
+// Bar is one bar of a [Histogram]; Bad marks trials that miss the mask.
+type Bar struct {
+	X, Y, W, H string
+	Bad        bool
+	// Title is the bar's tooltip: its range and count.
+	Title string
+}
+
+// ContributorRow is one noise contributor: designator, kind, share of the
+// output noise power and its own rms value at the output.
+type ContributorRow struct {
+	Ref, Kind, Share, RMS string
 }
 
 // Plot is one inline SVG plot with its download link.

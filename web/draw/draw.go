@@ -34,6 +34,11 @@ func (p Plots) GroupDelay(w io.Writer, d *synth.Design) error {
 // Step writes the step response plot of d.
 func (p Plots) Step(w io.Writer, d *synth.Design) error { return plotting.Step(w, d, p.Options) }
 
+var _ web.NoisePlots = Plots{}
+
+// Noise writes the output noise density plot of d.
+func (p Plots) Noise(w io.Writer, d *synth.Design) error { return plotting.Noise(w, d, p.Options) }
+
 // Schematics draws stage schematics with package plotting/schematic,
 // labelled with the chain-wide designators of the SPICE deck and the bill
 // of materials.

@@ -1,6 +1,61 @@
 // polewright workbench: the converter helper fills the stopband edge and
-// attenuation in place, without a round trip. Without this script the
-// helper's button asks the server to do the same.
+// attenuation in place, without a round trip, and a long Monte Carlo run
+// shows that it is running and can be stopped. Without this script the
+// helper's button asks the server to do the same, and the browser's own
+// stop button stops a run (the server drops a run whose client has gone).
+(function () {
+  "use strict";
+  var status = document.getElementById("run-status");
+  var stop = document.getElementById("run-stop");
+  var text = document.getElementById("run-text");
+  if (!status || !stop || !text || !status.closest("form")) {
+    return;
+  }
+  var form = status.closest("form");
+  var slow = Number(status.getAttribute("data-slow-trials")) || 20000;
+  var timer = null;
+  function reset() {
+    if (timer !== null) {
+      clearInterval(timer);
+      timer = null;
+    }
+    status.hidden = true;
+    stop.hidden = false;
+  }
+  form.addEventListener("submit", function (ev) {
+    if (ev.submitter && ev.submitter.id === "fill") {
+      return;
+    }
+    var el = form.elements.namedItem("montecarlo_trials");
+    var trials = el ? Number(String(el.value).trim()) : 0;
+    if (!(trials > slow)) {
+      return;
+    }
+    var t0 = Date.now();
+    var say = function () {
+      text.textContent = "Running " + trials + " Monte Carlo trials; this may take a few seconds (" +
+        ((Date.now() - t0) / 1000).toFixed(1) + " s so far).";
+    };
+    say();
+    status.hidden = false;
+    stop.hidden = false;
+    timer = setInterval(say, 200);
+  });
+  stop.addEventListener("click", function () {
+    // Stopping the page's load closes the request; the server's context is
+    // cancelled and the run ends.
+    window.stop();
+    if (timer !== null) {
+      clearInterval(timer);
+      timer = null;
+    }
+    stop.hidden = true;
+    text.textContent = "Stopped. Change the spec (fewer trials, say) and design again.";
+  });
+  // Coming back to the page from the history shows no stale note.
+  window.addEventListener("pageshow", reset);
+})();
+
 (function () {
   "use strict";
   var button = document.getElementById("fill");
@@ -22,9 +77,14 @@
       el.value = v;
     }
   }
+  // An empty helper field takes the converter's (as the server does).
+  function numberOr(name, fallback) {
+    var v = number(name);
+    return value(name) === "" ? number(fallback) : v;
+  }
   button.addEventListener("click", function (ev) {
-    var fs = number("adc_rate_hz");
-    var bits = number("adc_bits");
+    var fs = numberOr("adc_rate_hz", "converter_sample_rate_hz");
+    var bits = numberOr("adc_bits", "converter_bits");
     var fb = number("adc_band_hz");
     var response = value("response");
     // Anything doubtful goes to the server, which explains what is wrong.
