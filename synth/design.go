@@ -140,7 +140,8 @@ type Section struct {
 	// the stage, say).
 	Warnings []string `json:"warnings"`
 	// Sensitivities are the parts' normalised sensitivities of the stage's
-	// f0 and Q, largest first.
+	// f0 and Q with ideal op-amps (the passive sensitivities), largest
+	// first.
 	Sensitivities []Sensitivity `json:"sensitivities"`
 	// RequiredTolerance is the tolerance each part needs for the stage's
 	// f0 within 1 % and Q within 2 % on 99 % of boards (first order).
