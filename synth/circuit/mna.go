@@ -2,6 +2,7 @@ package circuit
 
 import (
 	"fmt"
+	"github.com/polewright/polewright/synth/internal/lu"
 	"math"
 	"math/cmplx"
 )
@@ -162,12 +163,12 @@ func (sys *system) fill(p complex128) {
 // iterative refinement, or ErrSingular.
 func (sys *system) solve(p complex128) (complex128, error) {
 	sys.fill(p)
-	if luFactor(sys.a, sys.n, sys.piv) == 0 {
+	if lu.Factor(sys.a, sys.n, sys.piv) == 0 {
 		return 0, fmt.Errorf("%w: nodal matrix is singular at s = %v rad/s", ErrSingular, p*complex(sys.scale, 0))
 	}
 	clear(sys.x)
 	sys.x[sys.srcRow] = 1
-	luSolve(sys.a, sys.n, sys.piv, sys.x)
+	lu.Solve(sys.a, sys.n, sys.piv, sys.x)
 	// Fixed-precision iterative refinement: the residual b − A·x, solved
 	// with the same factors, corrects x. Two steps make the solution
 	// componentwise accurate, which matters deep in a stopband, where
@@ -189,7 +190,7 @@ func (sys *system) solve(p complex128) (complex128, error) {
 			}
 			r[i] = acc
 		}
-		luSolve(sys.a, n, sys.piv, r)
+		lu.Solve(sys.a, n, sys.piv, r)
 		for i := range r {
 			sys.x[i] += r[i]
 		}
@@ -202,11 +203,11 @@ func (sys *system) solve(p complex128) (complex128, error) {
 // polynomials in p of degree at most sys.deg.
 func (sys *system) detNum(p complex128) (det, num complex128) {
 	sys.fill(p)
-	det = luFactor(sys.a, sys.n, sys.piv)
+	det = lu.Factor(sys.a, sys.n, sys.piv)
 	if det != 0 {
 		clear(sys.x)
 		sys.x[sys.srcRow] = 1
-		luSolve(sys.a, sys.n, sys.piv, sys.x)
+		lu.Solve(sys.a, sys.n, sys.piv, sys.x)
 		return det, det * sys.x[sys.outCol]
 	}
 	// Cramer's rule directly: A is exactly singular at this p.
@@ -216,7 +217,7 @@ func (sys *system) detNum(p complex128) (det, num complex128) {
 		sys.a[i*n+sys.outCol] = 0
 	}
 	sys.a[sys.srcRow*n+sys.outCol] = 1
-	return 0, luFactor(sys.a, n, sys.piv)
+	return 0, lu.Factor(sys.a, n, sys.piv)
 }
 
 // SolveAt returns the stage's voltage transfer V(Out)/V(In) at the complex

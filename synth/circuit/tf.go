@@ -2,6 +2,7 @@ package circuit
 
 import (
 	"fmt"
+	"github.com/polewright/polewright/synth/internal/lu"
 	"math"
 	"slices"
 )
@@ -141,8 +142,8 @@ func (sys *system) onCircle(rho float64, m int, dn, dd []complex128) circle {
 		det, num := sys.detNum(complex(rho*cos, rho*sin))
 		dd[k], dn[k] = det, num
 		w[k] = complex(cos, -sin)
-		maxN = math.Max(maxN, abs1(num))
-		maxD = math.Max(maxD, abs1(det))
+		maxN = math.Max(maxN, lu.Abs1(num))
+		maxD = math.Max(maxD, lu.Abs1(det))
 	}
 	const eps = 0x1p-52
 	c.noiseN, c.noiseD = eps*maxN, eps*maxD

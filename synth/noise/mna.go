@@ -2,6 +2,7 @@ package noise
 
 import (
 	"fmt"
+	"github.com/polewright/polewright/synth/internal/lu"
 	"math"
 
 	"github.com/polewright/polewright/synth/circuit"
@@ -162,12 +163,12 @@ func (sys *stageSys) adjoint(w float64) error {
 			sys.at[i*n+j] = v
 		}
 	}
-	if !luFactor(sys.at, n, sys.piv) {
+	if lu.Factor(sys.at, n, sys.piv) == 0 {
 		return fmt.Errorf("%w: the nodal matrix is singular at %v Hz", circuit.ErrSingular, w/(2*math.Pi))
 	}
 	clear(sys.y)
 	sys.y[sys.outCol] = 1
-	luSolve(sys.at, n, sys.piv, sys.y)
+	lu.Solve(sys.at, n, sys.piv, sys.y)
 	for range 2 {
 		for i := 0; i < n; i++ {
 			var acc complex128
@@ -183,7 +184,7 @@ func (sys *stageSys) adjoint(w float64) error {
 			}
 			sys.r[i] = acc
 		}
-		luSolve(sys.at, n, sys.piv, sys.r)
+		lu.Solve(sys.at, n, sys.piv, sys.r)
 		for i := range sys.r {
 			sys.y[i] += sys.r[i]
 		}
@@ -205,69 +206,4 @@ func (sys *stageSys) accumulate(gain float64, perWho []float64) float64 {
 		total += v
 	}
 	return total
-}
-
-// abs1 is |Re z| + |Im z|, the pivot size of LAPACK's complex routines.
-func abs1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
-
-// luFactor factors the n×n row-major a in place as P·a = L·U with partial
-// pivoting; it reports false for an exactly zero pivot.
-func luFactor(a []complex128, n int, piv []int) bool {
-	for k := 0; k < n; k++ {
-		p, big := k, abs1(a[k*n+k])
-		for i := k + 1; i < n; i++ {
-			if v := abs1(a[i*n+k]); v > big {
-				p, big = i, v
-			}
-		}
-		piv[k] = p
-		if big == 0 {
-			return false
-		}
-		if p != k {
-			rk, rp := a[k*n:k*n+n], a[p*n:p*n+n]
-			for j := range rk {
-				rk[j], rp[j] = rp[j], rk[j]
-			}
-		}
-		inv := 1 / a[k*n+k]
-		rk := a[k*n+k+1 : k*n+n]
-		for i := k + 1; i < n; i++ {
-			ri := a[i*n+k : i*n+n]
-			l := ri[0] * inv
-			ri[0] = l
-			if l == 0 {
-				continue
-			}
-			ri = ri[1:]
-			for j, u := range rk {
-				ri[j] -= l * u
-			}
-		}
-	}
-	return true
-}
-
-// luSolve solves a·x = b in place in b with the factors of luFactor.
-func luSolve(a []complex128, n int, piv []int, b []complex128) {
-	for k := 0; k < n; k++ {
-		if p := piv[k]; p != k {
-			b[k], b[p] = b[p], b[k]
-		}
-	}
-	for i := 1; i < n; i++ {
-		s := b[i]
-		for j, l := range a[i*n : i*n+i] {
-			s -= l * b[j]
-		}
-		b[i] = s
-	}
-	for i := n - 1; i >= 0; i-- {
-		s := b[i]
-		row := a[i*n : i*n+n]
-		for j := i + 1; j < n; j++ {
-			s -= row[j] * b[j]
-		}
-		b[i] = s / row[i]
-	}
 }

@@ -1,21 +1,24 @@
-package circuit
+// Package lu factors and solves small dense complex systems by Gaussian
+// elimination with partial pivoting: the nodal systems of the circuit,
+// noise and verification code.
+package lu
 
 import "math"
 
-// abs1 is |Re z| + |Im z|, the pivot size LAPACK's complex routines use.
-func abs1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
+// Abs1 is |Re z| + |Im z|, the pivot size LAPACK's complex routines use.
+func Abs1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
 
-// luFactor factors the n×n row-major matrix a in place as P·a = L·U with
+// Factor factors the n×n row-major matrix a in place as P·a = L·U with
 // partial pivoting (L unit lower triangular, stored below the diagonal; U
 // on and above it); piv[k] is the row exchanged with row k at step k. It
 // returns det(a), which is exactly 0 when a pivot is exactly zero; the
 // factors are then unusable for solving.
-func luFactor(a []complex128, n int, piv []int) complex128 {
+func Factor(a []complex128, n int, piv []int) complex128 {
 	det := complex(1, 0)
 	for k := 0; k < n; k++ {
-		p, big := k, abs1(a[k*n+k])
+		p, big := k, Abs1(a[k*n+k])
 		for i := k + 1; i < n; i++ {
-			if v := abs1(a[i*n+k]); v > big {
+			if v := Abs1(a[i*n+k]); v > big {
 				p, big = i, v
 			}
 		}
@@ -50,9 +53,9 @@ func luFactor(a []complex128, n int, piv []int) complex128 {
 	return det
 }
 
-// luSolve solves a·x = b in place in b, with a and piv from a [luFactor]
+// Solve solves a·x = b in place in b, with a and piv from a [Factor]
 // that returned a non-zero determinant.
-func luSolve(a []complex128, n int, piv []int, b []complex128) {
+func Solve(a []complex128, n int, piv []int, b []complex128) {
 	for k := 0; k < n; k++ {
 		if p := piv[k]; p != k {
 			b[k], b[p] = b[p], b[k]
