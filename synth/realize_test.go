@@ -1,6 +1,7 @@
 package synth_test
 
 import (
+	"context"
 	"math"
 	"math/cmplx"
 	"testing"
@@ -84,4 +85,23 @@ func TestSlowOpAmpIsFlagged(t *testing.T) {
 		}
 	}
 	require.Positive(t, flagged)
+}
+
+// TestProgress: a Monte Carlo run reports its progress, increasing, up to
+// the trial count.
+func TestProgress(t *testing.T) {
+	t.Parallel()
+	s := baseSpec(synth.Lowpass, "butterworth")
+	s.Order, s.PassbandHz, s.StopbandHz = 4, []float64{1000}, []float64{4000}
+	s.MonteCarlo = synth.MonteCarlo{Trials: 3000, Seed: 2}
+	last, calls := 0, 0
+	ctx := synth.WithProgress(context.Background(), func(done, total int) {
+		require.Equal(t, 3000, total)
+		require.GreaterOrEqual(t, done, last)
+		last, calls = done, calls+1
+	})
+	_, err := synth.Synthesize(ctx, s)
+	require.NoError(t, err)
+	require.Positive(t, calls)
+	require.Equal(t, 3000, last)
 }

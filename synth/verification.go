@@ -287,9 +287,14 @@ func (d *Design) monteCarlo(ctx context.Context, ch circuit.Chain) error {
 		ResistorPct: s.Tolerance.ResistorPct, CapacitorPct: s.Tolerance.CapacitorPct,
 		Distribution: verify.Distribution(s.Tolerance.Distribution),
 	}
-	r, err := verify.MonteCarlo(ctx, ch, tol, verify.MonteCarloOptions{
+	opt := verify.MonteCarloOptions{
 		Trials: s.MonteCarlo.Trials, Seed: s.MonteCarlo.Seed, FreqHz: grid, Edges: edges,
-	}, meets)
+	}
+	if report, ok := ctx.Value(progressKey{}).(func(done, total int)); ok {
+		total := s.MonteCarlo.Trials
+		opt.Progress = func(done int) { report(done, total) }
+	}
+	r, err := verify.MonteCarlo(ctx, ch, tol, opt, meets)
 	if err != nil {
 		if ctx.Err() != nil {
 			return ctx.Err()
@@ -342,4 +347,15 @@ func (d *Design) maskRegions(grid []float64) (pass, stop []bool) {
 		}
 	}
 	return pass, stop
+}
+
+// progressKey is the context key of a Monte Carlo progress callback.
+type progressKey struct{}
+
+// WithProgress returns a context under which [Synthesize] reports the
+// progress of the Monte Carlo the spec asks for: report(done, total) is
+// called after each block of trials, never concurrently, with increasing
+// done. A run without trials never calls it.
+func WithProgress(ctx context.Context, report func(done, total int)) context.Context {
+	return context.WithValue(ctx, progressKey{}, report)
 }
