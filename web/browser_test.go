@@ -236,6 +236,46 @@ func TestBrowser(t *testing.T) {
 		require.Equal(t, "true", invalid)
 		require.Equal(t, "800", step(t, ctx, "kept", chromedp.Value(chromedp.CSS("#f-stopband_hz"))), "the form keeps what was typed")
 	})
+
+	// A long Monte Carlo is followed on the progress stream; Cancel stops
+	// it and the page stays; left alone, the page loads the permalink.
+	t.Run("long run", func(t *testing.T) {
+		step(t, ctx, "open", chromedp.Navigate(srv.URL+"/"))
+		step(t, ctx, "fill", chromedp.Steps(
+			setField("f-approximation", "chebyshev1"),
+			setField("f-passband_hz", "20000"),
+			setField("f-stopband_hz", "180000"),
+			setField("f-passband_ripple_db", "0.1"),
+			setField("f-stopband_atten_db", "110.12"),
+			setField("f-montecarlo_trials", "100000"),
+		))
+		step(t, ctx, "submit", chromedp.Evaluate[bool](`document.querySelector('[data-testid="submit"]').click(); true`))
+		// At the first progress event (the stream works under the CSP), the
+		// Cancel button, in the same turn of the page's event loop.
+		seen := step(t, ctx, "progress, then cancel", chromedp.Poll[string](`(() => {
+			const t = document.getElementById("run-text").textContent;
+			const bar = document.getElementById("run-progress");
+			if (!/^Monte Carlo: \d+ of 100000 trials$/.test(t) || bar.hidden || !(bar.value > 0)) { return ""; }
+			document.getElementById("run-stop").click();
+			return t;
+		})()`, chromedp.WithPollingTimeout(20*time.Second)))
+		t.Logf("cancelled at %q", seen)
+		require.Empty(t, step(t, ctx, "csp", chromedp.Evaluate[[]string](`window.__csp || []`)), "the stream needs nothing the CSP forbids")
+		text := step(t, ctx, "cancelled", chromedp.Text(chromedp.CSS("#run-text")))
+		require.Contains(t, text, "Cancelled")
+		time.Sleep(500 * time.Millisecond)
+		require.NotContains(t, step(t, ctx, "stayed", chromedp.Location()), "/design", "a cancelled run loads nothing")
+
+		step(t, ctx, "fill", setField("f-montecarlo_trials", "30000"))
+		label := step(t, ctx, "submit", chromedp.Evaluate[string](
+			`document.querySelector('[data-testid="submit"]').click(); document.getElementById("run-text").textContent`))
+		require.Contains(t, label, "Monte Carlo")
+		step(t, ctx, "result", chromedp.WaitVisible(chromedp.CSS(`[data-testid="result"]`)))
+		loc := step(t, ctx, "location", chromedp.Location())
+		require.Contains(t, loc, "/design?")
+		require.Contains(t, loc, "montecarlo_trials=30000")
+		require.NotContains(t, loc, "/progress")
+	})
 }
 
 // bodeCurvesJS counts the stroked, unfilled paths of the magnitude plot

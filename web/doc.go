@@ -5,6 +5,7 @@
 //
 //	GET  /                       the spec form (with the converter helper)
 //	GET  /design?QUERY           the result page of the spec in QUERY (a permalink)
+//	GET  /design/progress?QUERY  the same design as server-sent events (progress, then done or error)
 //	GET  /download/KIND?QUERY    one export of that design as a file
 //	GET  /download/noise-svg?QUERY  its noise density plot (the page's own)
 //	POST /api/v1/design          spec JSON in, design JSON out
@@ -43,11 +44,16 @@
 // noise density plot and the largest contributors, the step figures with
 // the settling time to ±½ LSB (±0.1 % without a converter), and the slew
 // rate needed. Under each stage of the stage table are its most sensitive
-// parts and the tolerances they need. A long Monte Carlo has no progress
-// bar: the page's script says that it runs, with the time so far, and
-// offers to stop it (window.stop), which closes the request; the
-// request's context then cancels the run in synth, as it does when a
-// client goes away.
+// parts and the tolerances they need. When the form asks for more trials
+// than the page calls slow, the page's script follows the run on GET
+// /design/progress: a text/event-stream of "progress" events
+// ({"done":N,"total":T}, at most ten a second), then "done" with the
+// permalink ({"url":"/design?QUERY"}), which the browser loads (designing
+// again: no state is kept), or "error" ({"message", and for a spec at
+// fault "field" and "url"}). The stream's run is bounded by
+// [ProgressTimeout] rather than [DesignTimeout]. Its Cancel button closes
+// the stream; the request's context then cancels the run in synth, as it
+// does whenever a client goes away.
 //
 // # Drawing
 //

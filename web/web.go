@@ -110,17 +110,18 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 		h.fail(w, r, http.StatusMethodNotAllowed, r.Method+" is not accepted at "+r.URL.Path, "")
 	})
 
-	heavy := chi.Chain(
-		middleware.ThrottleWithOpts(middleware.ThrottleOpts{
-			Limit:          deps.Workers,
-			BacklogLimit:   Backlog,
-			BacklogTimeout: BacklogTimeout,
-			StatusCode:     http.StatusServiceUnavailable,
-			RetryAfterFn:   func(bool) time.Duration { return time.Second },
-		}),
-		middleware.Timeout(DesignTimeout),
-		middleware.RequestSize(MaxBodyBytes),
-	)
+	throttle := middleware.ThrottleWithOpts(middleware.ThrottleOpts{
+		Limit:          deps.Workers,
+		BacklogLimit:   Backlog,
+		BacklogTimeout: BacklogTimeout,
+		StatusCode:     http.StatusServiceUnavailable,
+		RetryAfterFn:   func(bool) time.Duration { return time.Second },
+	})
+	heavy := chi.Chain(throttle, middleware.Timeout(DesignTimeout), middleware.RequestSize(MaxBodyBytes))
+	// The progress stream shares the workers but not DesignTimeout: it
+	// bounds its run by ProgressTimeout itself (middleware.Timeout would
+	// answer 504 after the stream has begun).
+	stream := chi.Chain(throttle, middleware.RequestSize(MaxBodyBytes))
 
 	r.Get("/", h.home)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
@@ -129,6 +130,7 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	})
 	r.Handle(static.Prefix+"*", static.Handler())
 	r.With(heavy...).Get("/design", h.design)
+	r.With(stream...).Get("/design/progress", h.designProgress)
 	r.With(heavy...).Get("/download/{kind}", h.download)
 	r.Route("/api", func(r chi.Router) {
 		r.With(heavy...).Post("/v1/design", h.apiDesign)

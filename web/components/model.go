@@ -27,8 +27,8 @@ type Form struct {
 	// Filled reports that the helper has just filled the stopband.
 	Filled string
 	// SlowTrials is the number of Monte Carlo trials above which the
-	// page's script says, while the design runs, that it may take a few
-	// seconds, and offers to stop it.
+	// page's script follows the run on GET /design/progress, showing its
+	// progress and offering to cancel it.
 	SlowTrials int
 }
 

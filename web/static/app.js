@@ -1,26 +1,40 @@
 // polewright workbench: the converter helper fills the stopband edge and
 // attenuation in place, without a round trip, and a long Monte Carlo run
-// shows that it is running and can be stopped. Without this script the
-// helper's button asks the server to do the same, and the browser's own
-// stop button stops a run (the server drops a run whose client has gone).
+// shows its progress and can be cancelled. Without this script the form is
+// a plain GET to /design, the helper's button asks the server to fill the
+// fields, and the browser's own stop button stops a run (the server drops a
+// run whose client has gone).
 (function () {
   "use strict";
   var status = document.getElementById("run-status");
   var stop = document.getElementById("run-stop");
   var text = document.getElementById("run-text");
-  if (!status || !stop || !text || !status.closest("form")) {
+  var bar = document.getElementById("run-progress");
+  if (!status || !stop || !text || !bar || !status.closest("form") || !window.EventSource) {
     return;
   }
   var form = status.closest("form");
   var slow = Number(status.getAttribute("data-slow-trials")) || 20000;
-  var timer = null;
-  function reset() {
-    if (timer !== null) {
-      clearInterval(timer);
-      timer = null;
+  var endpoint = status.getAttribute("data-progress") || "/design/progress";
+  var source = null;
+  function close() {
+    if (source !== null) {
+      source.close();
+      source = null;
     }
+  }
+  function reset() {
+    close();
     status.hidden = true;
+    bar.hidden = true;
     stop.hidden = false;
+  }
+  function data(ev) {
+    try {
+      return JSON.parse(ev.data);
+    } catch (e) {
+      return null;
+    }
   }
   form.addEventListener("submit", function (ev) {
     if (ev.submitter && ev.submitter.id === "fill") {
@@ -31,26 +45,57 @@
     if (!(trials > slow)) {
       return;
     }
-    var t0 = Date.now();
-    var say = function () {
-      text.textContent = "Running " + trials + " Monte Carlo trials; this may take a few seconds (" +
-        ((Date.now() - t0) / 1000).toFixed(1) + " s so far).";
-    };
-    say();
-    status.hidden = false;
+    ev.preventDefault();
+    close();
+    var query = new URLSearchParams(new FormData(form)).toString();
+    // The run is followed as it goes; closing the stream (Cancel, or
+    // leaving the page) cancels it on the server.
+    source = new EventSource(endpoint + "?" + query);
+    bar.removeAttribute("value");
+    bar.removeAttribute("max");
+    bar.hidden = false;
     stop.hidden = false;
-    timer = setInterval(say, 200);
+    status.hidden = false;
+    text.textContent = "Monte Carlo: starting " + trials + " trials";
+    source.addEventListener("progress", function (e) {
+      var p = data(e);
+      if (!p || !(p.total > 0)) {
+        return;
+      }
+      bar.max = p.total;
+      bar.value = p.done;
+      text.textContent = "Monte Carlo: " + p.done + " of " + p.total + " trials";
+    });
+    source.addEventListener("done", function (e) {
+      var d = data(e);
+      close();
+      stop.hidden = true;
+      text.textContent = "Monte Carlo: done; loading the result";
+      window.location.assign(d && d.url ? d.url : form.action + "?" + query);
+    });
+    source.addEventListener("error", function (e) {
+      var d = e.data ? data(e) : null;
+      close();
+      if (!d) {
+        // The stream could not be opened or broke (the server is busy,
+        // say): design the plain way, which explains any failure.
+        window.location.assign(form.action + "?" + query);
+        return;
+      }
+      bar.hidden = true;
+      stop.hidden = true;
+      text.textContent = d.message || "The design failed.";
+      if (d.field && d.url) {
+        // A field at fault: the form shows the message beside it.
+        window.location.assign(d.url);
+      }
+    });
   });
   stop.addEventListener("click", function () {
-    // Stopping the page's load closes the request; the server's context is
-    // cancelled and the run ends.
-    window.stop();
-    if (timer !== null) {
-      clearInterval(timer);
-      timer = null;
-    }
+    close();
+    bar.hidden = true;
     stop.hidden = true;
-    text.textContent = "Stopped. Change the spec (fewer trials, say) and design again.";
+    text.textContent = "Cancelled. Change the spec (fewer trials, say) and design again.";
   });
   // Coming back to the page from the history shows no stale note.
   window.addEventListener("pageshow", reset);
