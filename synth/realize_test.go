@@ -105,3 +105,21 @@ func TestProgress(t *testing.T) {
 	require.Positive(t, calls)
 	require.Equal(t, 3000, last)
 }
+
+// TestGBWSpread: spreading the op-amps' gain-bandwidth widens each stage's
+// f0 spread in the Monte Carlo (the op-amp moves f0 by a share of its own
+// error, so a slow op-amp with a wide spread must show).
+func TestGBWSpread(t *testing.T) {
+	t.Parallel()
+	base := baseSpec(synth.Lowpass, "chebyshev1")
+	base.Order, base.PassbandHz = 4, []float64{20e3}
+	base.OpAmp.GBWHz = 1e6
+	base.MonteCarlo = synth.MonteCarlo{Trials: 2000, Seed: 5}
+	base.Tolerance.ResistorPct, base.Tolerance.CapacitorPct = 0.01, 0.01
+	plain := synthesize(t, base)
+	spread := base
+	spread.Tolerance.GBWPct = 40
+	wide := synthesize(t, spread)
+	last := len(plain.MonteCarlo.Stages) - 1
+	require.Greater(t, wide.MonteCarlo.Stages[last].QStdPct, 2*plain.MonteCarlo.Stages[last].QStdPct)
+}

@@ -75,6 +75,9 @@ type Tolerance struct {
 	CapacitorPct float64 `json:"capacitor_pct"`
 	// Distribution is "uniform" or "gaussian" (the tolerance taken as 3σ).
 	Distribution string `json:"distribution"`
+	// GBWPct spreads each op-amp's gain-bandwidth product within ± this
+	// percentage (our own field; 0, the default, keeps it).
+	GBWPct float64 `json:"gbw_pct"`
 }
 
 // MonteCarlo asks for a tolerance Monte Carlo: Trials draws (0: none),
@@ -201,6 +204,7 @@ type rawTolerance struct {
 	ResistorPct  *float64 `json:"resistor_pct"`
 	CapacitorPct *float64 `json:"capacitor_pct"`
 	Distribution *string  `json:"distribution"`
+	GBWPct       *float64 `json:"gbw_pct"`
 }
 
 type rawMonteCarlo struct {
@@ -468,7 +472,7 @@ func (raw rawSpec) build() (Spec, error) {
 	}
 	var tol rawTolerance
 	if ok, err := decodeObject("tolerance", raw.Tolerance, &tol, `{"resistor_pct": 1, "capacitor_pct": 5, "distribution": "uniform"}`,
-		"resistor_pct, capacitor_pct, distribution"); err != nil {
+		"resistor_pct, capacitor_pct, distribution, gbw_pct"); err != nil {
 		return Spec{}, err
 	} else if ok {
 		if tol.ResistorPct != nil {
@@ -476,6 +480,9 @@ func (raw rawSpec) build() (Spec, error) {
 		}
 		if tol.CapacitorPct != nil {
 			s.Tolerance.CapacitorPct = *tol.CapacitorPct
+		}
+		if tol.GBWPct != nil {
+			s.Tolerance.GBWPct = *tol.GBWPct
 		}
 		if tol.Distribution != nil {
 			if s.Tolerance.Distribution, err = oneOf("tolerance.distribution", *tol.Distribution, Distributions); err != nil {
@@ -727,7 +734,7 @@ func (s Spec) validateVerification() error {
 	for _, f := range []struct {
 		field string
 		v     float64
-	}{{"tolerance.resistor_pct", t.ResistorPct}, {"tolerance.capacitor_pct", t.CapacitorPct}} {
+	}{{"tolerance.resistor_pct", t.ResistorPct}, {"tolerance.capacitor_pct", t.CapacitorPct}, {"tolerance.gbw_pct", t.GBWPct}} {
 		if err := finite(f.field, f.v); err != nil {
 			return err
 		}

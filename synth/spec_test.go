@@ -106,6 +106,7 @@ func TestParseSpecErrors(t *testing.T) {
 		{"ideal with gbw", `{"passband_hz": 1000, "order": 2, "opamp": {"ideal": true, "gbw_hz": 1e6}}`, "opamp.ideal", "ideal"},
 		{"tolerance unknown", `{"passband_hz": 1000, "order": 2, "tolerance": {"inductor_pct": 5}}`, "tolerance.inductor_pct", "unknown field"},
 		{"tolerance negative", `{"passband_hz": 1000, "order": 2, "tolerance": {"resistor_pct": -1}}`, "tolerance.resistor_pct", "0 to 50"},
+		{"gbw spread", `{"passband_hz": 1000, "order": 2, "tolerance": {"gbw_pct": 80}}`, "tolerance.gbw_pct", "0 to 50"},
 		{"tolerance distribution", `{"passband_hz": 1000, "order": 2, "tolerance": {"distribution": "triangular"}}`, "tolerance.distribution", "one of"},
 		{"too many trials", `{"passband_hz": 1000, "order": 2, "montecarlo": {"trials": 100001}}`, "montecarlo.trials", "at most 100000"},
 		{"fractional trials", `{"passband_hz": 1000, "order": 2, "montecarlo": {"trials": 2.5}}`, "montecarlo.trials", "whole number"},

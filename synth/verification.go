@@ -285,7 +285,7 @@ func (d *Design) monteCarlo(ctx context.Context, ch circuit.Chain) error {
 	}
 	tol := verify.Tolerance{
 		ResistorPct: s.Tolerance.ResistorPct, CapacitorPct: s.Tolerance.CapacitorPct,
-		Distribution: verify.Distribution(s.Tolerance.Distribution),
+		Distribution: verify.Distribution(s.Tolerance.Distribution), GBWSpreadPct: s.Tolerance.GBWPct,
 	}
 	opt := verify.MonteCarloOptions{
 		Trials: s.MonteCarlo.Trials, Seed: s.MonteCarlo.Seed, FreqHz: grid, Edges: edges,

@@ -20,7 +20,7 @@
 // flattened with underscores: the op-amp (opamp_gbw_hz, opamp_dc_gain_db,
 // opamp_ideal=1, opamp_noise_v_per_rthz, opamp_noise_a_per_rthz,
 // opamp_slew_v_per_s), the tolerances (tolerance_resistor_pct,
-// tolerance_capacitor_pct, tolerance_distribution), the Monte Carlo
+// tolerance_capacitor_pct, tolerance_distribution, tolerance_gbw_pct), the Monte Carlo
 // (montecarlo_trials, montecarlo_seed) and the converter
 // (converter_bits, converter_sample_rate_hz, converter_full_scale_vpp:
 // all three or none). An empty value means the field is absent, so that

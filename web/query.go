@@ -115,6 +115,8 @@ var specFields = []field{
 		Placeholder: fmt.Sprint(synth.DefaultCapacitorPct), Hint: "0 or empty: 5; at most 50", Group: groupBench},
 	{Name: "tolerance_distribution", Path: []string{"tolerance", "distribution"}, Label: "Part spread", Noun: "the part spread", Kind: kindChoice,
 		Choices: synth.Distributions, Default: "uniform", Hint: "gaussian takes the tolerance as 3σ", Group: groupBench},
+	{Name: "tolerance_gbw_pct", Path: []string{"tolerance", "gbw_pct"}, Label: "Op-amp GBW spread (%)", Noun: "the op-amp GBW spread", Kind: kindNumber,
+		Placeholder: "0 (none)", Hint: "each op-amp's gain-bandwidth drawn within ± this; at most 50", Group: groupBench},
 	{Name: "montecarlo_trials", Path: []string{"montecarlo", "trials"}, Label: "Monte Carlo trials", Noun: "the number of trials", Kind: kindInteger,
 		Placeholder: "0 (none)", Hint: fmt.Sprintf("boards drawn within the tolerances, e.g. 1000; at most %d (more than %d take a few seconds)", synth.MaxTrials, slowTrials), Group: groupBench},
 	{Name: "montecarlo_seed", Path: []string{"montecarlo", "seed"}, Label: "Seed", Noun: "the seed", Kind: kindInteger,
