@@ -197,24 +197,6 @@ func TestHeadroomNotWorseThanAscendingQ(t *testing.T) {
 	}
 }
 
-func cmpF(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
-}
-
-func logSpace(lo, hi float64, n int) []float64 {
-	g := make([]float64, n)
-	for i := range g {
-		g[i] = lo * math.Pow(hi/lo, float64(i)/float64(n-1))
-	}
-	return g
-}
-
 // TestExamples designs every example spec: each must build, meet its mask
 // and carry INTERFACE.md's design fields.
 func TestExamples(t *testing.T) {
