@@ -12,65 +12,18 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/circuit/circuittest"
 	"github.com/polewright/polewright/synth/circuit/spicerun"
 	"github.com/polewright/polewright/synth/step"
 )
 
-// Circuits for the simulator check, in the layout of package circuit's
-// tests (stage-local nodes, output "out").
-
-func ckPart(ref string, k circuit.PartKind, a, b string, v float64) circuit.Part {
-	return circuit.Part{Ref: ref, Kind: k, A: a, B: b, Value: v, Exact: v, TolerancePct: 1}
-}
-
-func ckRCBuffer(r, c float64) circuit.Stage {
-	return circuit.Stage{
-		Topology: "rc-buffer",
-		Parts:    []circuit.Part{ckPart("R1", circuit.Resistor, "in", "n1", r), ckPart("C1", circuit.Capacitor, "n1", "0", c)},
-		OpAmps:   []circuit.OpAmp{{Ref: "U1", Plus: "n1", Minus: "out", Out: "out"}},
-		Out:      "out",
-	}
-}
-
-func ckSallenKey(r1, r2, c1, c2 float64) circuit.Stage {
-	return circuit.Stage{
-		Topology: "sallen-key",
-		Parts: []circuit.Part{
-			ckPart("R1", circuit.Resistor, "in", "n1", r1), ckPart("R2", circuit.Resistor, "n1", "n2", r2),
-			ckPart("C1", circuit.Capacitor, "n1", "out", c1), ckPart("C2", circuit.Capacitor, "n2", "0", c2),
-		},
-		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n2", Minus: "out", Out: "out"}},
-		Out:    "out",
-	}
-}
-
-func ckMFB(r1, r2, r3, c1, c2 float64) circuit.Stage {
-	return circuit.Stage{
-		Topology: "multiple-feedback",
-		Parts: []circuit.Part{
-			ckPart("R1", circuit.Resistor, "in", "n1", r1), ckPart("R2", circuit.Resistor, "n1", "out", r2),
-			ckPart("R3", circuit.Resistor, "n1", "n2", r3),
-			ckPart("C1", circuit.Capacitor, "n1", "0", c1), ckPart("C2", circuit.Capacitor, "n2", "out", c2),
-		},
-		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "0", Minus: "n2", Out: "out"}},
-		Out:    "out",
-	}
-}
-
-// ckButterworth8 is the 8th-order Butterworth lowpass at f0Hz as four
-// unity-gain Sallen-Key stages (R1 = R2, C2 = 10 nF, C1 = 4Q²·C2).
-func ckButterworth8(f0Hz float64) []circuit.Stage {
-	var st []circuit.Stage
-	w0 := 2 * math.Pi * f0Hz
-	for k := 4; k >= 1; k-- {
-		q := 1 / (2 * math.Cos(float64(2*k-1)*math.Pi/16))
-		c2 := 10e-9
-		c1 := 4 * q * q * c2
-		r := 1 / (w0 * math.Sqrt(c1*c2))
-		st = append(st, ckSallenKey(r, r, c1, c2))
-	}
-	return st
-}
+// The circuits of the simulator check: package circuittest's stages.
+var (
+	ckRCBuffer     = circuittest.RCBuffer
+	ckSallenKey    = circuittest.SallenKeyLP
+	ckMFB          = circuittest.MFBLP
+	ckButterworth8 = circuittest.Butterworth8
+)
 
 // stepFSTol is the agreement required of the step response against
 // ngspice (issue 5): 0.1 % of full scale.
