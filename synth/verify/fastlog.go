@@ -2,6 +2,20 @@ package verify
 
 import "math"
 
+// The split of ln 2 and the polynomial coefficients of lnNormal and
+// dbInPlace (FreeBSD's e_log.c).
+const (
+	ln2Hi = 6.93147180369123816490e-01
+	ln2Lo = 1.90821492927058770002e-10
+	l1    = 6.666666666666735130e-01
+	l2    = 3.999999999940941908e-01
+	l3    = 2.857142874366239149e-01
+	l4    = 2.222219843214978396e-01
+	l5    = 1.818357216161805012e-01
+	l6    = 1.531383769920937332e-01
+	l7    = 1.479819860511658591e-01
+)
+
 // lnNormal returns ln x for a positive normal float64 x (not Inf), with
 // the algorithm and coefficients of FreeBSD's e_log.c (Sun
 // Microsystems, 1993), which Go's math.Log also uses: x = 2^k·(1+f) with
@@ -13,17 +27,6 @@ import "math"
 // such a loop). lnNormal itself is the reference the tests compare
 // dbInPlace with.
 func lnNormal(x float64) float64 {
-	const (
-		ln2Hi = 6.93147180369123816490e-01
-		ln2Lo = 1.90821492927058770002e-10
-		l1    = 6.666666666666735130e-01
-		l2    = 3.999999999940941908e-01
-		l3    = 2.857142874366239149e-01
-		l4    = 2.222219843214978396e-01
-		l5    = 1.818357216161805012e-01
-		l6    = 1.531383769920937332e-01
-		l7    = 1.479819860511658591e-01
-	)
 	b := math.Float64bits(x)
 	ki := int64(b>>52) - 1022
 	f1 := math.Float64frombits(b&^(0x7ff<<52) | 1022<<52) // in [0.5, 1)
@@ -52,17 +55,6 @@ const minNormal = 0x1p-1022
 // lnNormal's, written out in the loop so that consecutive values
 // overlap.
 func dbInPlace(db []float64) {
-	const (
-		ln2Hi = 6.93147180369123816490e-01
-		ln2Lo = 1.90821492927058770002e-10
-		l1    = 6.666666666666735130e-01
-		l2    = 3.999999999940941908e-01
-		l3    = 2.857142874366239149e-01
-		l4    = 2.222219843214978396e-01
-		l5    = 1.818357216161805012e-01
-		l6    = 1.531383769920937332e-01
-		l7    = 1.479819860511658591e-01
-	)
 	for i, x := range db {
 		if !(x >= minNormal && x <= math.MaxFloat64) {
 			if !(x < 0) {
