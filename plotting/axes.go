@@ -114,10 +114,14 @@ func freqLabel(f float64) string {
 }
 
 // freqTicks returns the ticks of a log frequency axis over [lo, hi]
-// (0 < lo < hi): plot.LogTicks, with the decades labelled with SI prefixes
-// and the 2…9 multiples as minor ticks. A range that holds fewer than two
-// decades gets every tick labelled.
-func freqTicks(lo, hi float64) []plot.Tick {
+// (0 < lo < hi): [decadeTicks] with the labels in SI prefixes.
+func freqTicks(lo, hi float64) []plot.Tick { return decadeTicks(lo, hi, freqLabel) }
+
+// decadeTicks returns the ticks of a logarithmic axis over [lo, hi]
+// (0 < lo < hi): plot.LogTicks, with the decades labelled by label and the
+// 2…9 multiples as minor ticks. A range that holds fewer than two decades
+// gets every tick labelled.
+func decadeTicks(lo, hi float64, label func(float64) string) []plot.Tick {
 	all := plot.LogTicks{Prec: -1}.Ticks(lo, hi)
 	ticks := make([]plot.Tick, 0, len(all))
 	labelled := 0
@@ -126,14 +130,14 @@ func freqTicks(lo, hi float64) []plot.Tick {
 			continue
 		}
 		if t.Label != "" {
-			t.Label = freqLabel(t.Value)
+			t.Label = label(t.Value)
 			labelled++
 		}
 		ticks = append(ticks, t)
 	}
 	if labelled < 2 {
 		for i := range ticks {
-			ticks[i].Label = freqLabel(ticks[i].Value)
+			ticks[i].Label = label(ticks[i].Value)
 		}
 	}
 	return ticks

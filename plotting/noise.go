@@ -125,30 +125,8 @@ func Noise(w io.Writer, d *synth.Design, opt Options) error {
 }
 
 // logTicks returns the ticks of a logarithmic axis over [lo, hi] as
-// plain numbers (0.01, 0.1, 1, 10): the decades labelled, the 2…9
-// multiples as minor ticks; every tick is labelled when fewer than two
-// decades fall within the range.
-func logTicks(lo, hi float64) []plot.Tick {
-	all := plot.LogTicks{Prec: -1}.Ticks(lo, hi)
-	ticks := make([]plot.Tick, 0, len(all))
-	labelled := 0
-	for _, t := range all {
-		if t.Value < lo*(1-1e-9) || t.Value > hi*(1+1e-9) {
-			continue
-		}
-		if t.Label != "" {
-			t.Label = plainNumber(t.Value)
-			labelled++
-		}
-		ticks = append(ticks, t)
-	}
-	if labelled < 2 {
-		for i := range ticks {
-			ticks[i].Label = plainNumber(ticks[i].Value)
-		}
-	}
-	return ticks
-}
+// plain numbers (0.01, 0.1, 1, 10): [decadeTicks] with plainNumber labels.
+func logTicks(lo, hi float64) []plot.Tick { return decadeTicks(lo, hi, plainNumber) }
 
 // plainNumber writes v with up to three significant digits and no
 // exponent: 0.01, 2.5, 1000.
