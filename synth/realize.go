@@ -98,6 +98,17 @@ func (d *Design) realize(ordered []section.Section) error {
 	model := circuit.Model{GBWHz: s.OpAmp.GBWHz, DCGainDB: s.OpAmp.DCGainDB, Ideal: s.OpAmp.Ideal}
 	chain := circuit.Chain{Model: model}
 	for _, r := range results {
+		// Every part carries the spec's tolerance (0: exact), so that the
+		// BOM, the Monte Carlo and the tolerance figures read one value.
+		for j := range r.Stage.Parts {
+			p := &r.Stage.Parts[j]
+			switch p.Kind {
+			case circuit.Resistor:
+				p.TolerancePct = s.Tolerance.ResistorPct
+			case circuit.Capacitor:
+				p.TolerancePct = s.Tolerance.CapacitorPct
+			}
+		}
 		chain.Stages = append(chain.Stages, r.Stage)
 	}
 	if err := chain.Validate(); err != nil {

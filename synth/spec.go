@@ -7,8 +7,11 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
+
+	"github.com/polewright/polewright/standards/eseries"
 )
 
 // Response names the kind of frequency response.
@@ -68,9 +71,10 @@ type OpAmp struct {
 
 // Tolerance is the spread of part values the Monte Carlo draws from.
 type Tolerance struct {
-	// ResistorPct and CapacitorPct are the tolerances in percent; 0 in
-	// the spec JSON (absent) means the resistor series' usual tolerance
-	// and 5 % for capacitors.
+	// ResistorPct and CapacitorPct are the tolerances in percent; an
+	// explicit 0 means exact parts. ParseSpec fills in the resistor
+	// series' usual tolerance and 5 % for capacitors when the spec leaves
+	// them out.
 	ResistorPct  float64 `json:"resistor_pct"`
 	CapacitorPct float64 `json:"capacitor_pct"`
 	// Distribution is "uniform" or "gaussian" (the tolerance taken as 3σ).
@@ -87,12 +91,36 @@ type MonteCarlo struct {
 	Seed   uint64 `json:"seed"`
 }
 
-// Converter is the data converter the filter feeds: it sets the noise
-// band (to half the sample rate), the LSB and the settling tolerance.
+// Converter is the data converter the filter feeds: it sets the alias
+// band, the noise band, the LSB and the settling tolerance.
 type Converter struct {
-	Bits         int     `json:"bits"`
+	Bits int `json:"bits"`
+	// SampleRateHz is the rate at which the converter samples its analog
+	// input (the modulator rate of an oversampling converter).
 	SampleRateHz float64 `json:"sample_rate_hz"`
 	FullScaleVpp float64 `json:"full_scale_vpp"`
+	// OutputRateHz is the rate of the converter's output words: below
+	// SampleRateHz for an oversampling converter. ParseSpec fills in
+	// SampleRateHz when the spec leaves it out.
+	OutputRateHz float64 `json:"output_rate_hz"`
+	// AliasAttenDB is the least attenuation of everything that sampling
+	// folds onto the passband. ParseSpec fills in 6.02·bits + 1.76 dB
+	// (common practice: the ideal converter's full-scale SNR) when the
+	// spec leaves it out.
+	AliasAttenDB float64 `json:"alias_atten_db"`
+}
+
+// DefaultAliasAttenDB returns 6.02·bits + 1.76 dB, the full-scale sine's
+// SNR of an ideal converter of that resolution (common practice), the
+// default of converter.alias_atten_db.
+func DefaultAliasAttenDB(bits int) float64 { return 6.02*float64(bits) + 1.76 }
+
+// DesignMargin asks for a design that beats the mask: it is designed to
+// Amax − PassbandDB and Amin + StopbandDB and judged against the mask as
+// given.
+type DesignMargin struct {
+	PassbandDB float64 `json:"passband_db"`
+	StopbandDB float64 `json:"stopband_db"`
 }
 
 // Verification limits and defaults.
@@ -130,7 +158,30 @@ type Spec struct {
 	MonteCarlo MonteCarlo `json:"montecarlo"`
 	// Converter is nil when the spec names none: no LSB-based figures.
 	Converter *Converter `json:"converter,omitempty"`
+	// GainToleranceDB, when set, bounds the passband maximum of the board
+	// as built to GainDB ± GainToleranceDB (rule 3 of the acceptance
+	// rule); nil: the gain is not judged.
+	GainToleranceDB *float64 `json:"gain_tolerance_db,omitempty"`
+	// DesignMargin is the margin the design is made with (zero: none).
+	DesignMargin DesignMargin `json:"design_margin"`
+
+	// stopbandFromConverter records that ParseSpec derived the stopband
+	// from the converter.
+	stopbandFromConverter bool
 }
+
+// StopbandFromConverter reports whether the stopband edge (and, when the
+// spec gave no stopband_atten_db, the attenuation) was derived from the
+// converter: fs − passband edge, converter.alias_atten_db.
+func (s Spec) StopbandFromConverter() bool { return s.stopbandFromConverter }
+
+// DesignRippleDB and DesignAttenDB are the losses the filter is designed
+// to: the mask's, tightened by the design margin.
+func (s Spec) DesignRippleDB() float64 { return s.PassbandRippleDB - s.DesignMargin.PassbandDB }
+
+// DesignAttenDB is the stopband attenuation the filter is designed to:
+// Amin + design_margin.stopband_db.
+func (s Spec) DesignAttenDB() float64 { return s.StopbandAttenDB + s.DesignMargin.StopbandDB }
 
 // HasStopband reports whether the spec gives stopband edges.
 func (s Spec) HasStopband() bool { return len(s.StopbandHz) > 0 }
@@ -189,6 +240,13 @@ type rawSpec struct {
 	Tolerance        *json.RawMessage `json:"tolerance"`
 	MonteCarlo       *json.RawMessage `json:"montecarlo"`
 	Converter        *json.RawMessage `json:"converter"`
+	GainToleranceDB  *float64         `json:"gain_tolerance_db"`
+	DesignMargin     *json.RawMessage `json:"design_margin"`
+}
+
+type rawDesignMargin struct {
+	PassbandDB *float64 `json:"passband_db"`
+	StopbandDB *float64 `json:"stopband_db"`
 }
 
 type rawOpAmp struct {
@@ -216,6 +274,8 @@ type rawConverter struct {
 	Bits         *json.Number `json:"bits"`
 	SampleRateHz *float64     `json:"sample_rate_hz"`
 	FullScaleVpp *float64     `json:"full_scale_vpp"`
+	OutputRateHz *float64     `json:"output_rate_hz"`
+	AliasAttenDB *float64     `json:"alias_atten_db"`
 }
 
 // decodeObject decodes the nested object msg of field into dst, strictly:
@@ -309,7 +369,7 @@ func jsonError(err error) error {
 		if name == "" {
 			name = `""` // an empty key still needs a visible name
 		}
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
@@ -471,6 +531,12 @@ func (raw rawSpec) build() (Spec, error) {
 		}
 	}
 	var tol rawTolerance
+	// The default tolerances: the resistor series' usual one (its series
+	// was read above) and 5 % for capacitors; an explicit 0 means exact.
+	if rs, err := eseries.Lookup(s.ResistorSeries); err == nil {
+		s.Tolerance.ResistorPct = rs.TolerancePct()
+	}
+	s.Tolerance.CapacitorPct = DefaultCapacitorPct
 	if ok, err := decodeObject("tolerance", raw.Tolerance, &tol, `{"resistor_pct": 1, "capacitor_pct": 5, "distribution": "uniform"}`,
 		"resistor_pct, capacitor_pct, distribution, gbw_pct"); err != nil {
 		return Spec{}, err
@@ -513,7 +579,7 @@ func (raw rawSpec) build() (Spec, error) {
 	}
 	var cv rawConverter
 	if ok, err := decodeObject("converter", raw.Converter, &cv, `{"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4}`,
-		"bits, sample_rate_hz, full_scale_vpp"); err != nil {
+		"bits, sample_rate_hz, full_scale_vpp, output_rate_hz, alias_atten_db"); err != nil {
 		return Spec{}, err
 	} else if ok {
 		if cv.Bits == nil || cv.SampleRateHz == nil || cv.FullScaleVpp == nil {
@@ -523,7 +589,39 @@ func (raw rawSpec) build() (Spec, error) {
 		if err != nil {
 			return Spec{}, err
 		}
-		s.Converter = &Converter{Bits: int(bits), SampleRateHz: *cv.SampleRateHz, FullScaleVpp: *cv.FullScaleVpp}
+		c := &Converter{Bits: int(bits), SampleRateHz: *cv.SampleRateHz, FullScaleVpp: *cv.FullScaleVpp,
+			OutputRateHz: *cv.SampleRateHz, AliasAttenDB: DefaultAliasAttenDB(int(bits))}
+		if cv.OutputRateHz != nil {
+			c.OutputRateHz = *cv.OutputRateHz
+		}
+		if cv.AliasAttenDB != nil {
+			c.AliasAttenDB = *cv.AliasAttenDB
+		}
+		s.Converter = c
+		if s.Response == Lowpass && s.StopbandHz == nil {
+			// The stopband comes from the converter: everything from
+			// fs − fp up folds onto the passband.
+			s.StopbandHz = []float64{c.SampleRateHz - s.PassbandHz[0]}
+			if raw.StopbandAttenDB == nil {
+				s.StopbandAttenDB = c.AliasAttenDB
+			}
+			s.stopbandFromConverter = true
+		}
+	}
+	if raw.GainToleranceDB != nil {
+		v := *raw.GainToleranceDB
+		s.GainToleranceDB = &v
+	}
+	var dm rawDesignMargin
+	if ok, err := decodeObject("design_margin", raw.DesignMargin, &dm, `{"passband_db": 0.02, "stopband_db": 3}`, "passband_db, stopband_db"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if dm.PassbandDB != nil {
+			s.DesignMargin.PassbandDB = *dm.PassbandDB
+		}
+		if dm.StopbandDB != nil {
+			s.DesignMargin.StopbandDB = *dm.StopbandDB
+		}
 	}
 	if raw.Values != nil {
 		if s.Values, err = oneOf("values", *raw.Values, ValueModes); err != nil {
@@ -739,7 +837,7 @@ func (s Spec) validateVerification() error {
 			return err
 		}
 		if f.v < 0 || f.v > 50 {
-			return fieldErr(f.field, "must be from 0 to 50 %% (got %g); 0 or absent takes the default", f.v)
+			return fieldErr(f.field, "must be from 0 to 50 %% (got %g); 0 means exact parts, absent the default", f.v)
 		}
 	}
 	if _, err := oneOf("tolerance.distribution", t.Distribution, Distributions); err != nil {
@@ -764,6 +862,42 @@ func (s Spec) validateVerification() error {
 		if c.FullScaleVpp < 1e-3 || c.FullScaleVpp > 100 {
 			return fieldErr("converter.full_scale_vpp", "must be from 1 mV to 100 V peak to peak (got %g)", c.FullScaleVpp)
 		}
+		if err := finite("converter.output_rate_hz", c.OutputRateHz); err != nil {
+			return err
+		}
+		if !(c.OutputRateHz >= 2*MinFrequencyHz) || c.OutputRateHz > c.SampleRateHz {
+			return fieldErr("converter.output_rate_hz", "must be from 2 mHz up to converter.sample_rate_hz = %g Hz (got %g)", c.SampleRateHz, c.OutputRateHz)
+		}
+		if err := finite("converter.alias_atten_db", c.AliasAttenDB); err != nil {
+			return err
+		}
+		if !(c.AliasAttenDB > 0) || c.AliasAttenDB > MaxAttenDB {
+			return fieldErr("converter.alias_atten_db", "must be above 0 dB and at most %d dB (got %g)", MaxAttenDB, c.AliasAttenDB)
+		}
+		if top := slices.Max(s.PassbandHz); s.Response != Highpass && s.Response != Bandstop && !(c.SampleRateHz > 2*top) {
+			return fieldErr("converter.sample_rate_hz", "must be above twice the passband's upper edge, %g Hz, or the passband folds onto itself (got %g)", 2*top, c.SampleRateHz)
+		}
+	}
+	if g := s.GainToleranceDB; g != nil {
+		if err := finite("gain_tolerance_db", *g); err != nil {
+			return err
+		}
+		if !(*g > 0) || *g > 20 {
+			return fieldErr("gain_tolerance_db", "must be above 0 dB and at most 20 dB (got %g)", *g)
+		}
+	}
+	m := s.DesignMargin
+	if err := finite("design_margin.passband_db", m.PassbandDB); err != nil {
+		return err
+	}
+	if !(m.PassbandDB >= 0) || !(m.PassbandDB < s.PassbandRippleDB) {
+		return fieldErr("design_margin.passband_db", "must be from 0 dB to below passband_ripple_db = %g dB (got %g)", s.PassbandRippleDB, m.PassbandDB)
+	}
+	if err := finite("design_margin.stopband_db", m.StopbandDB); err != nil {
+		return err
+	}
+	if !(m.StopbandDB >= 0) || s.StopbandAttenDB+m.StopbandDB > MaxAttenDB {
+		return fieldErr("design_margin.stopband_db", "must be at least 0 dB and keep stopband_atten_db + stopband_db at most %d dB (got %g)", MaxAttenDB, m.StopbandDB)
 	}
 	return nil
 }

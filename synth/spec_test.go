@@ -27,7 +27,9 @@ func TestParseSpecDefaults(t *testing.T) {
 	require.Equal(t, "E12", s.CapacitorSeries)
 	// The op-amp's noise and slew defaults: INTERFACE.md's verification fields.
 	require.Equal(t, synth.OpAmp{GBWHz: 10e6, DCGainDB: 100, NoiseVPerRtHz: 10e-9, NoiseAPerRtHz: 1e-12, SlewVPerS: 10e6}, s.OpAmp)
-	require.Equal(t, synth.Tolerance{Distribution: "uniform"}, s.Tolerance)
+	// Tolerance defaults (INTERFACE.md): the resistor series' usual tolerance
+	// (E96: 1 %, IEC 60063's pairing) and 5 % for capacitors.
+	require.Equal(t, synth.Tolerance{ResistorPct: 1, CapacitorPct: 5, Distribution: "uniform"}, s.Tolerance)
 	require.Equal(t, synth.MonteCarlo{Seed: 1}, s.MonteCarlo)
 	require.Nil(t, s.Converter)
 	require.Equal(t, "series", s.Values)
@@ -41,9 +43,11 @@ func TestParseSpecDefaults(t *testing.T) {
 		"montecarlo": {"trials": 500, "seed": 7}, "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4},
 		"opamp": {"ideal": true, "noise_v_per_rthz": 4e-9}}`))
 	require.NoError(t, err)
-	require.Equal(t, synth.Tolerance{ResistorPct: 0.1, Distribution: "gaussian"}, v.Tolerance)
+	require.Equal(t, synth.Tolerance{ResistorPct: 0.1, CapacitorPct: 5, Distribution: "gaussian"}, v.Tolerance)
 	require.Equal(t, synth.MonteCarlo{Trials: 500, Seed: 7}, v.MonteCarlo)
-	require.Equal(t, &synth.Converter{Bits: 16, SampleRateHz: 48000, FullScaleVpp: 4}, v.Converter)
+	// output_rate_hz defaults to sample_rate_hz; alias_atten_db to 6.02·16 + 1.76
+	// = 98.08 dB (INTERFACE.md, common practice).
+	require.Equal(t, &synth.Converter{Bits: 16, SampleRateHz: 48000, FullScaleVpp: 4, OutputRateHz: 48000, AliasAttenDB: 6.02*16 + 1.76}, v.Converter)
 	require.Equal(t, synth.OpAmp{Ideal: true, NoiseVPerRtHz: 4e-9, NoiseAPerRtHz: 1e-12, SlewVPerS: 10e6}, v.OpAmp)
 
 	bp, err := synth.ParseSpecBytes([]byte(`{"response": "bandpass", "passband_hz": [900, 1100], "stopband_hz": [500, 2000],

@@ -1,0 +1,51 @@
+package synth
+
+import (
+	"fmt"
+
+	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/verify"
+)
+
+// Sensitivity is a part's normalised sensitivity S = ∂ln y/∂ln x of its
+// stage's f0 and Q.
+type Sensitivity struct {
+	Ref string  `json:"ref"`
+	F0  float64 `json:"f0"`
+	Q   float64 `json:"q"`
+}
+
+// PartTolerance is the tolerance a part needs for the stage's f0 within
+// 1 % and Q within 2 % on 99 % of boards, first order.
+type PartTolerance struct {
+	Ref          string  `json:"ref"`
+	TolerancePct float64 `json:"tolerance_pct"`
+}
+
+// partFigures fills stage i's sensitivities and required part
+// tolerances.
+func (d *Design) partFigures(ch circuit.Chain, i int) error {
+	sec := &d.Sections[i]
+	s := d.Spec
+	// Passive sensitivities, with ideal op-amps: the textbook figure, and a
+	// fraction of the cost of the op-amp model's higher-degree forms.
+	sens, err := verify.Sensitivities(ch.Stages[i], circuit.Model{Ideal: true})
+	if err != nil {
+		return fmt.Errorf("synth: stage %d sensitivities: %w", i+1, err)
+	}
+	sec.Sensitivities = make([]Sensitivity, len(sens))
+	for k, x := range sens {
+		sec.Sensitivities[k] = Sensitivity{Ref: ch.Ref(i+1, x.Ref), F0: x.F0, Q: x.Q}
+	}
+	target := toleranceTarget
+	if sec.Order == 1 {
+		target.QPct = 0
+	}
+	target.Distribution = verify.Distribution(s.Tolerance.Distribution)
+	if req, err := verify.RequiredTolerancePct(sens, target); err == nil {
+		for _, p := range req {
+			sec.RequiredTolerance = append(sec.RequiredTolerance, PartTolerance{Ref: ch.Ref(i+1, p.Ref), TolerancePct: p.TolerancePct})
+		}
+	}
+	return nil
+}
