@@ -78,9 +78,16 @@ type Design struct {
 	Noise *NoiseReport `json:"noise,omitempty"`
 	// Step is the step response, ideal and as built.
 	Step *StepReport `json:"step,omitempty"`
+	// Built is the board as built against the mask (the acceptance rule);
+	// nil at the Ideal level.
+	Built *BuiltReport `json:"built,omitempty"`
+	// Checks is the one list of verdicts on the design, the same for the
+	// page, the API and the CLI.
+	Checks []Check `json:"checks"`
 
-	tf    zpk.ZPK
-	chain *circuit.Chain
+	tf       zpk.ZPK
+	chain    *circuit.Chain
+	chainTFs circuit.Cascade // the chain's stages' rational forms
 }
 
 // TransferFunction returns the design's whole transfer function, in rad/s.
@@ -264,17 +271,22 @@ func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
 // Errors are as for [Synthesize].
 func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
 	d, ordered, err := synthesize(ctx, s)
-	if err != nil || level == Ideal {
-		return d, err
+	if err != nil {
+		return nil, err
+	}
+	defer d.fillChecks()
+	if level == Ideal {
+		return d, nil
 	}
 	if err := d.realize(ordered); err != nil {
 		return nil, err
 	}
-	realized, err := d.chain.MagnitudeDB(nil, d.Response.FreqHz)
+	tfs, err := d.chain.TransferFunctions()
 	if err != nil {
 		return nil, fmt.Errorf("synth: as-built response: %w", err)
 	}
-	d.Response.RealizedDB = floorDB(realized)
+	d.Response.RealizedDB = floorDB(tfs.MagnitudeDB(nil, d.Response.FreqHz))
+	d.judgeBuilt(tfs)
 	if level == Circuits {
 		return d, nil
 	}

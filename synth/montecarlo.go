@@ -4,8 +4,8 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"slices"
 
+	"github.com/polewright/polewright/synth/accept"
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/verify"
@@ -15,8 +15,8 @@ import (
 type MonteCarloReport struct {
 	Trials int    `json:"trials"`
 	Seed   uint64 `json:"seed"`
-	// Yield is the share of trials whose response meets the mask on the
-	// Monte Carlo grid.
+	// Yield is the share of trials whose board passes the acceptance rule
+	// (see [BuiltReport]), extremes refined between grid points.
 	Yield float64 `json:"yield"`
 	// Envelope is the spread of the magnitude response.
 	Envelope EnvelopeReport `json:"envelope"`
@@ -55,22 +55,10 @@ type HistogramReport struct {
 func (d *Design) monteCarlo(ctx context.Context, ch circuit.Chain) error {
 	s := d.Spec
 	lo, hi := d.Response.FreqHz[0], d.Response.FreqHz[len(d.Response.FreqHz)-1]
-	grid := response.LogSpaceHz(nil, lo, hi, MonteCarloPoints)
-	grid = append(grid, s.PassbandHz...)
-	grid = append(grid, s.StopbandHz...)
-	slices.Sort(grid)
-	grid = slices.Compact(grid)
-	inPass, inStop := d.maskRegions(grid)
-	ref := 20 * math.Log10(d.Gain)
-	amax, amin := s.PassbandRippleDB+MaskToleranceDB, s.StopbandAttenDB-MaskToleranceDB
-	meets := func(db []float64) bool {
-		for i, v := range db {
-			loss := ref - v
-			if inPass[i] && !(loss <= amax) || inStop[i] && !(loss >= amin) {
-				return false
-			}
-		}
-		return true
+	plan := d.monteCarloPlan(response.LogSpaceHz(nil, lo, hi, MonteCarloPoints))
+	grid := plan.Grid()
+	meets := func(db []float64, eval func(float64) float64) bool {
+		return plan.Judge(db, eval, accept.Decisive).Meets
 	}
 	var edges []verify.Edge
 	for i, f := range s.PassbandHz {
@@ -120,31 +108,6 @@ func edgeName(base string, i, n int) string {
 	return fmt.Sprintf("%s_%s", base, []string{"lo", "hi"}[i])
 }
 
-// maskRegions marks the grid points that lie in the spec's passband and
-// stopband.
-func (d *Design) maskRegions(grid []float64) (pass, stop []bool) {
-	s := d.Spec
-	p, st := s.PassbandHz, s.StopbandHz
-	pass, stop = make([]bool, len(grid)), make([]bool, len(grid))
-	for i, f := range grid {
-		switch s.Response {
-		case Lowpass:
-			pass[i] = f <= p[0]
-			stop[i] = s.HasStopband() && f >= st[0]
-		case Highpass:
-			pass[i] = f >= p[0]
-			stop[i] = s.HasStopband() && f <= st[0]
-		case Bandpass:
-			pass[i] = f >= p[0] && f <= p[1]
-			stop[i] = s.HasStopband() && (f <= st[0] || f >= st[1])
-		case Bandstop:
-			pass[i] = f <= p[0] || f >= p[1]
-			stop[i] = s.HasStopband() && f >= st[0] && f <= st[1]
-		}
-	}
-	return pass, stop
-}
-
 // progressKey is the context key of a Monte Carlo progress callback.
 type progressKey struct{}
 
@@ -154,4 +117,44 @@ type progressKey struct{}
 // done. A run without trials never calls it.
 func WithProgress(ctx context.Context, report func(done, total int)) context.Context {
 	return context.WithValue(ctx, progressKey{}, report)
+}
+
+// monteCarloHintSpread is how far from each extreme of the nominal board
+// the Monte Carlo grid puts neighbours, as a fraction: the trials'
+// extremes move with their parts, and a neighbour on each side keeps them
+// bracketed (see [accept.DecisiveDB]).
+const monteCarloHintSpread = 0.01
+
+// aliasKeepDB is how far below the nominal board's alias-band worst an
+// alias interval's largest response may lie and still be judged in every
+// trial: part tolerances move a response by far less.
+const aliasKeepDB = 20
+
+// monteCarloPlan returns the acceptance plan of the Monte Carlo's trials:
+// the base grid, the nominal board's extremes with neighbours
+// monteCarloHintSpread away, and of the alias band only the intervals
+// that come within aliasKeepDB of its worst.
+func (d *Design) monteCarloPlan(base []float64) *accept.Plan {
+	m := d.Spec.acceptMask()
+	r := d.Built.result
+	var hints []float64
+	for _, f := range r.Extremes {
+		hints = append(hints, f, f*(1-monteCarloHintSpread), f*(1+monteCarloHintSpread))
+	}
+	if len(m.Alias) > 0 {
+		keep := m.Alias[:0:0]
+		for _, b := range m.Alias {
+			worst := math.Max(dbOf(d.chainTFs.AtHz(b.LoHz)), dbOf(d.chainTFs.AtHz(b.HiHz)))
+			for _, f := range r.Extremes {
+				if f >= b.LoHz && f <= b.HiHz {
+					worst = math.Max(worst, dbOf(d.chainTFs.AtHz(f)))
+				}
+			}
+			if worst >= r.AliasWorstDB-aliasKeepDB {
+				keep = append(keep, b)
+			}
+		}
+		m.Alias = keep
+	}
+	return accept.NewPlan(m, base, hints)
 }

@@ -46,7 +46,7 @@ func ExampleMonteCarlo() {
 	res, err := verify.MonteCarlo(context.Background(), ch, verify.Tolerance{}, verify.MonteCarloOptions{
 		Trials: 500, Seed: 1, FreqHz: freq,
 		Edges: []verify.Edge{{Name: "passband_edge", FreqHz: 700}},
-	}, meets)
+	}, verify.GridOnly(meets))
 	if err != nil {
 		fmt.Println(err)
 		return

@@ -133,12 +133,25 @@ type MonteCarloResult struct {
 	EdgeLoss map[string]Histogram
 }
 
+// Judge decides whether a trial's board passes: db is its magnitude
+// response in dB on the run's grid (a buffer it must not keep), eval the
+// same response at any frequency in Hz (dB), for refining extremes between
+// grid points. eval is only valid during the call. A Judge must be safe
+// for concurrent use (each worker passes its own eval).
+type Judge func(db []float64, eval func(fHz float64) float64) bool
+
+// GridOnly returns a Judge that looks at the grid alone.
+func GridOnly(meets func(db []float64) bool) Judge {
+	if meets == nil {
+		return nil
+	}
+	return func(db []float64, _ func(float64) float64) bool { return meets(db) }
+}
+
 // MonteCarlo builds opt.Trials boards of the chain, every part drawn
 // within its tolerance (see [Tolerance]) and each single-pole op-amp's
 // GBW within tol.GBWSpreadPct, analyses each as built on opt.FreqHz and
-// counts the boards whose response meets the mask: meets receives the
-// magnitudes in dB on the grid (a buffer it must not keep) and must be
-// safe for concurrent use.
+// counts the boards that meets passes (see [Judge]).
 //
 // Trial i draws from its own PCG stream seeded from (opt.Seed, i), in a
 // fixed order (stage by stage, every part in order, then each op-amp's
@@ -168,7 +181,7 @@ type MonteCarloResult struct {
 // done early. Invalid options, tolerances or a nil meets give an error
 // wrapping [ErrInvalid]; an invalid chain one wrapping
 // circuit.ErrInvalid.
-func MonteCarlo(ctx context.Context, ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, meets func(db []float64) bool) (MonteCarloResult, error) {
+func MonteCarlo(ctx context.Context, ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, meets Judge) (MonteCarloResult, error) {
 	cm, err := newChainModel(ch, tol, opt)
 	if err != nil {
 		return MonteCarloResult{}, err
@@ -234,7 +247,7 @@ func MonteCarlo(ctx context.Context, ch circuit.Chain, tol Tolerance, opt MonteC
 						fail(fmt.Errorf("montecarlo: trial %d: %w", i, err))
 						return
 					}
-					if meets(w.db[:cm.nFreq]) {
+					if meets(w.db[:cm.nFreq], w.evalDB) {
 						bs.passed++
 					}
 					w.tails.add(w.db[:cm.nFreq])
@@ -435,7 +448,11 @@ type worker struct {
 	parts    []circuit.Part // generic path
 	fac, gbw [][]float64    // the board's part and GBW factors
 	coef     [][8]float64   // fused path: N0..N3, D0..D3 of each stage in x
+	nums     [][]float64    // other paths: each stage's N and D in s/scale
+	dens     [][]float64
 	tails    tails
+	// evalDB is w.responseDB as a func value, made once.
+	evalDB func(fHz float64) float64
 }
 
 func newWorker(cm *chainModel, trials int) *worker {
@@ -464,8 +481,46 @@ func newWorker(cm *chainModel, trials int) *worker {
 		w.gbw = append(w.gbw, make([]float64, sm.nOps))
 	}
 	w.coef = make([][8]float64, len(cm.stages))
+	w.nums = make([][]float64, len(cm.stages))
+	w.dens = make([][]float64, len(cm.stages))
 	w.tails = newTails(cm.nFreq, trials)
+	w.evalDB = w.responseDB
 	return w
+}
+
+// responseDB returns the current board's magnitude response at fHz, in
+// dB: the product of its stages' rational forms, as analyse left them.
+func (w *worker) responseDB(fHz float64) float64 {
+	cm := w.cm
+	var l float64 // ln of the squared magnitude
+	if cm.fused {
+		x := 2 * math.Pi * fHz / cm.refScale
+		u := -x * x
+		for k := range w.coef {
+			c := &w.coef[k]
+			a := c[0] + u*c[2]
+			b := (c[1] + u*c[3]) * x
+			e := c[4] + u*c[6]
+			g := (c[5] + u*c[7]) * x
+			l += math.Log(a*a+b*b) - math.Log(e*e+g*g)
+		}
+		return dbPerLn * l
+	}
+	for k, sm := range cm.stages {
+		p := complex(0, 2*math.Pi*fHz/sm.scale)
+		n, d := horner(w.nums[k], p), horner(w.dens[k], p)
+		l += 2 * (math.Log(math.Hypot(real(n), imag(n))) - math.Log(math.Hypot(real(d), imag(d))))
+	}
+	return dbPerLn * l
+}
+
+// horner evaluates the polynomial with ascending coefficients c at p.
+func horner(c []float64, p complex128) complex128 {
+	var v complex128
+	for j := len(c) - 1; j >= 0; j-- {
+		v = v*p + complex(c[j], 0)
+	}
+	return v
 }
 
 // trial draws board i and analyses it: see draw and analyse.
@@ -535,6 +590,8 @@ func (w *worker) analyse() error {
 		evalExpansion(sm.den, den, y, alpha, beta)
 		w.stagePoles(k, sm, num, den)
 		if !cm.fused {
+			w.nums[k] = append(w.nums[k][:0], num...)
+			w.dens[k] = append(w.dens[k][:0], den...)
 			accumulate(w.mag2, w.lexp, cm.x[k], cm.u[k], num, den)
 			continue
 		}
@@ -658,6 +715,8 @@ func (w *worker) genericStage(k int, sm *stageModel, beta []float64) error {
 	// op-amp coefficient for rounding noise, and then its own
 	// SectionOrder would make the section look first order.
 	w.f0[k], w.q[k], w.ok[k] = dominantPair(r.Poles(), 1, sm.sectionOrder, w.reals[:0])
+	w.nums[k] = append(w.nums[k][:0], r.Num...)
+	w.dens[k] = append(w.dens[k][:0], r.Den...)
 	accumulate(w.mag2, w.lexp, w.cm.x[k], w.cm.u[k], r.Num, r.Den)
 	return nil
 }

@@ -18,7 +18,7 @@ import (
 
 func background() context.Context { return context.Background() }
 
-func always(db []float64) bool { return true }
+func always(db []float64, _ func(float64) float64) bool { return true }
 
 // predictedStdPct is the first-order spread of a stage's f0 and Q from
 // its sensitivities: σ_y/y = √(Σ S_x²·σ_x²), σ_x = tolerance·σ-per-unit
@@ -112,7 +112,7 @@ func TestMonteCarloDeterminism(t *testing.T) {
 			verify.MonteCarloOptions{
 				Trials: 1000, Seed: seed, FreqHz: freq, Workers: workers,
 				Edges: []verify.Edge{{Name: "passband_edge", FreqHz: mcbench.PassEdgeHz}, {Name: "stopband_edge", FreqHz: mcbench.StopEdgeHz}},
-			}, mcbench.Meets(freq))
+			}, verify.GridOnly(mcbench.Meets(freq)))
 		require.NoError(t, err)
 		return res
 	}
@@ -160,12 +160,12 @@ func TestMonteCarloYield(t *testing.T) {
 		{"zero-tolerance/nominal-mask", exact, mcbench.Meets(freq), 1},
 		{"zero-tolerance/impossible-mask", exact, impossible, 0},
 		{"spread/impossible-mask", mcbench.Chain(mcbench.SinglePole), impossible, 0},
-		{"spread/accept-all", mcbench.Chain(mcbench.SinglePole), always, 1},
+		{"spread/accept-all", mcbench.Chain(mcbench.SinglePole), func([]float64) bool { return true }, 1},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			res, err := verify.MonteCarlo(background(), tc.ch, verify.Tolerance{},
-				verify.MonteCarloOptions{Trials: 500, Seed: 1, FreqHz: freq}, tc.meets)
+				verify.MonteCarloOptions{Trials: 500, Seed: 1, FreqHz: freq}, verify.GridOnly(tc.meets))
 			require.NoError(t, err)
 			require.Equal(t, tc.want, res.Yield)
 			require.Equal(t, int(tc.want*500), res.Passed)
@@ -195,7 +195,7 @@ func TestMonteCarloEnvelopePercentiles(t *testing.T) {
 			var all [][]float64
 			res, err := verify.MonteCarlo(background(), ch, verify.Tolerance{Distribution: verify.Gaussian},
 				verify.MonteCarloOptions{Trials: n, Seed: 3, FreqHz: freq, Workers: 2},
-				func(db []float64) bool {
+				func(db []float64, _ func(float64) float64) bool {
 					mu.Lock()
 					all = append(all, slices.Clone(db))
 					mu.Unlock()
@@ -318,7 +318,7 @@ func TestMonteCarloErrors(t *testing.T) {
 		ch     circuit.Chain
 		tol    verify.Tolerance
 		opt    func(o *verify.MonteCarloOptions)
-		meets  func([]float64) bool
+		meets  verify.Judge
 		target error
 		msg    string
 	}{
@@ -385,7 +385,7 @@ func TestMonteCarloCancel(t *testing.T) {
 		cancel()
 		calls := 0
 		_, err := verify.MonteCarlo(ctx, ch, verify.Tolerance{}, verify.MonteCarloOptions{Trials: 10, FreqHz: freq},
-			func([]float64) bool { calls++; return true })
+			func([]float64, func(float64) float64) bool { calls++; return true })
 		require.True(t, errors.Is(err, context.Canceled))
 		require.Zero(t, calls)
 	})

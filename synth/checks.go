@@ -1,0 +1,301 @@
+package synth
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/polewright/polewright/standards/si"
+)
+
+// Severity says what a failed check means.
+type Severity string
+
+// The severities. A check that passes is Info.
+const (
+	// SeverityError: the board fails its job.
+	SeverityError Severity = "error"
+	// SeverityWarning: the board may do its job, but something needs an
+	// engineer's look (a low yield, a slow op-amp).
+	SeverityWarning Severity = "warning"
+	// SeverityInfo: the check passes.
+	SeverityInfo Severity = "info"
+)
+
+// The check ids of INTERFACE.md.
+const (
+	CheckIdealMask = "ideal-mask"
+	CheckBuiltMask = "built-mask"
+	CheckYield     = "yield"
+	CheckAlias     = "alias"
+	CheckNoise     = "noise"
+	CheckSettling  = "settling"
+	CheckSlew      = "slew"
+	CheckOpAmpGBW  = "opamp-gbw"
+)
+
+// Check is one verdict on a design: what was judged, the figure it came
+// to and the limit it was held to, and one sentence that says it.
+type Check struct {
+	// ID names the check (CheckIdealMask, …).
+	ID string `json:"id"`
+	// OK is true when the check passes.
+	OK bool `json:"ok"`
+	// Severity is SeverityInfo when OK; otherwise what the failure means.
+	Severity Severity `json:"severity"`
+	// Figure is the number judged, in Unit; Limit the bound it is held to.
+	Figure float64 `json:"figure"`
+	Limit  float64 `json:"limit"`
+	Unit   string  `json:"unit"`
+	// Stage is the 1-based stage the check points at, or nil.
+	Stage *int `json:"stage"`
+	// Text says the verdict in one sentence.
+	Text string `json:"text"`
+}
+
+// Check thresholds.
+const (
+	// YieldTarget is the yield the yield check asks for: 99 % of boards.
+	YieldTarget = 0.99
+	// NoiseLossBits is the most resolution the noise check lets the
+	// filter's noise cost the converter: half a bit, where the sampled
+	// noise equals the quantisation noise LSB/√12.
+	NoiseLossBits = 0.5
+	// SettlingSlack is how much longer than the ideal filter the board as
+	// built may take to settle before the settling check fails (our own
+	// figure: a board that settles 25 % slower than its design has an
+	// op-amp or part problem worth a look).
+	SettlingSlack = 1.25
+)
+
+func newCheck(id string, ok bool, failSeverity Severity, figure, limit float64, unit string, stage int, text string) Check {
+	c := Check{ID: id, OK: ok, Severity: SeverityInfo, Figure: finiteOr(figure, limit), Limit: finiteOr(limit, 0), Unit: unit, Text: text}
+	if !ok {
+		c.Severity = failSeverity
+	}
+	if stage > 0 {
+		c.Stage = &stage
+	}
+	return c
+}
+
+// finiteOr returns v, or alt when v is NaN or infinite (the JSON carries
+// no NaN or Inf); ±Inf becomes ±1e300 when alt is not wanted.
+func finiteOr(v, alt float64) float64 {
+	switch {
+	case math.IsNaN(v):
+		return alt
+	case math.IsInf(v, 1):
+		return 1e300
+	case math.IsInf(v, -1):
+		return -1e300
+	}
+	return v
+}
+
+// fillChecks computes every check whose inputs the design carries, in a
+// fixed order: ideal-mask, built-mask, yield, alias, noise, settling,
+// slew, opamp-gbw.
+func (d *Design) fillChecks() {
+	d.Checks = []Check{d.idealMaskCheck()}
+	if d.Built != nil {
+		d.Checks = append(d.Checks, d.builtMaskCheck())
+	}
+	if d.MonteCarlo != nil {
+		d.Checks = append(d.Checks, d.yieldCheck())
+	}
+	if d.Built != nil && d.Built.AliasMarginDB != nil {
+		d.Checks = append(d.Checks, d.aliasCheck())
+	}
+	if c, ok := d.noiseCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.settlingCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.slewCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.opAmpGBWCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+}
+
+// idealMaskCheck judges the ideal response (meets_mask).
+func (d *Design) idealMaskCheck() Check {
+	m := d.Mask
+	worst := m.PassbandMarginDB
+	if m.StopbandMarginDB != nil {
+		worst = math.Min(worst, *m.StopbandMarginDB)
+	}
+	var text string
+	switch {
+	case d.MeetsMask:
+		text = fmt.Sprintf("The ideal %s filter of order %d meets the mask with %s dB to spare.", d.Spec.Approximation, d.Order, dbText(worst))
+	case !m.PassbandMet:
+		text = fmt.Sprintf("The ideal filter misses the mask in the passband by %s dB: the order or the losses given do not fit the mask.", dbText(-m.PassbandMarginDB))
+	default:
+		text = fmt.Sprintf("The ideal filter of order %d misses the stopband attenuation by %s dB: raise the order or leave it to the lowest that meets the mask.", d.Order, dbText(-*m.StopbandMarginDB))
+	}
+	return newCheck(CheckIdealMask, d.MeetsMask, SeverityError, worst, 0, "dB", 0, text)
+}
+
+// builtMaskCheck judges the board as built by the acceptance rule.
+func (d *Design) builtMaskCheck() Check {
+	b, s := d.Built, d.Spec
+	r := b.result
+	worst := r.PassMarginDB
+	what := fmt.Sprintf("the passband ripples %s dB; the mask allows %s dB", dbText(b.PassbandRippleDB), dbText(s.PassbandRippleDB))
+	if b.StopbandMarginDB != nil && *b.StopbandMarginDB < worst {
+		worst = *b.StopbandMarginDB
+		what = fmt.Sprintf("the stopband comes within %s dB of the passband maximum; the mask asks for %s dB", dbText(b.PassbandMaxDB-*b.StopbandWorstDB), dbText(s.StopbandAttenDB))
+	}
+	if b.GainMarginDB != nil && *b.GainMarginDB < worst {
+		worst = *b.GainMarginDB
+		what = fmt.Sprintf("the passband maximum is %+.3g dB from gain_db; the tolerance is ±%s dB", b.GainErrorDB, dbText(*s.GainToleranceDB))
+	}
+	var text string
+	if b.MeetsMask {
+		text = fmt.Sprintf("As built (%s parts, the spec's op-amp), the board meets the mask with %s dB to spare: %s.", s.ResistorSeries, dbText(worst), what)
+		if s.Values == "exact" {
+			text = fmt.Sprintf("As built (exact parts, the spec's op-amp), the board meets the mask with %s dB to spare: %s.", dbText(worst), what)
+		}
+	} else {
+		text = fmt.Sprintf("As built, %s (%s dB short). A design_margin, a faster op-amp or a finer resistor_series closes the gap.", what, dbText(-worst))
+	}
+	return newCheck(CheckBuiltMask, b.MeetsMask, SeverityError, worst, 0, "dB", 0, text)
+}
+
+// yieldCheck judges the Monte Carlo's yield against YieldTarget.
+func (d *Design) yieldCheck() Check {
+	mc := d.MonteCarlo
+	pass := int(math.Round(mc.Yield * float64(mc.Trials)))
+	ok := mc.Yield >= YieldTarget
+	text := fmt.Sprintf("Yield %.1f %%: %d of %d boards drawn within the tolerances pass the mask as built (seed %d).", 100*mc.Yield, pass, mc.Trials, mc.Seed)
+	if !ok {
+		text = fmt.Sprintf("Yield %.1f %%: %d of %d boards drawn within the tolerances fail the mask as built (seed %d); %.0f %% is the target. Tighter parts (see each part's fail_at_pct) or a design_margin raise it.", 100*mc.Yield, mc.Trials-pass, mc.Trials, mc.Seed, 100*YieldTarget)
+	}
+	return newCheck(CheckYield, ok, SeverityWarning, mc.Yield, YieldTarget, "", 0, text)
+}
+
+// aliasCheck judges the alias band: what folds onto the passband.
+func (d *Design) aliasCheck() Check {
+	b, c := d.Built, d.Spec.Converter
+	m := *b.AliasMarginDB
+	ok := m >= -MaskToleranceDB
+	atten := b.PassbandMaxDB - *b.AliasWorstDB
+	text := fmt.Sprintf("Everything that sampling at %s folds onto the passband is at least %s dB down (%s dB asked).", si.Format(c.SampleRateHz, "Hz", 4), dbText(atten), dbText(c.AliasAttenDB))
+	if !ok {
+		text = fmt.Sprintf("Sampling at %s folds signals only %s dB down onto the passband; the converter needs %s dB. Raise the order, or the sample rate.", si.Format(c.SampleRateHz, "Hz", 4), dbText(atten), dbText(c.AliasAttenDB))
+	}
+	return newCheck(CheckAlias, ok, SeverityError, m, 0, "dB", 0, text)
+}
+
+// noiseCheck judges the noise the converter's samples carry against its
+// quantisation noise.
+func (d *Design) noiseCheck() (Check, bool) {
+	n, c := d.Noise, d.Spec.Converter
+	if n == nil || c == nil || n.QuantizationRMSV == nil {
+		return Check{}, false
+	}
+	q := *n.QuantizationRMSV
+	rms := n.OutputRMSV
+	loss := math.Log2(math.Hypot(rms, q) / q)
+	ok := loss <= NoiseLossBits
+	text := fmt.Sprintf("The filter's noise, %s rms, costs the %d-bit converter %.2f bits (quantisation noise %s rms).", si.Format(rms, "V", 3), c.Bits, loss, si.Format(q, "V", 3))
+	if !ok {
+		text = fmt.Sprintf("The filter's noise, %s rms, costs the %d-bit converter %.2f bits, more than the %.1f bit allowed (quantisation noise %s rms): lower resistor values or a quieter op-amp help.", si.Format(rms, "V", 3), c.Bits, loss, NoiseLossBits, si.Format(q, "V", 3))
+	}
+	return newCheck(CheckNoise, ok, SeverityWarning, loss, NoiseLossBits, "bits", 0, text), true
+}
+
+// settlingCheck compares the as-built settling time with the ideal
+// filter's.
+func (d *Design) settlingCheck() (Check, bool) {
+	st := d.Step
+	if st == nil || st.SettlingS == nil || st.IdealSettlingS == nil || !(*st.IdealSettlingS > 0) {
+		return Check{}, false
+	}
+	built, ideal := *st.SettlingS, *st.IdealSettlingS
+	limit := SettlingSlack * ideal
+	ok := built <= limit
+	band := "±0.1 %"
+	if c := d.Spec.Converter; c != nil {
+		band = fmt.Sprintf("±½ LSB of %d bits", c.Bits)
+	}
+	text := fmt.Sprintf("A step settles to %s in %s as built, %s for the ideal filter.", band, si.Format(built, "s", 3), si.Format(ideal, "s", 3))
+	if c := d.Spec.Converter; c != nil {
+		text = fmt.Sprintf("A step settles to %s in %s as built (%.0f sample periods), %s for the ideal filter.", band, si.Format(built, "s", 3), math.Ceil(built*c.SampleRateHz), si.Format(ideal, "s", 3))
+	}
+	if !ok {
+		text += fmt.Sprintf(" That is more than %.2g× the ideal: an op-amp or the part values slow the board down.", SettlingSlack)
+	}
+	return newCheck(CheckSettling, ok, SeverityWarning, built, limit, "s", 0, text), true
+}
+
+// slewCheck compares the largest slew rate a full-scale sine at the
+// passband edge needs with the op-amp's.
+func (d *Design) slewCheck() (Check, bool) {
+	need, worst := 0.0, 0
+	for i, sec := range d.Sections {
+		if sec.OpAmpNeeds != nil && sec.OpAmpNeeds.SlewVPerS > need {
+			need, worst = sec.OpAmpNeeds.SlewVPerS, i+1
+		}
+	}
+	if worst == 0 {
+		return Check{}, false
+	}
+	have := d.Spec.OpAmp.SlewVPerS
+	ok := need <= have
+	text := fmt.Sprintf("A full-scale sine at the passband edge needs at most %s at any stage's output (stage %d); the op-amp slews %s.", si.Format(need, "V/s", 3), worst, si.Format(have, "V/s", 3))
+	if !ok {
+		text = fmt.Sprintf("A full-scale sine at the passband edge needs %s at stage %d's output, more than the op-amp's %s: it would distort.", si.Format(need, "V/s", 3), worst, si.Format(have, "V/s", 3))
+	}
+	return newCheck(CheckSlew, ok, SeverityError, need, have, "V/s", worst, text), true
+}
+
+// opAmpGBWCheck compares the largest gain-bandwidth a stage needs (to keep
+// the op-amp's own effect within 1 %) with the op-amp's.
+func (d *Design) opAmpGBWCheck() (Check, bool) {
+	if d.Spec.OpAmp.Ideal {
+		return Check{}, false
+	}
+	need, worst, unmet := 0.0, 0, 0
+	for i, sec := range d.Sections {
+		if sec.OpAmpNeeds == nil {
+			continue
+		}
+		if sec.OpAmpNeeds.GBWHz == nil {
+			unmet = i + 1
+			continue
+		}
+		if *sec.OpAmpNeeds.GBWHz > need {
+			need, worst = *sec.OpAmpNeeds.GBWHz, i+1
+		}
+	}
+	if worst == 0 && unmet == 0 {
+		return Check{}, false
+	}
+	have := d.Spec.OpAmp.GBWHz
+	if unmet > 0 {
+		return newCheck(CheckOpAmpGBW, false, SeverityWarning, math.Inf(1), have, "Hz", unmet,
+			fmt.Sprintf("No gain-bandwidth up to 1 THz keeps the op-amp's effect on stage %d within %d %%.", unmet, opAmpNeedPct)), true
+	}
+	ok := need <= have
+	text := fmt.Sprintf("The stages need at most %s of gain-bandwidth (stage %d) to keep the op-amp's effect on f0, Q and gain within %d %%; the op-amp has %s.", si.Format(need, "Hz", 3), worst, opAmpNeedPct, si.Format(have, "Hz", 3))
+	if !ok {
+		text = fmt.Sprintf("Stage %d needs %s of gain-bandwidth to keep the op-amp's effect within %d %%; the op-amp has %s, so the board as built departs from the design (see built-mask).", worst, si.Format(need, "Hz", 3), opAmpNeedPct, si.Format(have, "Hz", 3))
+	}
+	return newCheck(CheckOpAmpGBW, ok, SeverityWarning, need, have, "Hz", worst, text), true
+}
+
+// dbText formats a dB figure with three significant decimals for small
+// values.
+func dbText(v float64) string {
+	switch a := math.Abs(v); {
+	case a >= 100:
+		return fmt.Sprintf("%.1f", v)
+	case a >= 10:
+		return fmt.Sprintf("%.2f", v)
+	}
+	return fmt.Sprintf("%.3g", v)
+}
