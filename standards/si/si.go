@@ -42,4 +42,3 @@ func Format(v float64, unit string, digits int) string {
 	}
 	return sign + num + " " + siPrefixes[exp+5] + unit
 }
-
