@@ -171,6 +171,11 @@ type Component struct {
 	Series string `json:"series"`
 	// TolerancePct is the part's tolerance in percent.
 	TolerancePct float64 `json:"tolerance_pct"`
+	// FailAtPct is [down, up]: the smallest change of this part alone, in
+	// %, every other part nominal, at which the board as built stops
+	// passing the acceptance rule; each nil beyond 100 % (down: 99 %).
+	// Both are 0 when the nominal board fails already.
+	FailAtPct [2]*float64 `json:"fail_at_pct"`
 }
 
 // Realized is a section's f0 and Q as built: the dominant poles of its

@@ -3,7 +3,9 @@ package synth
 import (
 	"fmt"
 
+	"github.com/polewright/polewright/synth/accept"
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/verify"
 )
 
@@ -45,6 +47,28 @@ func (d *Design) partFigures(ch circuit.Chain, i int) error {
 	if req, err := verify.RequiredTolerancePct(sens, target); err == nil {
 		for _, p := range req {
 			sec.RequiredTolerance = append(sec.RequiredTolerance, PartTolerance{Ref: ch.Ref(i+1, p.Ref), TolerancePct: p.TolerancePct})
+		}
+	}
+	return nil
+}
+
+// failAt fills every component's FailAtPct: each part alone is moved
+// until the board as built fails the acceptance rule, judged as a Monte
+// Carlo trial is (see [Design.monteCarloPlan]).
+func (d *Design) failAt(ch circuit.Chain) error {
+	lo, hi := d.Response.FreqHz[0], d.Response.FreqHz[len(d.Response.FreqHz)-1]
+	plan := d.monteCarloPlan(response.LogSpaceHz(nil, lo, hi, MonteCarloPoints))
+	limits, err := verify.FailAt(ch, plan.Grid(), func(db []float64, eval func(float64) float64) float64 {
+		return plan.Judge(db, eval, accept.Decisive).MinMarginDB()
+	})
+	if err != nil {
+		return fmt.Errorf("synth: fail_at_pct: %w", err)
+	}
+	for k := range d.Sections {
+		comps := d.Sections[k].Components
+		for j := range comps {
+			l := limits[k][j]
+			comps[j].FailAtPct = [2]*float64{finitePtr(l.DownPct), finitePtr(l.UpPct)}
 		}
 	}
 	return nil

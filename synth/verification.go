@@ -65,6 +65,9 @@ func (d *Design) verifyDesign(ctx context.Context) error {
 				"a %.3g Vpp sine at %.4g Hz needs %.3g V/s at this stage's output, more than the op-amp's %.3g V/s", vpp, edgeHz, slew, s.OpAmp.SlewVPerS))
 		}
 	}
+	if err := d.failAt(ch); err != nil {
+		return err
+	}
 	if err := d.noise(ch); err != nil {
 		return err
 	}

@@ -74,17 +74,7 @@ func stageScale(st Stage, m Model) (scale, rn float64) {
 // (finite, > 0).
 func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 	_, rn := stageScale(st, m)
-	// Unknown numbers: In is 0, Ground is not an unknown, the others follow.
-	idx := func(name string) int {
-		switch i := t.index(name); i {
-		case 0:
-			return 0
-		case 1:
-			return -1
-		default:
-			return i - 1
-		}
-	}
+	idx := t.unknown
 	nodes := len(t.names) - 1
 	n := nodes + 1 + len(st.OpAmps)
 	sys := &system{
@@ -99,25 +89,9 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		x:      make([]complex128, n),
 		r:      make([]complex128, n),
 	}
-	stamp := func(mat []float64, i, j int, y float64) {
-		if i >= 0 {
-			mat[i*n+i] += y
-		}
-		if j >= 0 {
-			mat[j*n+j] += y
-		}
-		if i >= 0 && j >= 0 {
-			mat[i*n+j] -= y
-			mat[j*n+i] -= y
-		}
-	}
 	for _, p := range st.Parts {
-		i, j := idx(p.A), idx(p.B)
-		switch p.Kind {
-		case Resistor:
-			stamp(sys.g, i, j, rn/p.Value)
-		case Capacitor:
-			stamp(sys.c, i, j, rn*p.Value*scale)
+		sys.stampPart(p, t, rn, scale)
+		if p.Kind == Capacitor {
 			sys.deg++
 		}
 	}
@@ -146,6 +120,41 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		}
 	}
 	return sys
+}
+
+// unknown returns the unknown number of a node: In is 0, Ground (−1) is
+// not an unknown, the others follow in the table's order.
+func (t *nodeTable) unknown(name string) int {
+	switch i := t.index(name); i {
+	case 0:
+		return 0
+	case 1:
+		return -1
+	default:
+		return i - 1
+	}
+}
+
+// stampPart adds the rank-one stamp of a resistor's or capacitor's
+// admittance, normalised by rn (a capacitor's per unit p at scale rad/s),
+// to sys.g or sys.c.
+func (sys *system) stampPart(p Part, t *nodeTable, rn, scale float64) {
+	n := sys.n
+	i, j := t.unknown(p.A), t.unknown(p.B)
+	mat, y := sys.g, rn/p.Value
+	if p.Kind == Capacitor {
+		mat, y = sys.c, rn*p.Value*scale
+	}
+	if i >= 0 {
+		mat[i*n+i] += y
+	}
+	if j >= 0 {
+		mat[j*n+j] += y
+	}
+	if i >= 0 && j >= 0 {
+		mat[i*n+j] -= y
+		mat[j*n+i] -= y
+	}
 }
 
 // fill sets sys.a to A(p).
