@@ -66,9 +66,11 @@ func TestBenchPanel(t *testing.T) {
 	settle := testid(page, "fig-settling")
 	require.Regexp(t, `^Settling time [0-9.]+ [mµ]s to ±½ LSB \(16 bits`, settle)
 	require.Contains(t, settle, "sample periods")
-	require.Contains(t, testid(page, "check-noise"), "LSB/√12 = 17.6 µV rms")
+	// The checks are synth's sentences (synth/checks.go), shown as they are.
+	require.Contains(t, testid(page, "check-noise"), "quantisation noise 17.6 µV rms")
 	require.NotEmpty(t, testid(page, "check-yield"))
-	require.Contains(t, testid(page, "check-slew"), "Slew rate")
+	require.Contains(t, testid(page, "check-slew"), "A full-scale sine at the passband edge needs")
+	require.Contains(t, testid(page, "check-built-mask"), "As built")
 	require.NotEmpty(t, testid(page, "fig-overshoot"))
 	require.NotEmpty(t, testid(page, "fig-rise"))
 	require.Contains(t, testid(page, "mc-summary"), "500 trials, seed 11")

@@ -10,7 +10,6 @@ import (
 	"log/slog"
 	"runtime/debug"
 	"strconv"
-	"strings"
 	"sync"
 
 	"github.com/a-h/templ"
@@ -48,7 +47,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		res.Notes = append(res.Notes, "The circuit of this design could not be built, so schematics, parts, the SPICE deck and the bill of materials are left out.")
 	}
 
-	res.Meets, res.Verdict = verdict(d)
+	headline(&res, d)
 	res.Summary = summary(d, ch, hasChain)
 
 	views, err := sectionViews(d)
@@ -203,27 +202,25 @@ func inlineSVG(b []byte) []byte {
 	return bytes.TrimSpace(b)
 }
 
-// verdict says whether d meets its mask and by how much: the margins in
-// both bands, or the band that fails and by how much.
-func verdict(d *synth.Design) (bool, string) {
-	pass, stop := d.Mask.PassbandMarginDB, d.Mask.StopbandMarginDB
-	if d.MeetsMask {
-		if stop == nil {
-			return true, "Meets the passband (no stopband given) · margin " + db(pass, true)
-		}
-		return true, "Meets the mask · margins: passband " + db(pass, true) + ", stopband " + db(*stop, true)
+// headline fills the result's verdicts from synth's checks: the board as
+// built (the ideal filter's when there is no circuit) as the headline, the
+// ideal verdict and the yield beside it, and every check in order. The
+// page words nothing itself.
+func headline(res *components.Result, d *synth.Design) {
+	byID := map[string]synth.Check{}
+	for _, c := range d.Checks {
+		byID[c.ID] = c
+		res.Checks = append(res.Checks, components.Check{Good: c.OK, Severity: string(c.Severity), Text: c.Text, TestID: "check-" + c.ID})
 	}
-	var short []string
-	if !d.Mask.PassbandMet {
-		short = append(short, "passband by "+db(-pass, false))
+	ideal := byID[synth.CheckIdealMask]
+	if built, ok := byID[synth.CheckBuiltMask]; ok {
+		res.Meets, res.Verdict, res.Ideal = built.OK, built.Text, ideal.Text
+	} else {
+		res.Meets, res.Verdict = ideal.OK, ideal.Text
 	}
-	if stop != nil && !d.Mask.StopbandMet {
-		short = append(short, "stopband by "+db(-*stop, false))
+	if y, ok := byID[synth.CheckYield]; ok {
+		res.Yield = y.Text
 	}
-	if len(short) == 0 {
-		return false, "Misses the mask"
-	}
-	return false, "Misses the mask: " + strings.Join(short, ", ")
 }
 
 // summary are the headline figures of d.

@@ -51,7 +51,7 @@ func TestRoutes(t *testing.T) {
 			contains: []string{`data-testid="result"`, `data-testid="stage-table"`, `data-testid="verdict"`, "Chebyshev I lowpass, order"}},
 		// Butterworth order 2 at 4× the passband edge: 10·log10(1 + (10^0.1 − 1)·4⁴) ≈ 18.2 dB < 40 dB (closed form).
 		{name: "design that misses", method: "GET", target: "/design?passband_hz=1000&stopband_hz=4000&order=2", wantStatus: 200, wantType: "text/html",
-			contains: []string{"Misses the mask: stopband by", `class="verdict bad"`}},
+			contains: []string{"misses the stopband attenuation by 21.72 dB", `class="verdict bad"`, `data-testid="check-built-mask"`}},
 		{name: "design band", method: "GET", target: "/design?" + bandQuery, wantStatus: 200, wantType: "text/html",
 			contains: []string{"Chebyshev I bandpass"}},
 		{name: "design bad field", method: "GET", target: "/design?passband_hz=1000&stopband_hz=800", wantStatus: 400, wantType: "text/html",

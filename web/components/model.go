@@ -108,10 +108,18 @@ type Result struct {
 	Title string
 	// Summary are the headline figures.
 	Summary []Figure
-	// Verdict says whether the design meets the mask, and by how much.
+	// Verdict is the headline: the board as built (or, without a
+	// circuit, the ideal filter) against the mask, in synth's words.
 	Verdict string
-	// Meets reports whether it does.
+	// Meets reports whether the headline verdict passes.
 	Meets bool
+	// Ideal is the ideal filter's verdict, shown beside the headline when
+	// the headline is the board as built; empty otherwise.
+	Ideal string
+	// Yield is the Monte Carlo's yield in words; empty without one.
+	Yield string
+	// Checks are the design's verdicts (synth's checks list), in order.
+	Checks []Check
 	// Notes are remarks on what the page leaves out and why.
 	Notes []string
 	// Columns are the headers of the stage table, Stages its rows.
@@ -174,12 +182,14 @@ type StageCard struct {
 
 // PartRow is one part of a stage: value as built and exact value, and,
 // when the design has them, its tolerance, the normalised sensitivities
-// of the stage's f0 and Q to it and the tolerance it needs (Loose: its
-// own is wider).
+// of the stage's f0 and Q to it, the tolerance it needs and how far it
+// may move before the board fails.
 type PartRow struct {
 	Ref, Kind, Value, Exact, Deviation, Series string
 	Tolerance, SensF0, SensQ, Needs            string
-	Loose                                      bool
+	// FailsAt is the part's fail_at_pct in words: how far it may move
+	// alone before the board fails.
+	FailsAt string
 }
 
 // Bench is the "Will it work on the bench" panel: the Monte Carlo, the
@@ -187,8 +197,6 @@ type PartRow struct {
 type Bench struct {
 	// Figures are the headline numbers.
 	Figures []Figure
-	// Checks are the verdicts, good or bad, in words.
-	Checks []Check
 	// MonteCarlo is nil when the spec asks for no trials; Hint then says
 	// how to ask.
 	MonteCarlo *MonteCarloView
@@ -203,11 +211,14 @@ type Bench struct {
 	Notes []string
 }
 
-// Check is one verdict of the bench panel.
+// Check is one verdict of the design, as synth words it.
 type Check struct {
-	Good   bool
-	Text   string
-	TestID string
+	// Good is the check's ok; Severity synth's severity ("error",
+	// "warning", "info").
+	Good     bool
+	Severity string
+	Text     string
+	TestID   string
 }
 
 // MonteCarloView is the Monte Carlo part of the bench panel.
