@@ -147,7 +147,7 @@ type Section struct {
 	// the stage, say).
 	Warnings []string `json:"warnings"`
 	// Sensitivities are the parts' normalised sensitivities of the stage's
-	// f0 and Q with ideal op-amps (the passive sensitivities), largest
+	// f0 and Q as built (with the spec's op-amp), largest
 	// first.
 	Sensitivities []Sensitivity `json:"sensitivities"`
 	// RequiredTolerance is the tolerance each part needs for the stage's

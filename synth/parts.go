@@ -10,7 +10,7 @@ import (
 )
 
 // Sensitivity is a part's normalised sensitivity S = ∂ln y/∂ln x of its
-// stage's f0 and Q.
+// stage's f0 and Q, the stage as built (with the spec's op-amp).
 type Sensitivity struct {
 	Ref string  `json:"ref"`
 	F0  float64 `json:"f0"`
@@ -25,13 +25,15 @@ type PartTolerance struct {
 }
 
 // partFigures fills stage i's sensitivities and required part
-// tolerances.
+// tolerances, both of the stage as built: its parts and the chain's
+// op-amp model.
 func (d *Design) partFigures(ch circuit.Chain, i int) error {
 	sec := &d.Sections[i]
 	s := d.Spec
-	// Passive sensitivities, with ideal op-amps: the textbook figure, and a
-	// fraction of the cost of the op-amp model's higher-degree forms.
-	sens, err := verify.Sensitivities(ch.Stages[i], circuit.Model{Ideal: true})
+	// The stage as built: the spec's op-amp, as everything beside them
+	// (realized, the Monte Carlo). Exact derivatives by the adjoint of the
+	// stage's nodal system, at the cost of one transfer function.
+	sens, err := verify.Sensitivities(ch.Stages[i], ch.Model)
 	if err != nil {
 		return fmt.Errorf("synth: stage %d sensitivities: %w", i+1, err)
 	}

@@ -29,9 +29,22 @@ const inverterOhm = 10e3
 type OpAmpNeeds struct {
 	// GBWHz is the least gain-bandwidth product (single-pole model, the
 	// spec's DC gain) that keeps the op-amp's own effect on the stage's
-	// f0, Q and gain at f0 within 1 % (the gain matters for a buffer,
-	// whose op-amp adds a pole but moves no other), found to within about 10 % (the errors it gives lie
-	// between 0.9 % and 1 %); nil when no gain-bandwidth up to 1 THz does.
+	// f0, Q and gain at f0 within 1 %, found to within 10 %: the errors
+	// at it lie between 0.9 % and 1 %, and at 90 % of it they exceed 1 %
+	// (the search holds a failing point less than 10 % below it; the
+	// errors fall with the GBW there). f0 and Q are those of the section's
+	// poles (the real pole of a first-order stage); the gain is |H| at the
+	// ideal f0. For a notch section, whose zeros sit at f0 so that its gain
+	// there is zero in theory, the frequency of its zeros takes the gain's
+	// place. A first-order stage whose op-amp only buffers (rc-buffer)
+	// keeps its f0 whatever the op-amp, which adds a pole of its own and
+	// moves no other: its figure rests on the gain at f0 alone, which a
+	// follower of noise gain G keeps within 1 % down to GBW ≈ 7·G·f0
+	// (|1/(1 + j·G·f0/GBW)| = 0.99; the error falls as the square of
+	// G·f0/GBW), below the rule of thumb's 50·f0 for G < 7; the phase at
+	// f0, which is not judged, then lags by about G·f0/GBW rad (8° at
+	// 7·f0). nil when no gain-bandwidth up to 1 THz does (the spec's DC
+	// gain alone can cost a high-Q stage more than 1 %).
 	GBWHz *float64 `json:"gbw_hz"`
 	// RuleOfThumbGBWHz is the common-practice estimate 100·Q·f0 (50·f0 for
 	// a first-order stage), shown beside GBWHz for comparison.
@@ -225,7 +238,7 @@ func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model) erro
 	if !model.Ideal && worst > 0 {
 		start = model.GBWHz * worst / opAmpNeedPct // errors fall as 1/GBW
 	}
-	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start)
+	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start, sec.Kind == section.Notch)
 	if !model.Ideal && worst > OpAmpErrorFlagPct {
 		need := "no gain-bandwidth up to 1 THz keeps it within 1 %"
 		if g := sec.OpAmpNeeds.GBWHz; g != nil {
@@ -247,14 +260,46 @@ func pctText(p *float64) string {
 	return fmt.Sprintf("%.2f %%", *p)
 }
 
+// The op-amp need search (opAmpNeeds).
+const (
+	// needBracket: the least gain-bandwidth lies within this factor below
+	// the reported one (10 %): the search ends on a bracket lo < need ≤
+	// lo·needBracket with the errors above the limit at lo and within it
+	// at the need.
+	needBracket = 1.1
+	// needLowFrac: the errors at the reported need are at least this share
+	// of the limit (for an error law steeper than 1/GBW the bracket alone
+	// would not ensure it).
+	needLowFrac = 0.9
+	// needAim is the share of the limit that the power-law steps aim at.
+	needAim = 0.95
+	// needMaxEvals bounds the analyses of one search (3 or 4 in practice).
+	needMaxEvals = 40
+	// maxNeedGBWHz is the largest gain-bandwidth tried.
+	maxNeedGBWHz = 1e12
+)
+
 // opAmpNeeds finds the least gain-bandwidth that keeps the op-amp's own
-// effect on the stage's f0, Q and gain at f0 within opAmpNeedPct, with the spec's DC
-// gain (100 dB for an ideal spec). Well above the stage's f0 the errors
-// fall as 1/GBW, so a secant step on that law from start (the estimate from
-// the spec's op-amp, or the rule of thumb when start is 0) reaches the
-// answer in a few evaluations; the result is then checked and nudged up
-// until it holds.
-func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int, start float64) *OpAmpNeeds {
+// effect on the stage within opAmpNeedPct, with the spec's DC gain (100 dB
+// for an ideal spec). f0 and q are the stage's with ideal op-amps, order
+// its section's order, notch whether its jω-axis zeros sit at f0 by design
+// (a notch section), start an estimate of the need (0: none).
+//
+// The effect is the largest of the relative changes of f0 and (second
+// order) Q of the section's poles, as [circuit.Rational.DominantPair]
+// reads them, and of the gain |H| at the ideal f0; for a notch section,
+// whose gain at f0 is zero in theory and whose relative change there is no
+// measure, the change of the frequency of its zeros takes the gain's
+// place. The errors fall as 1/GBW for most stages and as 1/GBW² for a
+// follower (see OpAmpNeeds.GBWHz), so the search steps on a power law
+// whose exponent it measures from its last two analyses, aiming at
+// needAim of the limit, until it holds a bracket lo < need ≤
+// lo·needBracket with the errors above the limit at lo and between
+// needLowFrac of it and the limit at the need. Only a failing point above
+// the best passing one moves the bracket's top, so that where the errors
+// are not monotone the need is the crossing nearest the fast op-amps. The
+// need is never below f0; nil when the errors exceed the limit at 1 THz.
+func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int, start float64, notch bool) *OpAmpNeeds {
 	dc := model.DCGainDB
 	if model.Ideal {
 		dc = 100
@@ -263,12 +308,16 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 	if order == 2 {
 		rule = 100 * q * f0
 	}
-	// worst returns the larger of the op-amp's f0 and Q errors, in percent.
 	idealTF, err := st.TransferFunction(circuit.Model{Ideal: true})
 	if err != nil {
 		return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
 	}
 	refGain := cmplx.Abs(idealTF.AtHz(f0))
+	var zero complex128 // the notch's zero (rad/s), upper half plane
+	if notch {
+		zero = axisZeroNear(idealTF.Zeros(), 2*math.Pi*f0)
+	}
+	// worst returns the op-amp's largest error, in percent.
 	worst := func(gbw float64) float64 {
 		tf, err := st.TransferFunction(circuit.Model{GBWHz: gbw, DCGainDB: dc})
 		if err != nil {
@@ -279,41 +328,114 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 		if !ok {
 			return math.Inf(1)
 		}
-		e := math.Max(math.Abs(pct(f, f0)), math.Abs(pct(cmplx.Abs(tf.AtHz(f0)), refGain)))
+		e := math.Abs(pct(f, f0))
 		if order == 2 {
 			e = math.Max(e, math.Abs(pct(qq, q)))
 		}
+		if zero == 0 {
+			e = math.Max(e, math.Abs(pct(cmplx.Abs(tf.AtHz(f0)), refGain)))
+		} else {
+			z := nearestRoot(tf.Zeros(), zero)
+			e = math.Max(e, math.Abs(pct(cmplx.Abs(z), cmplx.Abs(zero))))
+		}
+		if math.IsNaN(e) {
+			return math.Inf(1)
+		}
 		return e
 	}
-	const maxGBWHz = 1e12
+	const limit = opAmpNeedPct
 	g := rule
-	if start > f0 && start < maxGBWHz {
+	if start > f0 && start < maxNeedGBWHz {
 		g = start
 	}
-	// Secant steps on the 1/GBW law aim at 95 % of the limit; an answer
-	// whose errors lie between 90 % and 100 % of it is taken (so the need
-	// is found to within about 10 %).
-	for range 6 {
+	var lo, hi, eHi float64 // the bracket: errors above the limit at lo, within it at hi (0: none yet)
+	var gPrev, ePrev float64
+	for range needMaxEvals {
 		e := worst(g)
-		if e <= opAmpNeedPct && e >= 0.9*opAmpNeedPct {
-			return &OpAmpNeeds{GBWHz: &g, RuleOfThumbGBWHz: rule}
+		switch {
+		case e > limit:
+			if g > lo {
+				lo = g
+				if hi <= lo {
+					hi = 0 // a failing point above the passing one: the crossing is higher
+				}
+			}
+		case g > lo && (hi == 0 || g < hi):
+			hi, eHi = g, e
 		}
-		if math.IsInf(e, 0) || e == 0 {
-			break
+		switch {
+		case hi > 0 && lo > 0 && hi <= lo*needBracket && eHi >= needLowFrac*limit,
+			hi > 0 && hi <= f0:
+			need := hi
+			return &OpAmpNeeds{GBWHz: &need, RuleOfThumbGBWHz: rule}
+		case lo >= maxNeedGBWHz:
+			return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
 		}
-		next := math.Min(maxGBWHz, math.Max(f0, g*e/(0.95*opAmpNeedPct)))
-		if math.Abs(next/g-1) < 1e-3 {
-			break
+		// A power-law step e ∝ GBW^−n towards needAim·limit, n from the
+		// last two analyses (1 at first), bounded to [0.5, 3].
+		n := 1.0
+		if gPrev > 0 && ePrev > 0 && e > 0 && !math.IsInf(ePrev, 0) && !math.IsInf(e, 0) && g != gPrev {
+			if m := math.Log(ePrev/e) / math.Log(g/gPrev); m > 0 {
+				n = math.Min(math.Max(m, 0.5), 3) // else not falling: keep 1
+			}
 		}
-		g = next
+		next := g * 16
+		switch {
+		case math.IsInf(e, 1):
+		case e == 0:
+			next = g / 16
+		default:
+			next = g * math.Pow(e/(needAim*limit), 1/n)
+		}
+		switch {
+		case hi > 0 && lo > 0:
+			// Inside the bracket; once narrow enough, halve it (in log) until
+			// the errors at its top reach needLowFrac of the limit.
+			switch {
+			case hi <= lo*needBracket || next <= lo || next >= hi:
+				next = math.Sqrt(lo * hi)
+			case next > hi/needBracket:
+				next = hi / needBracket // try to close the bracket at once
+			}
+		case hi > 0:
+			next = math.Max(math.Max(math.Min(next, hi/needBracket), hi/16), f0)
+		default:
+			next = math.Min(math.Max(next, lo*needBracket), math.Min(lo*16, maxNeedGBWHz))
+		}
+		gPrev, ePrev, g = g, e, next
 	}
-	for range 40 {
-		if worst(g) <= opAmpNeedPct {
-			return &OpAmpNeeds{GBWHz: &g, RuleOfThumbGBWHz: rule}
-		}
-		if g *= 1.05; g > maxGBWHz {
-			break
-		}
+	if hi > 0 {
+		need := hi
+		return &OpAmpNeeds{GBWHz: &need, RuleOfThumbGBWHz: rule}
 	}
 	return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
+}
+
+// axisZeroNear returns the zero of zeros in the upper half plane on the jω
+// axis (|Re z| ≤ 1e-6·|z|) nearest to j·w, or 0 when there is none.
+func axisZeroNear(zeros []complex128, w float64) complex128 {
+	var best complex128
+	dist := math.Inf(1)
+	for _, z := range zeros {
+		if imag(z) <= 0 || math.Abs(real(z)) > 1e-6*cmplx.Abs(z) {
+			continue
+		}
+		if d := math.Abs(cmplx.Abs(z) - w); d < dist {
+			best, dist = z, d
+		}
+	}
+	return best
+}
+
+// nearestRoot returns the root of roots nearest to z (NaN when there is
+// none).
+func nearestRoot(roots []complex128, z complex128) complex128 {
+	best := cmplx.NaN()
+	dist := math.Inf(1)
+	for _, r := range roots {
+		if d := cmplx.Abs(r - z); d < dist {
+			best, dist = r, d
+		}
+	}
+	return best
 }

@@ -1,0 +1,141 @@
+package synth_test
+
+import (
+	"fmt"
+	"slices"
+	"testing"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
+)
+
+// kindStage is one stage of a design, labelled by its kind.
+type kindStage struct {
+	design string // the stageKindSpecs entry
+	index  int    // 0-based stage index
+	kind   string // stageKind's label
+	spec   synth.Spec
+	d      *synth.Design
+	ch     circuit.Chain
+}
+
+// everyStageKind lists the labels stageKind gives, one per stage kind the
+// tool builds: the first-order forms, Sallen-Key and multiple-feedback
+// lowpass, highpass and bandpass, the state-variable forms with and
+// without the notch summer and its T-network, and stages that carry the
+// polarity inverter.
+var everyStageKind = []string{
+	"rc-buffer/lowpass", "rc-buffer/highpass", "rc-buffer/lowpass+gain",
+	"inverting-rc/lowpass", "inverting-rc/highpass",
+	"sallen-key/lowpass", "sallen-key/highpass", "sallen-key/lowpass+gain",
+	"multiple-feedback/lowpass", "multiple-feedback/highpass", "multiple-feedback/bandpass",
+	"multiple-feedback/lowpass+inverter", "multiple-feedback/highpass+inverter", "multiple-feedback/bandpass+inverter",
+	"state-variable/bandpass", "state-variable/lowpass+inverter", "state-variable/highpass+inverter",
+	"state-variable/lowpass-notch", "state-variable/highpass-notch", "state-variable/notch",
+	"state-variable/lowpass-notch+tee",
+}
+
+// stageKindSpecs are designs (our own choice of specs) whose stages
+// between them are of every kind in everyStageKind, with the base spec's
+// 10 MHz, 100 dB op-amp.
+func stageKindSpecs() []struct {
+	name string
+	spec synth.Spec
+} {
+	spec := func(resp synth.Response, approx string, order int, pass []float64, edit func(*synth.Spec)) synth.Spec {
+		s := baseSpec(resp, approx)
+		s.Order, s.PassbandHz = order, pass
+		if edit != nil {
+			edit(&s)
+		}
+		return s
+	}
+	top := func(t string) func(*synth.Spec) { return func(s *synth.Spec) { s.Topology = t } }
+	return []struct {
+		name string
+		spec synth.Spec
+	}{
+		{"lowpass-3", spec(synth.Lowpass, "butterworth", 3, []float64{1000}, nil)},
+		{"highpass-3", spec(synth.Highpass, "butterworth", 3, []float64{1000}, nil)},
+		{"lowpass-3-gain", spec(synth.Lowpass, "butterworth", 3, []float64{1000}, func(s *synth.Spec) { s.GainDB = 12 })},
+		{"lowpass-3-mfb", spec(synth.Lowpass, "butterworth", 3, []float64{1000}, top("multiple-feedback"))},
+		{"highpass-3-mfb", spec(synth.Highpass, "butterworth", 3, []float64{1000}, top("multiple-feedback"))},
+		{"lowpass-2-mfb", spec(synth.Lowpass, "butterworth", 2, []float64{1000}, top("multiple-feedback"))},
+		{"highpass-2-mfb", spec(synth.Highpass, "butterworth", 2, []float64{1000}, top("multiple-feedback"))},
+		{"lowpass-2-sv", spec(synth.Lowpass, "butterworth", 2, []float64{1000}, top("state-variable"))},
+		{"highpass-2-sv", spec(synth.Highpass, "butterworth", 2, []float64{1000}, top("state-variable"))},
+		{"bandpass-2", spec(synth.Bandpass, "butterworth", 1, []float64{900, 1100}, nil)},
+		{"bandpass-4", spec(synth.Bandpass, "butterworth", 2, []float64{900, 1100}, nil)},
+		{"bandpass-2-sv", spec(synth.Bandpass, "butterworth", 1, []float64{900, 1100}, top("state-variable"))},
+		{"bandstop-2", spec(synth.Bandstop, "chebyshev2", 1, []float64{300, 3000}, nil)},
+		{"elliptic-lowpass-4", spec(synth.Lowpass, "elliptic", 4, []float64{1000}, nil)},
+		{"elliptic-highpass-4", spec(synth.Highpass, "elliptic", 4, []float64{1000}, nil)},
+		{"elliptic-lowpass-2-tee", spec(synth.Lowpass, "elliptic", 2, []float64{500}, func(s *synth.Spec) {
+			s.PassbandRippleDB, s.StopbandAttenDB = 0.1, 60
+		})},
+		{"chebyshev1-lowpass-8", spec(synth.Lowpass, "chebyshev1", 8, []float64{1000}, nil)},
+	}
+}
+
+// stageKind labels a stage: topology/section kind, with "+inverter" when
+// the polarity inverter follows it, "+tee" for a state-variable notch
+// summer with a T-network and "+gain" for a first-order or Sallen-Key
+// stage with a gain-setting divider.
+func stageKind(st circuit.Stage, sec synth.Section) string {
+	k := fmt.Sprintf("%s/%s", st.Topology, sec.Kind)
+	parts := len(st.Parts)
+	inverter := st.Out == "inv_out" // the node withInverter names
+	if inverter {
+		parts -= 2
+	}
+	switch {
+	case st.Topology == "state-variable" && parts == 14:
+		k += "+tee"
+	case st.Topology == "rc-buffer" && parts > 2, st.Topology == "sallen-key" && parts > 4:
+		k += "+gain"
+	}
+	if inverter {
+		k += "+inverter"
+	}
+	return k
+}
+
+// stageKindStages designs every stageKindSpecs entry, with edit applied
+// to its spec, and returns all their stages; it checks that every kind
+// of everyStageKind is among them.
+func stageKindStages(t *testing.T, edit func(*synth.Spec)) []kindStage {
+	t.Helper()
+	var out []kindStage
+	seen := map[string]bool{}
+	for _, c := range stageKindSpecs() {
+		s := c.spec
+		if edit != nil {
+			edit(&s)
+		}
+		d := synthesize(t, s)
+		ch, err := d.Chain()
+		require.NoError(t, err)
+		for i, st := range ch.Stages {
+			k := stageKind(st, d.Sections[i])
+			seen[k] = true
+			out = append(out, kindStage{design: c.name, index: i, kind: k, spec: s, d: d, ch: ch})
+		}
+	}
+	for _, k := range everyStageKind {
+		require.True(t, seen[k], "no stage of kind %s among the designs", k)
+	}
+	return out
+}
+
+// firstOfEachKind keeps the first stage of every kind.
+func firstOfEachKind(all []kindStage) []kindStage {
+	var out []kindStage
+	for _, s := range all {
+		if !slices.ContainsFunc(out, func(o kindStage) bool { return o.kind == s.kind }) {
+			out = append(out, s)
+		}
+	}
+	return out
+}
