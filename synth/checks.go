@@ -292,6 +292,8 @@ func (d *Design) opAmpGBWCheck() (Check, bool) {
 // values.
 func dbText(v float64) string {
 	switch a := math.Abs(v); {
+	case a < 5e-4:
+		return "0.000"
 	case a >= 100:
 		return fmt.Sprintf("%.1f", v)
 	case a >= 10:

@@ -85,6 +85,12 @@ var specFields = []field{
 		Placeholder: "lowest that meets the mask", Hint: fmt.Sprintf("0 or empty: the lowest order that meets the mask; at most %d", synth.MaxOrder), Group: groupBands},
 	{Name: "gain_db", Path: []string{"gain_db"}, Label: "Passband gain (dB)", Noun: "the passband gain", Kind: kindNumber,
 		Placeholder: "0", Hint: fmt.Sprintf("of the whole chain, %d to +%d dB", synth.MinGainDB, synth.MaxGainDB), Group: groupBands},
+	{Name: "gain_tolerance_db", Path: []string{"gain_tolerance_db"}, Label: "Gain tolerance (± dB)", Noun: "the gain tolerance", Kind: kindNumber,
+		Placeholder: "not judged", Hint: "the board's passband maximum must lie within ± this of the passband gain", Group: groupBands},
+	{Name: "design_margin_passband_db", Path: []string{"design_margin", "passband_db"}, Label: "Design margin, passband (dB)", Noun: "the passband design margin", Kind: kindNumber,
+		Placeholder: "0", Hint: "design to Amax less this, judge against Amax: room for part tolerances", Group: groupBands},
+	{Name: "design_margin_stopband_db", Path: []string{"design_margin", "stopband_db"}, Label: "Design margin, stopband (dB)", Noun: "the stopband design margin", Kind: kindNumber,
+		Placeholder: "0", Hint: "design to Amin plus this, judge against Amin", Group: groupBands},
 	{Name: "topology", Path: []string{"topology"}, Label: "Stage circuit", Noun: "the stage circuit", Kind: kindChoice,
 		Choices: synth.Topologies, Default: "auto", Hint: "auto picks per stage and says why", Group: groupCircuit},
 	{Name: "resistor_series", Path: []string{"resistor_series"}, Label: "Resistor series", Noun: "the resistor series", Kind: kindChoice,
@@ -110,9 +116,9 @@ var specFields = []field{
 	{Name: "opamp_slew_v_per_s", Path: []string{"opamp", "slew_v_per_s"}, Label: "Slew rate (V/s)", Noun: "the op-amp's slew rate", Kind: kindNumber,
 		Placeholder: "10M", Hint: "10M is 10 V/µs; compared with what each stage needs", Group: groupOpAmp},
 	{Name: "tolerance_resistor_pct", Path: []string{"tolerance", "resistor_pct"}, Label: "Resistor tolerance (%)", Noun: "the resistor tolerance", Kind: kindNumber,
-		Placeholder: "the series' usual (E96: 1)", Hint: "0 or empty: E3 40, E6 20, E12 10, E24 5, E48 2, E96 1, E192 0.5; at most 50", Group: groupBench},
+		Placeholder: "the series' usual (E96: 1)", Hint: "empty: E3 40, E6 20, E12 10, E24 5, E48 2, E96 1, E192 0.5; 0: exact parts; at most 50", Group: groupBench},
 	{Name: "tolerance_capacitor_pct", Path: []string{"tolerance", "capacitor_pct"}, Label: "Capacitor tolerance (%)", Noun: "the capacitor tolerance", Kind: kindNumber,
-		Placeholder: fmt.Sprint(synth.DefaultCapacitorPct), Hint: "0 or empty: 5; at most 50", Group: groupBench},
+		Placeholder: fmt.Sprint(synth.DefaultCapacitorPct), Hint: "empty: 5; 0: exact parts; at most 50", Group: groupBench},
 	{Name: "tolerance_distribution", Path: []string{"tolerance", "distribution"}, Label: "Part spread", Noun: "the part spread", Kind: kindChoice,
 		Choices: synth.Distributions, Default: "uniform", Hint: "gaussian takes the tolerance as 3σ", Group: groupBench},
 	{Name: "tolerance_gbw_pct", Path: []string{"tolerance", "gbw_pct"}, Label: "Op-amp GBW spread (%)", Noun: "the op-amp GBW spread", Kind: kindNumber,
@@ -127,6 +133,10 @@ var specFields = []field{
 		Placeholder: "e.g. 16", Hint: "1 to 32; sets the LSB and the ±½ LSB settling band", Group: groupConv},
 	{Name: "converter_full_scale_vpp", Path: []string{"converter", "full_scale_vpp"}, Label: "Full scale (V peak to peak)", Noun: "the converter's full scale", Kind: kindNumber,
 		Placeholder: "e.g. 4", Hint: "give all three converter fields, or none", Group: groupConv},
+	{Name: "converter_output_rate_hz", Path: []string{"converter", "output_rate_hz"}, Label: "Output word rate (Hz)", Noun: "the converter's output rate", Kind: kindNumber,
+		Placeholder: "the sample rate", Hint: "below the sample rate for an oversampling converter; the noise its words carry is folded into half of it", Group: groupConv},
+	{Name: "converter_alias_atten_db", Path: []string{"converter", "alias_atten_db"}, Label: "Alias attenuation (dB)", Noun: "the alias attenuation", Kind: kindNumber,
+		Placeholder: "6.02·bits + 1.76", Hint: "least attenuation of everything sampling folds onto the passband; with a converter the stopband may be left empty (fs − passband edge)", Group: groupConv},
 }
 
 // slowTrials is the number of Monte Carlo trials above which the form
@@ -356,11 +366,11 @@ func canonicalQuery(vals formValues) string {
 // specWord matches the spec's JSON field names inside a reason text: a
 // snake_case name, or a dotted nested one ("opamp.gbw_hz",
 // "montecarlo.trials").
-var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
+var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter|design_margin)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
 
 // nestedObjects are the spec's objects whose fields are named bare inside
 // their own messages ("needs bits, sample_rate_hz and full_scale_vpp").
-var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo"}
+var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo", "design_margin"}
 
 // practitionerReason rewrites the JSON field names in a synth reason as
 // the nouns of the form ("must be above the passband edge for a lowpass").
