@@ -2,6 +2,7 @@ package synth_test
 
 import (
 	"context"
+	"fmt"
 	"testing"
 
 	"github.com/polewright/polewright/synth"
@@ -76,5 +77,33 @@ func BenchmarkSynthesize(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// BenchmarkMonteCarloDesign times a whole design with 4,000 Monte Carlo
+// trials (parts at 1 % and 5 %) and the same design without: the
+// difference over 4,000 is the cost of one trial, acceptance rule
+// included.
+func BenchmarkMonteCarloDesign(b *testing.B) {
+	for _, name := range []string{"butterworth-8", "elliptic-8"} {
+		for _, trials := range []int{0, 4000} {
+			var s synth.Spec
+			for _, bs := range benchSpecs {
+				if bs.name == name {
+					s = bs.spec
+				}
+			}
+			s.Tolerance = synth.Tolerance{ResistorPct: 1, CapacitorPct: 5, Distribution: "uniform"}
+			s.MonteCarlo = synth.MonteCarlo{Trials: trials, Seed: 1}
+			b.Run(fmt.Sprintf("%s/trials=%d", name, trials), func(b *testing.B) {
+				b.ReportAllocs()
+				ctx := context.Background()
+				for b.Loop() {
+					if _, err := synth.Synthesize(ctx, s); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
 	}
 }
