@@ -77,7 +77,7 @@ func checkFieldError(t *testing.T, err error) {
 // converter; the files under testdata/fuzz/FuzzDesignFinite are added.
 // The Monte Carlo is capped at 50 trials to keep an execution short.
 //
-//	go test -run XXX -fuzz FuzzDesignFinite -fuzztime 3000x ./synth/
+//	go test -run XXX -fuzz '^FuzzDesignFinite$' -fuzztime 3000x ./synth/
 func FuzzDesignFinite(f *testing.F) {
 	wide := `"resistor_range_ohm": [10, 10e6], "capacitor_range_farad": [1e-12, 1e-3]`
 	conv := `"converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4}`
@@ -118,7 +118,7 @@ func FuzzDesignFinite(f *testing.F) {
 // windows or not, and the op-amp's gain-bandwidth (0: ideal; else 100 kHz
 // to 100 MHz). A parameter outside its range is folded into it.
 //
-//	go test -run XXX -fuzz FuzzDesignFiniteParams -fuzztime 1000x ./synth/
+//	go test -run XXX -fuzz '^FuzzDesignFiniteParams$' -fuzztime 1000x ./synth/
 func FuzzDesignFiniteParams(f *testing.F) {
 	f.Add(uint8(3), uint8(4), uint8(20), 500.0, 4.0, 1.6, 0.5, 60.0, uint8(0), true, 10e6)
 	f.Add(uint8(3), uint8(4), uint8(20), 100.0, 100.0, 9.0, 1.0, 40.0, uint8(16), true, 10e6)
