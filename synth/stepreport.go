@@ -1,34 +1,83 @@
 package synth
 
 import (
+	"errors"
 	"fmt"
+	"math"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/step"
 )
 
 // StepReport is the unit-step response, ideal and as built, with the
-// figures of the as-built one.
+// figures of the as-built one. Every number in it is finite: a figure
+// that is undefined for the response, or that cannot be computed, is nil.
 type StepReport struct {
-	TimeS    []float64 `json:"time_s"`
-	Ideal    []float64 `json:"ideal"`
+	// TimeS are the times of Ideal and Realized: StepPoints equally
+	// spaced from 0 to step.SettleMargin times the later of the two
+	// settling times (when neither has one, a span from the ideal filter's
+	// slowest pole, as step.SettlingGrid takes it).
+	TimeS []float64 `json:"time_s"`
+	// Ideal is the step response of the ideal sections.
+	Ideal []float64 `json:"ideal"`
+	// Realized is the step response of the circuit as built; nil when it
+	// cannot be computed, in particular for an unstable board (Unstable).
 	Realized []float64 `json:"realized"`
-	// OvershootPct, RiseTimeS and SettlingS are nil where undefined (a
-	// response with no DC gain has no rise time, say).
-	OvershootPct *float64 `json:"overshoot_pct"`
-	RiseTimeS    *float64 `json:"rise_time_s"`
-	SettlingS    *float64 `json:"settling_s"`
-	// SettlingFrac is the settling band as a fraction of the final value:
-	// ½ LSB of the converter, or 0.1 %.
+	// The figures of the as-built response, by the rules of step.Figures
+	// (threshold step.MinFinalFrac = 1 %):
+	//
+	//   - OvershootPct, in % of the final value, is given for a response
+	//     that settles to at least 1 % of its largest |y| (a lowpass, a
+	//     bandstop) and nil otherwise;
+	//   - UndershootPct is given for the others (a highpass, a bandpass, an
+	//     even-order equiripple highpass whose DC gain is its stopband
+	//     level) and nil where OvershootPct is given: the largest |y| of the
+	//     sign opposite to the largest excursion, in % of the largest |y|;
+	//   - RiseTimeS, 10–90 % of the way from y(0⁺) to the final value, is
+	//     nil where OvershootPct is, and for a response that starts within
+	//     1 % of its largest |y| of where it ends (an ideal bandstop starts
+	//     at its passband gain; as built, the op-amps' finite bandwidth
+	//     makes a bandstop rise from 0, at their speed, and that is what it
+	//     shows then);
+	//   - SettlingS is given for every response that settles: the last time
+	//     it is outside FinalValue ± SettlingBand.
+	OvershootPct  *float64 `json:"overshoot_pct"`
+	UndershootPct *float64 `json:"undershoot_pct"`
+	RiseTimeS     *float64 `json:"rise_time_s"`
+	SettlingS     *float64 `json:"settling_s"`
+	// SettlingFrac is the half-width of the settling band as a fraction of
+	// its reference: with a converter, ½ LSB = 2^−(bits+1) of full scale,
+	// and full scale of the unit-step response is the passband gain Gain
+	// (the converter sees full scale when the passband output is full
+	// scale); without one, 0.1 % of the response's largest |y|.
 	SettlingFrac float64 `json:"settling_frac"`
-	// IdealSettlingS is the settling time of the ideal response.
+	// SettlingBand is the half-width of the as-built response's settling
+	// band, in the units of the response (V/V): SettlingFrac·Gain with a
+	// converter, SettlingFrac times the as-built largest |y| without (the
+	// ideal response's when the as-built one has no figures).
+	SettlingBand float64 `json:"settling_band"`
+	// IdealSettlingS is the settling time of the ideal response, by the
+	// same rule (without a converter, to ±SettlingFrac of its own largest
+	// |y|).
 	IdealSettlingS *float64 `json:"ideal_settling_s"`
+	// Unstable reports a circuit that, as built, has a pole on or to the
+	// right of the imaginary axis (the op-amps' finite bandwidth can push
+	// a high-Q stage there): its step response does not settle, so
+	// Realized and the figures are nil.
+	Unstable bool `json:"unstable"`
 }
 
+// stepResponse fills d.Step. An analysis that cannot run (the as-built
+// cascade is unstable, too large for package step, or its response is not
+// finite) leaves its part of the report nil; only a chain without
+// transfer functions is an error.
 func (d *Design) stepResponse(ch circuit.Chain) error {
-	frac := DefaultSettlingFrac
+	band := step.Band{Frac: DefaultSettlingFrac}
 	if c := d.Spec.Converter; c != nil {
-		frac = step.HalfLSBFrac(c.Bits)
+		band = step.Band{Frac: step.HalfLSBFrac(c.Bits), FullScale: math.Abs(d.Gain)}
+		if !(band.FullScale > 0) || math.IsInf(band.FullScale, 0) {
+			band.FullScale = 0 // no passband gain to speak of: the peak stands in
+		}
 	}
 	var ideal, built []step.Stage
 	for _, sec := range d.Cascade() {
@@ -41,20 +90,58 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 	for _, r := range tfs {
 		built = append(built, step.FromRational(r))
 	}
-	t := step.SettlingGrid(built, StepPoints, frac)
-	yb, fig, err := step.Measure(built, t, frac)
-	if err != nil {
-		return fmt.Errorf("synth: step: %w", err)
+	figI, errI := step.Measure(ideal, band)
+	figB, errB := step.Measure(built, band)
+
+	// The grid: past the later settling time, or from the ideal poles.
+	end := 0.0
+	for _, f := range []step.Figures{figI, figB} {
+		if isFinite(f.SettlingS) {
+			end = math.Max(end, step.SettleMargin*f.SettlingS)
+		}
 	}
-	yi, err := step.Response(ideal, t)
-	if err != nil {
-		return fmt.Errorf("synth: step: %w", err)
+	if !(end > 0) {
+		g := step.SettlingGrid(ideal, 2, band.Frac)
+		end = g[1]
 	}
-	figIdeal := step.Analyze(t, yi, frac) // interpolated between samples: enough for a comparison figure
-	d.Step = &StepReport{
-		TimeS: t, Ideal: yi, Realized: yb, SettlingFrac: frac,
-		OvershootPct: finitePtr(fig.OvershootPct), RiseTimeS: finitePtr(fig.RiseTimeS),
-		SettlingS: finitePtr(fig.SettlingS), IdealSettlingS: finitePtr(figIdeal.SettlingS),
+	t := step.Grid(end, StepPoints)
+	rep := &StepReport{TimeS: t, SettlingFrac: band.Frac, Unstable: errors.Is(errB, step.ErrUnstable)}
+	if errI == nil {
+		rep.Ideal = finiteResponse(ideal, t)
+		rep.IdealSettlingS = finitePtr(figI.SettlingS)
 	}
+	if errB == nil {
+		rep.Realized = finiteResponse(built, t)
+	}
+	if rep.Realized != nil {
+		rep.OvershootPct = finitePtr(figB.OvershootPct)
+		rep.UndershootPct = finitePtr(figB.UndershootPct)
+		rep.RiseTimeS = finitePtr(figB.RiseTimeS)
+		rep.SettlingS = finitePtr(figB.SettlingS)
+	}
+	if isFinite(figI.BandAbs) {
+		rep.SettlingBand = figI.BandAbs
+	}
+	if rep.Realized != nil && isFinite(figB.BandAbs) {
+		rep.SettlingBand = figB.BandAbs
+	}
+	d.Step = rep
 	return nil
 }
+
+// finiteResponse returns the step response of stages at t, or nil when it
+// cannot be computed or is not finite everywhere.
+func finiteResponse(stages []step.Stage, t []float64) []float64 {
+	y, err := step.Response(stages, t)
+	if err != nil {
+		return nil
+	}
+	for _, v := range y {
+		if !isFinite(v) {
+			return nil
+		}
+	}
+	return y
+}
+
+func isFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

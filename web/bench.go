@@ -65,14 +65,21 @@ func benchView(d *synth.Design) *components.Bench {
 
 	// Step.
 	if st := d.Step; st != nil {
-		b.Figures = append(b.Figures,
-			components.Figure{Label: "Overshoot", Value: optional(st.OvershootPct, func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) + " %" }),
-				Detail: "of the final value, as built", TestID: "fig-overshoot"},
+		pct := func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) + " %" }
+		over := components.Figure{Label: "Overshoot", Value: optional(st.OvershootPct, pct), Detail: "of the final value, as built", TestID: "fig-overshoot"}
+		if st.OvershootPct == nil && st.UndershootPct != nil {
+			// A highpass or bandpass: no final value to overshoot.
+			over = components.Figure{Label: "Undershoot", Value: optional(st.UndershootPct, pct), Detail: "of the peak, the other sign, as built", TestID: "fig-overshoot"}
+		}
+		b.Figures = append(b.Figures, over,
 			components.Figure{Label: "Rise time", Value: optional(st.RiseTimeS, func(v float64) string { return si(v, "s", 3) }),
 				Detail: "10 % to 90 %", TestID: "fig-rise"},
 		)
 		settle := components.Figure{Label: "Settling time", Value: optional(st.SettlingS, func(v float64) string { return si(v, "s", 3) }), TestID: "fig-settling"}
 		settle.Detail = "to " + settlingBand(d)
+		if st.Unstable {
+			settle.Detail += "; unstable as built"
+		}
 		if st.IdealSettlingS != nil {
 			settle.Detail += "; ideal " + si(*st.IdealSettlingS, "s", 3)
 		}
@@ -101,8 +108,8 @@ func benchView(d *synth.Design) *components.Bench {
 		if s.Converter == nil {
 			crit = "give a converter to settle to ±½ LSB, the usual criterion in front of one (common practice)"
 		}
-		b.Notes = append(b.Notes, "Settling: the last time the as-built response to a unit step is outside "+settlingBand(d)+
-			" of its final value; "+crit+".")
+		b.Notes = append(b.Notes, "Settling: the last time the as-built response to a unit step is outside its final value "+settlingBand(d)+
+			" (full scale: the passband gain; the final value is 0 for a highpass or bandpass); "+crit+".")
 	}
 	if d.MonteCarlo != nil {
 		b.Notes = append(b.Notes, "Monte Carlo: each trial draws every resistor and capacitor within its tolerance and judges the board as built by the same acceptance rule "+
@@ -115,9 +122,9 @@ func benchView(d *synth.Design) *components.Bench {
 func settlingBand(d *synth.Design) string {
 	st := d.Step
 	if c := d.Spec.Converter; c != nil {
-		return fmt.Sprintf("±½ LSB (%d bits, ±%s of the final value)", c.Bits, pctOf(st.SettlingFrac))
+		return fmt.Sprintf("±½ LSB (%d bits, ±%s of full scale)", c.Bits, pctOf(st.SettlingFrac))
 	}
-	return "±" + pctOf(st.SettlingFrac)
+	return "±" + pctOf(st.SettlingFrac) + " of the peak"
 }
 
 // monteCarloView lays out the Monte Carlo of d.

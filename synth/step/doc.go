@@ -46,9 +46,24 @@
 // integration error, only rounding (about 1e-15 of the response's size in
 // the tests, against partial fractions and closed forms). A uniform grid needs one exponential
 // for its step and one for its first time, when that is not 0; a
-// non-uniform grid needs one per distinct step. Steps that differ only by
-// the rounding of the times themselves (a few ulp of t) count as equal.
+// non-uniform grid needs one per distinct step, except that a step twice
+// the last is derived from it by one squaring (Φ(2Δ) = Φ(Δ)²). Steps that
+// differ only by the rounding of the times themselves (a few ulp of t)
+// count as equal.
 //
 // At t = 0 the response is D = H(∞), the limit from the right, as in
 // scipy.signal.step.
+//
+// # Figures
+//
+// [Measure] gives the figures of a lowpass, highpass, bandpass or
+// bandstop alike by the rules of [Figures]: overshoot and rise time where
+// the response settles to at least [MinFinalFrac] = 1 % of its largest
+// |y|, undershoot where it does not, settling time to a [Band] for every
+// stable response. It samples the response on a grid of its own, long
+// and fine enough from the modes of the cascade (poles and the residues of
+// H(s)/s there), so that a slowly decaying tail is neither cut short nor
+// undersampled; see [Measure] for the bound it uses and its budget.
+// [SettlingGrid] is a grid for plotting that reaches past that settling
+// time.
 package step

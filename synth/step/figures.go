@@ -4,27 +4,88 @@ import (
 	"math"
 )
 
-// Figures are the usual figures of merit of a step response.
+// MinFinalFrac is the threshold of the figure rules: overshoot and rise
+// time are defined for a response whose final value is at least
+// MinFinalFrac of its largest |y| (a lowpass, a bandstop), undershoot for
+// the others (a highpass, a bandpass, an even-order equiripple highpass
+// whose DC gain is its stopband level); the rise time also needs the
+// response to travel at least MinFinalFrac of its largest |y| from its
+// value at t = 0⁺ (a bandstop, which starts and ends at its passband
+// gain, has none).
+const MinFinalFrac = 0.01
+
+// Band is the settling band: ±Frac·FullScale around the final value, or,
+// when FullScale is 0, ±Frac of the response's largest |y|. With a
+// converter of b bits, Frac is [HalfLSBFrac](b) and FullScale is the
+// response's value for a full-scale output (for a unit step into a filter
+// of passband gain G, G: the converter sees full scale when the passband
+// output is full scale); without one, Frac is 0.001 and FullScale 0.
+type Band struct {
+	// Frac is the half-width as a fraction of FullScale (or of the peak);
+	// it must be in (0, 1).
+	Frac float64
+	// FullScale is in the units of the response; 0 takes the largest |y|
+	// instead. It must be finite and ≥ 0.
+	FullScale float64
+}
+
+// valid reports whether the band can be used.
+func (b Band) valid() bool {
+	return b.Frac > 0 && b.Frac < 1 && b.FullScale >= 0 && !math.IsInf(b.FullScale, 1)
+}
+
+// halfWidth returns the band's half-width for a response whose largest
+// |y| is peakAbs.
+func (b Band) halfWidth(peakAbs float64) float64 {
+	if b.FullScale > 0 {
+		return b.Frac * b.FullScale
+	}
+	return b.Frac * peakAbs
+}
+
+// Figures are the figures of merit of a step response. A figure that is
+// undefined for the response, or cannot be measured, is NaN.
 type Figures struct {
-	// OvershootPct is the largest excursion beyond the final value, in the
-	// direction of the step, in percent of the reference |FinalValue| (see
-	// [Analyze]); 0 when the response never passes the final value.
+	// OvershootPct is the largest excursion beyond the final value in the
+	// direction of the step (the sign of the final value: a step starts
+	// from rest at 0), in percent of |FinalValue|; 0 when the response
+	// never passes the final value. It is defined when |FinalValue| ≥
+	// [MinFinalFrac]·PeakAbs, NaN otherwise.
 	OvershootPct float64
+	// UndershootPct is the largest |y| of the sign opposite to the
+	// response's largest excursion (the largest |y|), in percent of
+	// PeakAbs; 0 when the response never takes that sign. It is
+	// given exactly where OvershootPct is not (|FinalValue| <
+	// [MinFinalFrac]·PeakAbs, PeakAbs > 0), NaN otherwise: the two are
+	// never both defined.
+	UndershootPct float64
 	// RiseTimeS is the 10–90 % rise time in seconds: from the first time
-	// the response has covered 10 % of the way from its initial to its
-	// final value to the first time it has covered 90 %. It is NaN when
-	// the initial and final values are equal or the response does not get
+	// the response has covered 10 % of the way from its value at t = 0⁺
+	// to its final value to the first time it has covered 90 %. It is
+	// defined where OvershootPct is and the way is at least
+	// [MinFinalFrac]·PeakAbs long, and NaN when the response does not get
 	// there within the times given.
 	RiseTimeS float64
 	// SettlingS is the settling time in seconds: the last time the
-	// response is outside FinalValue ± tolFrac·reference. It is the first
-	// time given when the response is never outside, +Inf when the last
-	// sample is still outside (the grid is too short), and NaN for a
-	// tolFrac that is not finite and > 0.
+	// response is outside FinalValue ± BandAbs. It is the first time
+	// given when the response is never outside, and NaN for an invalid
+	// [Band]. (It is never +Inf: [Analyze] takes the last sample as the
+	// final value, and [Measure] samples until the response has settled.)
 	SettlingS float64
 	// FinalValue is the value the response settles to: the last sample for
 	// [Analyze], the DC gain for [Measure].
 	FinalValue float64
+	// PeakAbs is the largest |y|, the final value's included (the
+	// supremum over t ≥ 0).
+	PeakAbs float64
+	// BandAbs is the half-width of the settling band, in the units of the
+	// response (see [Band]).
+	BandAbs float64
+}
+
+func nanFigures() Figures {
+	nan := math.NaN()
+	return Figures{OvershootPct: nan, UndershootPct: nan, RiseTimeS: nan, SettlingS: nan, FinalValue: nan, PeakAbs: nan, BandAbs: nan}
 }
 
 // HalfLSBFrac returns the settling tolerance of ±½ LSB of a bits-bit
@@ -40,212 +101,330 @@ func HalfLSBFrac(bits int) float64 {
 
 // Analyze returns the figures of the sampled step response y at the
 // times tS (ascending; the same length, at least 2; otherwise every
-// figure is NaN). The final value is the last sample, so the grid must
-// extend well past settling: whatever the last sample still lacks shifts
-// the band (after [TimeGrid]'s 10 time constants about e^−10 ≈ 5e-5 of
-// the step, 5 % of a ±0.1 % band). [Measure] takes the exact final value.
-//
-// The reference for overshoot and settling is |FinalValue|, or, when the
-// final value is 0 (a highpass or bandpass), the largest |y|. The step's
-// direction is that of FinalValue − y[0] (of the largest excursion when
-// they are equal).
+// figure is NaN) with the settling band b. The final value is the last
+// sample, so the grid must extend well past settling: whatever the last
+// sample still lacks shifts the band. [Measure] takes the exact final
+// value and chooses its own times.
 //
 // Between samples the response is the cubic through the four nearest
 // samples: crossing times are roots of that cubic (by bisection to
-// rounding), the peak is its maximum, and a peak of the cubic between two
-// samples that leaves the settling band counts. The error is of order
-// h⁴·|y⁗| for a step h. Against the closed forms of second-order
+// rounding), the extremes (the peak |y|, the overshoot, the undershoot)
+// are its maxima next to the extreme sample, and a peak of the cubic
+// between two samples that leaves the settling band counts. The error is
+// of order h⁴·|y⁗| for a step h. Against the closed forms of second-order
 // sections (in the tests, 2,000 points over 40 time constants): crossing
 // times within 1e-6 of the span and overshoot within 3e-4 relative with
 // 16 points per period of the ringing (ζ = 0.05); within 3e-9 and 1e-6
-// with 60 points or more. [Measure] refines the figures on the exact
-// response instead, and takes the DC gain as the final value.
-func Analyze(tS, y []float64, tolFrac float64) Figures {
+// with 60 points or more.
+func Analyze(tS, y []float64, b Band) Figures {
 	if len(tS) < 2 || len(y) != len(tS) {
-		nan := math.NaN()
-		return Figures{OvershootPct: nan, RiseTimeS: nan, SettlingS: nan, FinalValue: nan}
+		return nanFigures()
 	}
-	fig, _ := analyze(tS, y, tolFrac, y[len(y)-1])
+	fig, _ := figuresOf(tS, y, y[len(y)-1], b, nil)
 	return fig
 }
 
-// Measure returns the step response of the cascade at tS (as
-// [Response]) and its figures (as [Analyze]) with the DC gain
-// ([DCGain]) as the final value, each refined on the exact response: the
-// interval of the grid that holds a crossing or the peak is sampled again
-// by [Response] at 64 sub-steps, and the figure found there as in
-// [Analyze]. The sub-step cubic's error is about 64⁻⁴ of the grid's, so
-// the figures are exact up to rounding (crossing times within 3e-12 of
-// the span, overshoot within 1e-9, against the closed forms of
-// second-order sections in the tests) — provided the grid resolves the response (at least about ten
-// points per period of its ringing), because a crossing the grid's
-// cubic does not show is not looked for. It returns an error wrapping
-// [ErrInvalid] for invalid stages or times (see [Response]), fewer than
-// two times, or a cascade without a finite DC gain.
-func Measure(stages []Stage, tS []float64, tolFrac float64) ([]float64, Figures, error) {
-	if len(tS) < 2 {
-		return nil, Figures{}, invalidf("%d times, want at least 2", len(tS))
+// Measure returns the figures of the step response of the cascade with
+// the settling band b and the DC gain ([DCGain]) as the final value,
+// sampled at times of its own choosing and refined on the exact response.
+//
+// The times come from the cascade's modes: the step response less its
+// final value is Σ r·e^(p·t) over the poles p, with r the residue of
+// H(s)/s there, so that Σ|r|·e^(Re p·t) bounds its distance from the
+// final value. The times run until that bound is below a quarter of the
+// band — so the response has settled for good before the last one — with
+// a step that resolves every mode whose term can still matter to the band
+// (16 points per period of its ringing, two per time constant; 8 points
+// per period when that would be too many). The interval of a crossing or
+// an extreme is then sampled again by [Response] at 64 sub-steps and the
+// figure found there as in [Analyze], so the figures are exact up to
+// rounding (crossing times within 3e-12 of the span, overshoot within
+// 1e-9, against the closed forms of second-order sections in the tests).
+// The grid's size is bounded (points × (states+1)² ≤ 3e8, and
+// [MaxPoints]); when the response cannot be resolved within it — a
+// high-Q pole that rings for very many periods before it settles — the
+// figures that depend on it (all but FinalValue) are NaN. So they are
+// when the computed response is not finite.
+//
+// It returns an error wrapping [ErrInvalid] for invalid stages (see
+// [Response]) or an invalid band, [ErrUnstable] for a cascade with a
+// pole on or right of the imaginary axis; the figures are then NaN.
+func Measure(stages []Stage, b Band) (Figures, error) {
+	if !b.valid() {
+		return nanFigures(), invalidf("settling band %+v: Frac must be in (0, 1) and FullScale finite and >= 0", b)
 	}
-	y, err := Response(stages, tS)
+	sys, err := build(stages)
 	if err != nil {
-		return nil, Figures{}, err
+		return nanFigures(), err
+	}
+	if sys.zero {
+		fig := nanFigures()
+		fig.FinalValue, fig.PeakAbs, fig.BandAbs, fig.SettlingS = 0, 0, b.halfWidth(0), 0
+		return fig, nil
+	}
+	ms, err := modesOf(stages)
+	if err != nil {
+		return nanFigures(), err
 	}
 	final := DCGain(stages)
+	fig := nanFigures()
+	fig.FinalValue = final
 	if math.IsNaN(final) || math.IsInf(final, 0) {
-		return nil, Figures{}, invalidf("the cascade has no finite DC gain, so no final value")
+		return fig, nil
 	}
-	fig, br := analyze(tS, y, tolFrac, final)
-	var sub [refineSteps + 1]float64
-	var ys []float64
-	resample := func(i, j int) ([]float64, []float64, error) {
-		a, b := tS[i], tS[j]
-		for k := range sub {
-			sub[k] = a + (b-a)*float64(k)/refineSteps
-		}
-		sub[refineSteps] = b
-		var err error
-		ys, err = Response(stages, sub[:])
-		return sub[:], ys, err
-	}
-	if br.peak >= 0 {
-		lo, hi := max(br.peak-1, 0), min(br.peak+1, len(tS)-1)
-		ts, ys, err := resample(lo, hi)
-		if err != nil {
-			return nil, Figures{}, err
-		}
-		fig.OvershootPct = overshoot(ts, ys, br.final, br.dir, br.ref)
-	}
-	for _, lv := range []struct {
-		at    int
-		level float64
-		dst   *float64
-	}{{br.rise10, 0.1, &br.t10}, {br.rise90, 0.9, &br.t90}} {
-		if lv.at <= 0 {
-			continue
-		}
-		ts, ys, err := resample(lv.at-1, lv.at)
-		if err != nil {
-			return nil, Figures{}, err
-		}
-		if t := firstCrossing(ts, ys, br.y0, br.dir*math.Abs(br.swing), lv.level); !math.IsNaN(t) {
-			*lv.dst = t // else the grid's estimate stands (a level met exactly at a sample)
-		}
-	}
-	if !math.IsNaN(fig.RiseTimeS) {
-		fig.RiseTimeS = br.t90 - br.t10
-	}
-	if br.settle >= 0 && !math.IsInf(fig.SettlingS, 1) {
-		// The grid's last interval outside; when the exact response does
-		// not leave the band there after all, look further back.
-		band := tolFrac * br.ref
-		j := br.settle
-		for {
-			ts, ys, err := resample(j, j+1)
+	budget := min(MaxPoints, max(minGridPoints, int(measureWork/float64((sys.n+1)*(sys.n+1)))))
+	env0 := envelope(ms, 0)
+
+	// A lower bound of the peak |y| for the band: y(0⁺) = H(∞), the final
+	// value, and the first few thousand samples of a grid that resolves
+	// the modes down to 1 % of the envelope.
+	peakLB := math.Max(math.Abs(final), math.Abs(sys.d))
+	if b.FullScale == 0 && peakLB < env0 {
+		// (measureGrid resolves the modes above band/(4·len(ms)).)
+		end := envelopeBelow(ms, 0.01*env0)
+		probeBand := 0.01 * env0 * 4 * float64(len(ms))
+		if ts, _ := measureGrid(ms, probeBand, end, pointsPerPeriod[0], min(budget, 2048), true); len(ts) > 1 {
+			ys, err := Response(stages, ts)
 			if err != nil {
-				return nil, Figures{}, err
+				return fig, err
 			}
-			if k, ok := lastOutside(ts, ys, final, band, len(ts)-2); ok {
-				fig.SettlingS = settleIn(ts, ys, final, band, k)
-				break
-			}
-			var ok bool
-			if j, ok = lastOutside(tS, y, final, band, j-1); !ok {
-				fig.SettlingS = tS[0]
-				break
+			for _, v := range ys {
+				peakLB = math.Max(peakLB, math.Abs(v))
 			}
 		}
 	}
-	return y, fig, nil
+	band := b.halfWidth(peakLB)
+	if !(band > 0) || math.IsNaN(peakLB) || math.IsInf(peakLB, 0) {
+		return fig, nil
+	}
+
+	endS := envelopeBelow(ms, band/4)
+	if endS == 0 {
+		// Within a quarter band from the start: sample the largest mode's
+		// decay to a thousandth anyway, for the figures.
+		endS = envelopeBelow(ms, 1e-3*env0)
+		if endS == 0 {
+			endS = 1 / sys.wRef
+		}
+	}
+	for range 4 {
+		var ts []float64
+		ok := false
+		for _, ppp := range pointsPerPeriod {
+			if ts, ok = measureGrid(ms, band, endS, ppp, budget, false); ok {
+				break
+			}
+		}
+		if !ok {
+			return fig, nil // too many points to resolve it
+		}
+		ys, err := Response(stages, ts)
+		if err != nil {
+			return fig, err
+		}
+		for _, v := range ys {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fig, nil
+			}
+		}
+		sub := func(i, j int) ([]float64, []float64, error) {
+			var st [refineSteps + 1]float64
+			a, c := ts[i], ts[j]
+			for k := range st {
+				st[k] = a + (c-a)*float64(k)/refineSteps
+			}
+			st[refineSteps] = c
+			yy, err := Response(stages, st[:])
+			return st[:], yy, err
+		}
+		got, err := figuresOf(ts, ys, final, b, sub)
+		if err != nil {
+			return fig, err
+		}
+		if !math.IsInf(got.SettlingS, 1) {
+			return got, nil
+		}
+		// Still outside the band at the end: the modal bound was rounded
+		// too far (clustered poles). Go on for longer.
+		endS *= 2
+	}
+	return fig, nil
 }
 
 // refineSteps is the number of sub-steps of [Measure]'s refinement.
 const refineSteps = 64
 
-// brackets are the grid positions of analyze's figures, for Measure.
-type brackets struct {
-	peak           int // sample of the peak, −1 for none
-	rise10, rise90 int // first sample at or past the level, −1 for none
-	settle         int // interval [settle, settle+1] of the last exit, −1 for none
-	final, y0      float64
-	swing, dir     float64
-	ref            float64
-	t10, t90       float64
-}
+// sampler returns the exact response at refineSteps sub-steps of
+// [ts[i], ts[j]], for Measure's refinement.
+type sampler func(i, j int) ([]float64, []float64, error)
 
-// analyze computes the figures with the given final value.
-func analyze(tS, y []float64, tolFrac, final float64) (Figures, brackets) {
-	n := len(y)
-	fig := Figures{FinalValue: final, RiseTimeS: math.NaN()}
-	br := brackets{peak: -1, rise10: -1, rise90: -1, settle: -1, final: final, y0: y[0]}
-	br.swing = final - y[0]
-	br.ref = math.Abs(final)
-	peakAbs, peakDev := 0.0, 0.0
-	for _, v := range y {
-		peakAbs = math.Max(peakAbs, math.Abs(v))
-		if d := v - final; math.Abs(d) > math.Abs(peakDev) {
-			peakDev = d
-		}
-	}
-	if br.ref == 0 {
-		br.ref = peakAbs
-	}
-	switch {
-	case br.swing != 0:
-		br.dir = math.Copysign(1, br.swing)
-	case peakDev != 0:
-		br.dir = math.Copysign(1, peakDev)
-	default:
-		br.dir = 1
-	}
+// sign returns the sign of v, +1 for 0.
+func sign(v float64) float64 { return math.Copysign(1, v+0) }
 
-	// Overshoot: the largest dir·(y − final).
+// argmax returns the index of the largest s·(y − off) over ys.
+func argmax(ys []float64, s, off float64) int {
 	k := 0
-	for i, v := range y {
-		if br.dir*(v-final) > br.dir*(y[k]-final) {
+	for i, v := range ys {
+		if s*(v-off) > s*(ys[k]-off) {
 			k = i
 		}
 	}
-	if br.ref > 0 {
-		br.peak = k
-		fig.OvershootPct = overshootAround(tS, y, final, br.dir, br.ref, k)
-	}
+	return k
+}
 
-	// Rise time.
-	if br.swing != 0 {
-		span := br.dir * math.Abs(br.swing)
-		for i, v := range y {
-			r := (v - br.y0) / span
-			if br.rise10 < 0 && r >= 0.1 {
-				br.rise10 = i
+// extremum returns the largest s·(y − off) near sample k: over the
+// intervals either side of it, on the grid's cubics, or, with sub, on
+// the exact response there at refineSteps sub-steps and their cubics.
+func extremum(ts, ys []float64, k int, s, off float64, sub sampler) (float64, error) {
+	if sub != nil {
+		lo, hi := max(k-1, 0), min(k+1, len(ts)-1)
+		if hi > lo {
+			st, sy, err := sub(lo, hi)
+			if err != nil {
+				return 0, err
 			}
-			if r >= 0.9 {
-				br.rise90 = i
-				break
+			return extremumAround(st, sy, argmax(sy, s, off), s, off), nil
+		}
+	}
+	return extremumAround(ts, ys, k, s, off), nil
+}
+
+// extremumAround refines the extreme sample k of s·(y − off) by the
+// cubics of the intervals either side of it.
+func extremumAround(ts, ys []float64, k int, s, off float64) float64 {
+	best := s * (ys[k] - off)
+	for _, j := range []int{k - 1, k} {
+		if j < 0 || j+1 >= len(ts) {
+			continue
+		}
+		c := newCubic(ts, ys, j-1, off)
+		st, m := c.stationary(ts[j], ts[j+1])
+		for _, t := range st[:m] {
+			best = math.Max(best, s*c.at(t))
+		}
+	}
+	return best
+}
+
+// figuresOf computes the figures of the samples ts, ys with the given
+// final value and band; sub, when not nil, refines them on the exact
+// response (Measure).
+func figuresOf(ts, ys []float64, final float64, b Band, sub sampler) (Figures, error) {
+	n := len(ys)
+	fig := nanFigures()
+	fig.FinalValue = final
+
+	// The peak |y|, of the sign of the largest sample.
+	kp := 0
+	for i, v := range ys {
+		if math.Abs(v) > math.Abs(ys[kp]) {
+			kp = i
+		}
+	}
+	sp := sign(ys[kp])
+	peak, err := extremum(ts, ys, kp, sp, 0, sub)
+	if err != nil {
+		return fig, err
+	}
+	// The response tends to its final value: that is a candidate too.
+	peak = math.Max(peak, math.Abs(final))
+	fig.PeakAbs = peak
+	band := math.NaN()
+	if b.valid() {
+		band = b.halfWidth(peak)
+	}
+	fig.BandAbs = band
+
+	switch {
+	case peak > 0 && math.Abs(final) >= MinFinalFrac*peak:
+		dir := sign(final)
+		ov, err := extremum(ts, ys, argmax(ys, dir, final), dir, final, sub)
+		if err != nil {
+			return fig, err
+		}
+		fig.OvershootPct = math.Max(0, ov) / math.Abs(final) * 100
+		y0 := ys[0]
+		if swing := final - y0; math.Abs(swing) >= MinFinalFrac*peak {
+			t10, t90, err := riseTimes(ts, ys, y0, swing, sub)
+			if err != nil {
+				return fig, err
 			}
+			fig.RiseTimeS = t90 - t10
 		}
-		if br.rise10 >= 0 && br.rise90 >= 0 {
-			br.t10 = crossingAt(tS, y, br.y0, span, 0.1, br.rise10)
-			br.t90 = crossingAt(tS, y, br.y0, span, 0.9, br.rise90)
-			fig.RiseTimeS = br.t90 - br.t10
+	case peak > 0:
+		un, err := extremum(ts, ys, argmax(ys, -sp, 0), -sp, 0, sub)
+		if err != nil {
+			return fig, err
 		}
+		fig.UndershootPct = math.Max(0, math.Max(un, -sp*final)) / peak * 100
 	}
 
 	// Settling.
 	switch {
-	case !(tolFrac > 0) || math.IsInf(tolFrac, 1):
-		fig.SettlingS = math.NaN()
-	case math.Abs(y[n-1]-final) > tolFrac*br.ref:
+	case math.IsNaN(band) || math.IsInf(band, 0):
+	case math.Abs(ys[n-1]-final) > band:
 		fig.SettlingS = math.Inf(1)
 	default:
-		band := tolFrac * br.ref
-		if j, ok := lastOutside(tS, y, final, band, n-2); ok {
-			br.settle = j
-			fig.SettlingS = settleIn(tS, y, final, band, j)
-		} else {
-			fig.SettlingS = tS[0]
+		j, ok := lastOutside(ts, ys, final, band, n-2)
+		if !ok {
+			fig.SettlingS = ts[0]
+			break
+		}
+		if sub == nil {
+			fig.SettlingS = settleIn(ts, ys, final, band, j)
+			break
+		}
+		// The grid's last interval outside; when the exact response does
+		// not leave the band there after all, look further back.
+		for {
+			st, sy, err := sub(j, j+1)
+			if err != nil {
+				return fig, err
+			}
+			if k, ok := lastOutside(st, sy, final, band, len(st)-2); ok {
+				fig.SettlingS = settleIn(st, sy, final, band, k)
+				break
+			}
+			if j, ok = lastOutside(ts, ys, final, band, j-1); !ok {
+				fig.SettlingS = ts[0]
+				break
+			}
 		}
 	}
-	return fig, br
+	return fig, nil
+}
+
+// riseTimes returns the times at which the response first covers 10 % and
+// 90 % of the swing from y0, NaN when it does not.
+func riseTimes(ts, ys []float64, y0, swing float64, sub sampler) (t10, t90 float64, err error) {
+	t10, t90 = math.NaN(), math.NaN()
+	for _, lv := range []struct {
+		level float64
+		dst   *float64
+	}{{0.1, &t10}, {0.9, &t90}} {
+		at := -1
+		for i, v := range ys {
+			if (v-y0)/swing >= lv.level {
+				at = i
+				break
+			}
+		}
+		if at < 0 {
+			return math.NaN(), math.NaN(), nil
+		}
+		*lv.dst = crossingAt(ts, ys, y0, swing, lv.level, at)
+		if sub == nil || at == 0 {
+			continue
+		}
+		st, sy, err := sub(at-1, at)
+		if err != nil {
+			return t10, t90, err
+		}
+		if t := firstCrossing(st, sy, y0, swing, lv.level); !math.IsNaN(t) {
+			*lv.dst = t // else the grid's estimate stands (a level met exactly at a sample)
+		}
+	}
+	return t10, t90, nil
 }
 
 // cubic is the interpolating cubic through four samples, in Newton form
@@ -350,35 +529,6 @@ func bisect(g func(float64) float64, a, b float64) float64 {
 	return a + (b-a)/2
 }
 
-// overshoot returns the overshoot in percent of ts, ys (a few samples
-// around the peak, all of them used for the cubic when four or fewer).
-func overshoot(ts, ys []float64, final, dir, ref float64) float64 {
-	k := 0
-	for i, v := range ys {
-		if dir*(v-final) > dir*(ys[k]-final) {
-			k = i
-		}
-	}
-	return overshootAround(ts, ys, final, dir, ref, k)
-}
-
-// overshootAround refines the peak at sample k by the cubics of the
-// intervals either side of it.
-func overshootAround(ts, ys []float64, final, dir, ref float64, k int) float64 {
-	best := dir * (ys[k] - final)
-	for _, j := range []int{k - 1, k} {
-		if j < 0 || j+1 >= len(ts) {
-			continue
-		}
-		c := newCubic(ts, ys, j-1, final)
-		st, m := c.stationary(ts[j], ts[j+1])
-		for _, t := range st[:m] {
-			best = math.Max(best, dir*c.at(t))
-		}
-	}
-	return math.Max(0, best) / ref * 100
-}
-
 // crossingAt returns the time in (ts[i−1], ts[i]] where (y − y0)/span
 // reaches level, ts[0] for i = 0.
 func crossingAt(ts, ys []float64, y0, span, level float64, i int) float64 {
@@ -457,30 +607,43 @@ func settleIn(ts, ys []float64, final, band float64, j int) float64 {
 	return bisect(g, out, ts[j+1])
 }
 
-// settleMarginTimeConstants is the margin of [SettlingGrid] over
-// ln(1/tolFrac) time constants, for residues above 1 (ringing and
+// SettleMargin is how far past the settling time [SettlingGrid] reaches.
+const SettleMargin = 1.25
+
+// settleMarginTimeConstants is the margin of [SettlingGrid]'s fallback
+// over ln(1/tolFrac) time constants, for residues above 1 (ringing and
 // cascades): e³ ≈ 20.
 const settleMarginTimeConstants = 3
 
-// SettlingGrid is [TimeGrid] with a span long enough to see the response
-// settle to ±tolFrac: the slowest pole's decay e^(−t/τ) reaches tolFrac
-// after ln(1/tolFrac) time constants, so the span is the larger of
-// [Span] and (ln(1/tolFrac) + 3)·τ (a margin of e³ ≈ 20 for residues
-// above 1). [Span]'s 10 time constants cover ±0.1 % but not ±½ LSB of a
-// 16-bit converter (2^−17 needs 11.8). A tolFrac that is not finite and
-// in (0, 1) gives TimeGrid's span.
+// SettlingGrid returns n equally spaced times (n clamped as by
+// [TimeGrid]) from 0 to [SettleMargin] times the settling time that
+// [Measure] finds for the band ±tolFrac of the response's largest |y|,
+// so that the grid covers the settling of a lowpass, highpass, bandpass
+// or bandstop alike, whatever the slowest pole (a bandstop's slowest
+// poles sit next to its notch zeros and hardly show). When there is no
+// such time (an unstable cascade, a band that is not in (0, 1), a
+// response that cannot be resolved, or one that never leaves the band)
+// the span is the larger of [Span] and (ln(1/tolFrac) + 3)·τ, τ the
+// slowest pole's time constant (a margin of e³ ≈ 20 for residues above
+// 1), or [Span] alone for a tolFrac that is not in (0, 1).
 func SettlingGrid(stages []Stage, n int, tolFrac float64) []float64 {
 	t := TimeGrid(stages, n)
-	if !(tolFrac > 0 && tolFrac < 1) {
-		return t
+	end := t[len(t)-1]
+	if fig, err := Measure(stages, Band{Frac: tolFrac}); err == nil && fig.SettlingS > 0 && !math.IsInf(fig.SettlingS, 1) {
+		end = SettleMargin * fig.SettlingS
+	} else if tolFrac > 0 && tolFrac < 1 {
+		end *= math.Max(1, (math.Log(1/tolFrac)+settleMarginTimeConstants)/SpanTimeConstants)
 	}
-	k := (math.Log(1/tolFrac) + settleMarginTimeConstants) / SpanTimeConstants
-	if k <= 1 {
-		return t
-	}
-	end := t[len(t)-1] * k
+	return Grid(end, len(t))
+}
+
+// Grid returns n equally spaced times from 0 to endS inclusive,
+// t[i] = endS·i/(n−1); n is clamped to [2, MaxPoints].
+func Grid(endS float64, n int) []float64 {
+	n = min(max(n, 2), MaxPoints)
+	t := make([]float64, n)
 	for i := range t {
-		t[i] = end * float64(i) / float64(len(t)-1)
+		t[i] = endS * float64(i) / float64(n-1)
 	}
 	return t
 }

@@ -95,9 +95,9 @@ func TestNgspiceTransient(t *testing.T) {
 					require.LessOrEqual(t, d, stepFSTol, "at %v s: ngspice %v, step.Response %v", ts[i], ng[i], y[i])
 					worst = math.Max(worst, d)
 				}
-				_, fig, err := step.Measure(stages, step.TimeGrid(stages, 500), 1e-3)
+				fig, err := step.Measure(stages, step.Band{Frac: 1e-3})
 				require.NoError(t, err)
-				sim := step.Analyze(ts, ng, 1e-3)
+				sim := step.Analyze(ts, ng, step.Band{Frac: 1e-3})
 				t.Logf("%d points over %.4g ms: worst |Δ| %.2g of full scale; overshoot %.4g %% (ngspice %.4g %%), rise %.4g µs (%.4g µs)",
 					len(ts), span*1e3, worst, fig.OvershootPct, sim.OvershootPct, fig.RiseTimeS*1e6, sim.RiseTimeS*1e6)
 				require.InDelta(t, fig.OvershootPct, sim.OvershootPct, 100*stepFSTol)

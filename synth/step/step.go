@@ -189,13 +189,7 @@ func Span(stages []Stage) float64 {
 // TimeGrid returns n equally spaced times from 0 to [Span] of stages
 // inclusive, t[i] = Span·i/(n−1). n is clamped to [2, MaxPoints].
 func TimeGrid(stages []Stage, n int) []float64 {
-	n = min(max(n, 2), MaxPoints)
-	end := Span(stages)
-	t := make([]float64, n)
-	for i := range t {
-		t[i] = end * float64(i) / float64(n-1)
-	}
-	return t
+	return Grid(Span(stages), n)
 }
 
 // Response returns the unit-step response of the cascade of stages (the
