@@ -49,6 +49,10 @@ type BuiltReport struct {
 	// spec sets no gain tolerance.
 	GainErrorDB  float64  `json:"gain_error_db"`
 	GainMarginDB *float64 `json:"gain_margin_db"`
+	// Unstable reports a board whose stages, as built (the op-amps'
+	// finite gain-bandwidth included), have a pole on or right of the jω
+	// axis: it fails whatever its frequency response says.
+	Unstable bool `json:"unstable"`
 
 	result accept.Result
 }
@@ -175,6 +179,16 @@ func (d *Design) judgeBuilt(tfs circuit.Cascade) {
 	}
 	r := plan.Judge(db, eval, accept.Full)
 	d.Built = newBuiltReport(r, d.Spec)
+	for _, t := range tfs {
+		for _, p := range t.Poles() {
+			if !(real(p) < 0) {
+				d.Built.Unstable = true
+			}
+		}
+	}
+	if d.Built.Unstable {
+		d.Built.MeetsMask = false
+	}
 	d.chainTFs = tfs
 }
 

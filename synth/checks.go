@@ -153,6 +153,10 @@ func (d *Design) builtMaskCheck() Check {
 		worst = *b.GainMarginDB
 		what = fmt.Sprintf("the passband maximum is %+.3g dB from gain_db; the tolerance is ±%s dB", b.GainErrorDB, dbText(*s.GainToleranceDB))
 	}
+	if b.Unstable {
+		return newCheck(CheckBuiltMask, false, SeverityError, math.Min(worst, 0), 0, "dB", 0,
+			"As built, the board is unstable: the op-amps' finite gain-bandwidth moves a pole into the right half-plane. A faster op-amp or lower-Q sections cure it.")
+	}
 	var text string
 	if b.MeetsMask {
 		text = fmt.Sprintf("As built (%s parts, the spec's op-amp), the board meets the mask with %s dB to spare: %s.", s.ResistorSeries, dbText(worst), what)
@@ -212,6 +216,10 @@ func (d *Design) noiseCheck() (Check, bool) {
 // filter's.
 func (d *Design) settlingCheck() (Check, bool) {
 	st := d.Step
+	if st != nil && st.Unstable {
+		return newCheck(CheckSettling, false, SeverityError, math.Inf(1), 0, "s", 0,
+			"As built, the board is unstable: the op-amps' finite gain-bandwidth moves a pole into the right half-plane, so a step never settles. A faster op-amp or lower-Q sections cure it."), true
+	}
 	if st == nil || st.SettlingS == nil || st.IdealSettlingS == nil || !(*st.IdealSettlingS > 0) {
 		return Check{}, false
 	}

@@ -247,7 +247,7 @@ func MonteCarlo(ctx context.Context, ch circuit.Chain, tol Tolerance, opt MonteC
 						fail(fmt.Errorf("montecarlo: trial %d: %w", i, err))
 						return
 					}
-					if meets(w.db[:cm.nFreq], w.evalDB) {
+					if w.stable && meets(w.db[:cm.nFreq], w.evalDB) {
 						bs.passed++
 					}
 					w.tails.add(w.db[:cm.nFreq])
@@ -453,6 +453,9 @@ type worker struct {
 	tails    tails
 	// evalDB is w.responseDB as a func value, made once.
 	evalDB func(fHz float64) float64
+	// stable is false when a stage of the board has a pole on or right of
+	// the jω axis (such a board fails whatever its response says).
+	stable bool
 }
 
 func newWorker(cm *chainModel, trials int) *worker {
@@ -551,6 +554,7 @@ func (w *worker) draw(i int) {
 // w.db (dB on the grid) and its stages' f0 and Q in w.f0, w.q, w.ok.
 func (w *worker) analyse() error {
 	cm := w.cm
+	w.stable = true
 	if !cm.fused {
 		for f := range w.mag2 {
 			w.mag2[f] = 1
@@ -691,10 +695,22 @@ func (w *worker) stagePoles(k int, sm *stageModel, num, den []float64) {
 	copy(z, sm.nomRoots)
 	if len(z) == len(den)-1 && den[len(den)-1] != 0 && polyRoots(den, z) {
 		w.f0[k], w.q[k], w.ok[k] = dominantPair(z, sm.scale, sm.sectionOrder, w.reals)
+		w.checkStable(z)
 		return
 	}
 	r := circuit.Rational{Num: slices.Clone(num), Den: slices.Clone(den), ScaleRadPerSec: sm.scale, SectionOrder: sm.sectionOrder}
 	w.f0[k], w.q[k], w.ok[k] = r.DominantPair()
+	w.checkStable(r.Poles())
+}
+
+// checkStable clears w.stable when a pole is not in the open left
+// half-plane.
+func (w *worker) checkStable(poles []complex128) {
+	for _, p := range poles {
+		if !(real(p) < 0) {
+			w.stable = false
+		}
+	}
 }
 
 // genericStage analyses the perturbed stage k (parts in w.parts) with the
@@ -714,7 +730,9 @@ func (w *worker) genericStage(k int, sm *stageModel, beta []float64) error {
 	// form may come out a degree short when the interpolation takes a far
 	// op-amp coefficient for rounding noise, and then its own
 	// SectionOrder would make the section look first order.
-	w.f0[k], w.q[k], w.ok[k] = dominantPair(r.Poles(), 1, sm.sectionOrder, w.reals[:0])
+	poles := r.Poles()
+	w.f0[k], w.q[k], w.ok[k] = dominantPair(poles, 1, sm.sectionOrder, w.reals[:0])
+	w.checkStable(poles)
 	w.nums[k] = append(w.nums[k][:0], r.Num...)
 	w.dens[k] = append(w.dens[k][:0], r.Den...)
 	accumulate(w.mag2, w.lexp, w.cm.x[k], w.cm.u[k], r.Num, r.Den)

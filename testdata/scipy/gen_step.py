@@ -14,7 +14,7 @@ poles, zeros and gain rounded to 14 significant digits first; the step
 response is scipy.signal.step of the rounded (z, p, k) on 201 equally
 spaced times from 0 to 10/min|Re p| (SciPy converts to state space and
 discretises with a zero-order hold through scipy.linalg.expm), written
-with 13 significant digits. The filters have their edges near 1 rad/s,
+with 10 significant digits (see below). The filters have their edges near 1 rad/s,
 where SciPy's transfer-function form stays well scaled.
 
 The cases marked "sos-ss" (highpass, bandpass and bandstop filters of up
@@ -23,11 +23,11 @@ to 8 poles) are not expanded into one transfer function: the rounded
 each section becomes a state-space block by scipy.signal.tf2ss, the
 blocks are chained into one state-space model (section i's output drives
 section i+1), and the step response is scipy.signal.step of that model,
-which stays well conditioned whatever the order. Their responses are
+which stays well conditioned whatever the order. Every response is
 written with 10 significant digits: the last bits of SciPy's expm depend
-on the BLAS and the CPU (the 13-digit cases above differ in their last
-digit between machines), and 10 digits keep the file the same on any of
-them in all likelihood.
+on the BLAS and the CPU (13 digits differed in their last digit between
+machines), and 10 digits keep the file the same on any of them in all
+likelihood.
 """
 
 import json
@@ -125,7 +125,7 @@ def main():
             "poles": pr,
             "gain": kr,
             "t": [float(v) for v in t],
-            "y": [rnd(float(v), 13) for v in y],
+            "y": [rnd(float(v), 10) for v in y],
         })
     for name, design in SOS_CASES:
         zr, pr, kr, zc, pc = rounded(design)
