@@ -80,6 +80,6 @@ func ExampleOutputSampled() {
 			s.SampleRateHz/1e6, res.OutputRMSV*1e6, sm.RMSV*1e6, sm.LimitHz/1e6, noise.SNRdB(16, 4, sm.RMSV), noise.ENOBLossBits(16, 4, sm.RMSV))
 	}
 	// Output:
-	// fs 0.048 MHz: in band 2.77 µV, sampled 12.7 µV to 754 MHz; SNR 96.3 dB, 0.30 bits lost (16 bits, 4 Vpp)
+	// fs 0.048 MHz: in band 2.77 µV, sampled 12.7 µV to 927 MHz; SNR 96.3 dB, 0.30 bits lost (16 bits, 4 Vpp)
 	// fs 3.072 MHz: in band 2.77 µV, sampled 2.91 µV to 184 MHz; SNR 98.0 dB, 0.02 bits lost (16 bits, 4 Vpp)
 }

@@ -2,6 +2,7 @@ package noise
 
 import (
 	"math"
+	"math/cmplx"
 	"slices"
 )
 
@@ -11,8 +12,7 @@ const (
 	// |K15 − G7| relative to the integrated power.
 	quadRelTol = 1e-5
 	// quadPanelDecades is the widest initial panel, in decades, within a
-	// decade of the pole frequencies (from a tenth of the lowest to ten
-	// times the highest).
+	// decade of a break (a resonant pole's frequency).
 	quadPanelDecades = 0.5
 	// quadFarPanelDecades is the widest initial panel farther out, where
 	// the density of a rational response is close to a power of f and a
@@ -23,7 +23,7 @@ const (
 	// quadZeroDecades: for a band starting at 0 Hz, the log grid starts
 	// this many decades below the lowest pole (or the band's top), and the
 	// rest down to 0 Hz is one midpoint panel.
-	quadZeroDecades = 6
+	quadZeroDecades = 3
 )
 
 // Gauss–Kronrod 7/15 nodes on [−1, 1] (the non-negative half, QUADPACK's
@@ -72,14 +72,16 @@ type panel struct {
 
 // quad is a global adaptive Gauss–Kronrod 7/15 quadrature in u = ln f
 // (the integrand S(e^u)·e^u) over weighted frequency segments that share
-// one error budget. Initial panels are at most quadPanelDecades wide near
-// the breaks (pole frequencies, where the peaks of a resonance are) and
-// quadFarPanelDecades elsewhere, with edges at the breaks; refine halves
+// one error budget. Initial panels are at most quadPanelDecades wide
+// within a decade of the breaks (resonant poles' frequencies, where the
+// peaks are) and quadFarPanelDecades elsewhere, with edges at the breaks;
+// refine halves
 // the panel with the largest estimate |K15 − G7| until the estimates sum
 // to at most quadRelTol of the integral, or there are quadMaxPanels.
 type quad struct {
 	breaks  []float64    // ln f of the breaks, ascending, none within breakMergeRel of another
 	near    [][2]float64 // ln f intervals within a decade of a break, merged
+	lowest  float64      // where a segment from 0 Hz starts its log grid (see add), 0: none
 	nper    int
 	eval    densityFunc
 	tmp     []float64
@@ -93,19 +95,27 @@ type quad struct {
 // breakMergeRel: breaks closer than this relative distance are one edge.
 const breakMergeRel = 1e-3
 
-func newQuad(breaks []float64, nper int, eval densityFunc) *quad {
-	q := &quad{nper: nper, eval: eval, tmp: make([]float64, nper), headPer: make([]float64, nper)}
-	bs := slices.Clone(breaks)
-	slices.Sort(bs)
-	for _, f := range bs {
-		if !(f > 0) || math.IsInf(f, 1) {
-			continue
+// resonantQ: a pole pair of at least this Q peaks (a pole's Q is
+// |p|/(−2·Re p)), and its frequency is an edge of the initial panels,
+// which are narrower within a decade of it. The density near a lower-Q or
+// real pole is smooth on the scale of a panel: 1/(1 + (f/fp)²) is
+// analytic within π/2 of the real axis in ln f, so a 15-point Kronrod
+// rule over two decades is accurate to about 1e-8.
+const resonantQ = 1
+
+func newQuad(breaks []float64, lowestHz float64, nper int, eval densityFunc) *quad {
+	q := &quad{nper: nper, eval: eval, tmp: make([]float64, nper), headPer: make([]float64, nper), lowest: lowestHz}
+	var us []float64
+	for _, f := range breaks {
+		if f > 0 && !math.IsInf(f, 1) {
+			us = append(us, math.Log(f))
 		}
-		u := math.Log(f)
-		if n := len(q.breaks); n > 0 && u-q.breaks[n-1] < breakMergeRel {
-			continue
+	}
+	slices.Sort(us)
+	for _, u := range us {
+		if n := len(q.breaks); n == 0 || u-q.breaks[n-1] >= breakMergeRel {
+			q.breaks = append(q.breaks, u)
 		}
-		q.breaks = append(q.breaks, u)
 		lo, hi := u-math.Ln10, u+math.Ln10
 		if n := len(q.near); n > 0 && lo <= q.near[n-1][1] {
 			q.near[n-1][1] = hi
@@ -119,7 +129,13 @@ func newQuad(breaks []float64, nper int, eval densityFunc) *quad {
 // integrateLog returns ∫ S(f) df over [lo, hi] (0 ≤ lo < hi) and the
 // integral of each of the nper parts (see quad).
 func integrateLog(lo, hi float64, breaks []float64, nper int, eval densityFunc) (float64, []float64, error) {
-	q := newQuad(breaks, nper, eval)
+	lowest := 0.0
+	for _, f := range breaks {
+		if f > 0 && (lowest == 0 || f < lowest) {
+			lowest = f
+		}
+	}
+	q := newQuad(breaks, lowest, nper, eval)
 	if err := q.add(lo, hi, 1); err != nil {
 		return 0, nil, err
 	}
@@ -132,14 +148,14 @@ func integrateLog(lo, hi float64, breaks []float64, nper int, eval densityFunc) 
 
 // add adds w·∫ S(f) df over [lo, hi] (0 ≤ lo < hi, w > 0) as initial
 // panels. A segment from 0 Hz starts its log grid quadZeroDecades below
-// the lowest break (or hi), below which the density of a rational
-// response is flat or falls towards 0 Hz, and takes [0, lo) as one
-// midpoint panel that is never refined.
+// q.lowest (or hi, when lower or unset), below which the density of a
+// rational response is flat or falls towards 0 Hz, and takes [0, lo) as
+// one midpoint panel that is never refined.
 func (q *quad) add(lo, hi, w float64) error {
 	if lo == 0 {
 		ref := hi
-		if len(q.breaks) > 0 {
-			ref = math.Min(ref, math.Exp(q.breaks[0]))
+		if q.lowest > 0 {
+			ref = math.Min(ref, q.lowest)
 		}
 		lo = ref * math.Pow(10, -quadZeroDecades)
 		clear(q.tmp)
@@ -285,7 +301,34 @@ func (q *quad) sum() (float64, []float64) {
 	return sum, total
 }
 
-// integrate is integrateLog of the chain's output noise.
+// integrate integrates the chain's output noise and each part's over
+// [lo, hi] (see newQuad).
 func (a *analysis) integrate(lo, hi float64) (float64, []float64, error) {
-	return integrateLog(lo, hi, a.poleHz, len(a.refs), a.psd)
+	q := a.newQuad(len(a.refs), a.psd)
+	if err := q.add(lo, hi, 1); err != nil {
+		return 0, nil, err
+	}
+	if err := q.refine(0); err != nil {
+		return 0, nil, err
+	}
+	sum, per := q.sum()
+	return sum, per, nil
+}
+
+// newQuad returns a quadrature of the chain's output noise: edges at the
+// poles with Q ≥ resonantQ (the peaks), where the initial panels are
+// narrower; a segment from 0 Hz starts its log grid below the lowest
+// pole.
+func (a *analysis) newQuad(nper int, eval densityFunc) *quad {
+	var breaks []float64
+	lowest := 0.0
+	for i, p := range a.poles {
+		if -2*real(p)*resonantQ <= cmplx.Abs(p) {
+			breaks = append(breaks, a.poleHz[i])
+		}
+		if lowest == 0 || a.poleHz[i] < lowest {
+			lowest = a.poleHz[i]
+		}
+	}
+	return newQuad(breaks, lowest, nper, eval)
 }

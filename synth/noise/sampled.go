@@ -137,7 +137,7 @@ func (a *analysis) fold(fs, fout, band0 float64) (*folded, error) {
 	}
 	fd.capHz = SampledCapFactor * top
 	eval := func(f float64, _ []float64) (float64, error) { return a.psd(f, a.scratch) }
-	q := newQuad(a.poleHz, 0, eval)
+	q := a.newQuad(0, eval)
 	q.nodes = true
 	fd.q = q
 	w := 1.0 // the comb's weight
