@@ -76,6 +76,9 @@ type Result struct {
 	// Contributors are every resistor and op-amp of the chain, largest
 	// share first (ties in chain order).
 	Contributors []Contributor
+	// Sampled is the noise a converter's output words carry
+	// ([OutputSampled]); nil from [Output].
+	Sampled *Sampled
 }
 
 // ThermalVPerRtHz returns the open-circuit thermal (Johnson–Nyquist)
@@ -123,21 +126,28 @@ func ThermalVPerRtHz(rOhm, tempK float64) float64 {
 // [circuit.ErrSingular] when a nodal matrix is singular at a frequency
 // (f = 0 with a node joined to the rest only by capacitors, for example).
 func Output(ch circuit.Chain, on OpAmpNoise, tempK float64, freqHz []float64, bandHz [2]float64) (Result, error) {
+	res, _, _, err := output(ch, on, tempK, freqHz, bandHz)
+	return res, err
+}
+
+// output is [Output], returning the compiled chain and the band's power
+// as well.
+func output(ch circuit.Chain, on OpAmpNoise, tempK float64, freqHz []float64, bandHz [2]float64) (Result, *analysis, float64, error) {
 	a, err := newAnalysis(ch, on, tempK)
 	if err != nil {
-		return Result{}, err
+		return Result{}, nil, 0, err
 	}
 	if len(freqHz) > MaxPoints {
-		return Result{}, invalidf("%d frequencies, more than %d", len(freqHz), MaxPoints)
+		return Result{}, nil, 0, invalidf("%d frequencies, more than %d", len(freqHz), MaxPoints)
 	}
 	for i, f := range freqHz {
 		if !(f >= 0) || math.IsInf(f, 1) {
-			return Result{}, invalidf("freqHz[%d] = %v is not finite and >= 0", i, f)
+			return Result{}, nil, 0, invalidf("freqHz[%d] = %v is not finite and >= 0", i, f)
 		}
 	}
 	lo, hi := bandHz[0], bandHz[1]
 	if !(lo >= 0) || !(hi > lo) || math.IsInf(hi, 1) {
-		return Result{}, invalidf("bandHz [%v, %v] is not finite with 0 <= lo < hi", lo, hi)
+		return Result{}, nil, 0, invalidf("bandHz [%v, %v] is not finite with 0 <= lo < hi", lo, hi)
 	}
 	res := Result{
 		FreqHz:         slices.Clone(freqHz),
@@ -147,13 +157,13 @@ func Output(ch circuit.Chain, on OpAmpNoise, tempK float64, freqHz []float64, ba
 	for i, f := range freqHz {
 		p, err := a.psd(f, a.scratch)
 		if err != nil {
-			return Result{}, err
+			return Result{}, nil, 0, err
 		}
 		res.OutputVPerRtHz[i] = math.Sqrt(p)
 	}
 	power, perWho, err := a.integrate(lo, hi)
 	if err != nil {
-		return Result{}, err
+		return Result{}, nil, 0, err
 	}
 	res.OutputRMSV = math.Sqrt(power)
 	res.Contributors = make([]Contributor, len(a.refs))
@@ -165,7 +175,7 @@ func Output(ch circuit.Chain, on OpAmpNoise, tempK float64, freqHz []float64, ba
 		res.Contributors[i] = Contributor{Ref: ref, Share: share}
 	}
 	slices.SortStableFunc(res.Contributors, func(x, y Contributor) int { return cmp.Compare(y.Share, x.Share) })
-	return res, nil
+	return res, a, power, nil
 }
 
 // analysis is a compiled chain.
@@ -173,9 +183,10 @@ type analysis struct {
 	stages  []*stageSys
 	tfs     circuit.Cascade
 	refs    []string
-	gain    []float64 // |H_k|² per stage
-	scratch []float64 // per-contributor work
-	poleHz  []float64 // pole magnitudes, breakpoints of the quadrature
+	gain    []float64    // |H_k|² per stage
+	scratch []float64    // per-contributor work
+	poleHz  []float64    // pole magnitudes, breakpoints of the quadrature
+	poles   []complex128 // the stages' poles in rad/s
 }
 
 func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, error) {
@@ -209,6 +220,7 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 		for _, p := range r.Poles() {
 			if f := math.Hypot(real(p), imag(p)) / (2 * math.Pi); f > 0 && !math.IsInf(f, 0) {
 				a.poleHz = append(a.poleHz, f)
+				a.poles = append(a.poles, p)
 			}
 		}
 	}
