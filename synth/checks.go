@@ -194,20 +194,28 @@ func (d *Design) aliasCheck() Check {
 	return newCheck(CheckAlias, ok, SeverityError, m, 0, "dB", 0, text)
 }
 
-// noiseCheck judges the noise the converter's samples carry against its
-// quantisation noise.
+// noiseCheck judges the noise the converter's output words carry (the
+// sampled noise, folding included) against their quantisation noise: the
+// resolution the filter costs the converter, enob_loss_bits.
 func (d *Design) noiseCheck() (Check, bool) {
 	n, c := d.Noise, d.Spec.Converter
-	if n == nil || c == nil || n.QuantizationRMSV == nil {
+	if n == nil || c == nil || n.QuantizationRMSV == nil || n.SampledRMSV == nil || n.ENOBLossBits == nil {
 		return Check{}, false
 	}
-	q := *n.QuantizationRMSV
-	rms := n.OutputRMSV
-	loss := math.Log2(math.Hypot(rms, q) / q)
+	q, rms, loss := *n.QuantizationRMSV, *n.SampledRMSV, *n.ENOBLossBits
 	ok := loss <= NoiseLossBits
-	text := fmt.Sprintf("The filter's noise, %s rms, costs the %d-bit converter %.2f bits (quantisation noise %s rms).", si.Format(rms, "V", 3), c.Bits, loss, si.Format(q, "V", 3))
+	snr := ""
+	if n.SNRDB != nil {
+		snr = fmt.Sprintf(", SNR %.1f dB", *n.SNRDB)
+	}
+	text := fmt.Sprintf("The noise the converter's samples carry, %s rms (folding included), costs the %d-bit converter %.2f bits (quantisation noise %s rms%s).",
+		si.Format(rms, "V", 3), c.Bits, loss, si.Format(q, "V", 3), snr)
 	if !ok {
-		text = fmt.Sprintf("The filter's noise, %s rms, costs the %d-bit converter %.2f bits, more than the %.1f bit allowed (quantisation noise %s rms): lower resistor values or a quieter op-amp help.", si.Format(rms, "V", 3), c.Bits, loss, NoiseLossBits, si.Format(q, "V", 3))
+		text = fmt.Sprintf("The noise the converter's samples carry, %s rms (folding included), costs the %d-bit converter %.2f bits, more than the %.1f bit allowed (quantisation noise %s rms%s): lower resistor values, a quieter op-amp or a filter that falls off faster above the band help.",
+			si.Format(rms, "V", 3), c.Bits, loss, NoiseLossBits, si.Format(q, "V", 3), snr)
+	}
+	if n.SampledCapped {
+		text += " The output noise density does not fall off at high frequencies (an ideal op-amp's follower passes its noise at every frequency), so the figure stops at 10⁴ × the sample rate: a real op-amp's bandwidth ends it sooner."
 	}
 	return newCheck(CheckNoise, ok, SeverityWarning, loss, NoiseLossBits, "bits", 0, text), true
 }

@@ -230,6 +230,9 @@ type MaskReport struct {
 	// the spec's, except for a bandstop whose order was lowered by moving
 	// an edge (see the package comment).
 	DesignPassbandHz []float64 `json:"design_passband_hz"`
+	// StopbandFrom says where the stopband came from: "spec", "converter"
+	// (fs − passband edge, for a lowpass spec that left it out) or "none".
+	StopbandFrom string `json:"stopband_from"`
 	// NormalizedStopband is the stopband edge of the lowpass prototype,
 	// ωs/ωp after the band transformation; nil without a stopband.
 	NormalizedStopband *float64 `json:"normalized_stopband"`
@@ -348,6 +351,14 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		order = minOrder
 	}
 	mask.DesignPassbandHz = designEdges
+	switch {
+	case s.StopbandFromConverter():
+		mask.StopbandFrom = "converter"
+	case s.HasStopband():
+		mask.StopbandFrom = "spec"
+	default:
+		mask.StopbandFrom = "none"
+	}
 
 	proto1, err := proto.Lowpass(approx, order, amax, amin)
 	if err != nil {

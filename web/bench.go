@@ -50,9 +50,16 @@ func benchView(d *synth.Design) *components.Bench {
 	if n := d.Noise; n != nil {
 		band := si(n.BandHz[0], "Hz", 3) + " to " + si(n.BandHz[1], "Hz", 3)
 		if s.Converter != nil {
-			band += " (fs/2)"
+			band += " (half the output word rate)"
 		}
 		b.Figures = append(b.Figures, components.Figure{Label: "Output noise", Value: si(n.OutputRMSV, "V", 3) + " rms", Detail: band, TestID: "fig-noise"})
+		if n.SampledRMSV != nil {
+			detail := "what the converter's samples carry: everything sampling folds into the band"
+			if n.SNRDB != nil && n.ENOBLossBits != nil {
+				detail = fmt.Sprintf("folding included; SNR %.1f dB, %.2f bits lost", *n.SNRDB, *n.ENOBLossBits)
+			}
+			b.Figures = append(b.Figures, components.Figure{Label: "Sampled noise", Value: si(*n.SampledRMSV, "V", 3) + " rms", Detail: detail, TestID: "fig-sampled-noise"})
+		}
 		if n.LSBV != nil && n.QuantizationRMSV != nil && s.Converter != nil {
 			q, c := *n.QuantizationRMSV, s.Converter
 			b.Figures = append(b.Figures, components.Figure{Label: "Quantisation noise", Value: si(q, "V", 3) + " rms",
@@ -338,13 +345,7 @@ func newTolerances(d *synth.Design) tolerances {
 	}
 	for _, sec := range d.Sections {
 		for _, c := range sec.Components {
-			pct := c.TolerancePct
-			switch {
-			case c.Kind == "resistor" && t.resistorPct > 0:
-				pct = t.resistorPct
-			case c.Kind == "capacitor" && t.capacitorPct > 0:
-				pct = t.capacitorPct
-			}
+			pct := c.TolerancePct // the spec's (0: exact), as the Monte Carlo draws it
 			t.byRef[c.Ref] = pct
 			if !slices.Contains(t.kinds[c.Kind], pct) {
 				t.kinds[c.Kind] = append(t.kinds[c.Kind], pct)
