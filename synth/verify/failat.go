@@ -69,6 +69,10 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 		}
 	}
 	db := make([]float64, len(freqHz))
+	// others is the response of every stage but the one being changed
+	// (summed afresh per stage: a stage's −Inf dB at an exact zero, say 0 Hz
+	// for a highpass, cannot be subtracted from the total).
+	others := make([]float64, len(freqHz))
 	var num, den []float64
 	// board returns the margin of the board with part j of stage k's
 	// admittance scaled by a (k < 0: the nominal board).
@@ -80,7 +84,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 		num, den = slopes[k].At(j, a, num, den)
 		r := circuit.Rational{Num: num, Den: den, ScaleRadPerSec: slopes[k].ScaleRadPerSec}
 		for i, f := range freqHz {
-			db[i] = total[i] - stageDB[k][i] + dbOfComplex(r.AtHz(f))
+			db[i] = others[i] + dbOfComplex(r.AtHz(f))
 		}
 		return finiteMargin(margin(db, func(f float64) float64 {
 			v := dbOfComplex(r.AtHz(f))
@@ -98,6 +102,14 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 		out[k] = make([]PartLimit, len(st.Parts))
 		if nominal < 0 {
 			continue // the nominal board fails: every figure is 0
+		}
+		for i := range others {
+			others[i] = 0
+			for m := range stageDB {
+				if m != k {
+					others[i] += stageDB[m][i]
+				}
+			}
 		}
 		for j, p := range st.Parts {
 			for _, dir := range []float64{-1, 1} {
