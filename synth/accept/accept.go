@@ -189,9 +189,20 @@ func (p *Plan) Judge(db []float64, eval func(fHz float64) float64, mode Mode) Re
 	// Grid figures first.
 	gmax, gmin := math.Inf(-1), math.Inf(1)
 	for _, idx := range p.bands[0] {
-		for _, i := range idx {
-			gmax = math.Max(gmax, nan2inf(db[i], -1))
-			gmin = math.Min(gmin, nan2inf(db[i], -1))
+		if len(idx) == 0 {
+			continue
+		}
+		// A band's indices are consecutive (the grid is sorted).
+		for _, v := range db[idx[0] : idx[len(idx)-1]+1] {
+			if v != v {
+				v = math.Inf(-1) // NaN: a null, the worst the passband can do
+			}
+			if v > gmax {
+				gmax = v
+			}
+			if v < gmin {
+				gmin = v
+			}
 		}
 	}
 	gstop := bandMax(p.bands[1], db)
@@ -277,8 +288,16 @@ func neg(f func(float64) float64) func(float64) float64 {
 func bandMax(bands [][]int, db []float64) float64 {
 	v := math.Inf(-1)
 	for _, idx := range bands {
-		for _, i := range idx {
-			v = math.Max(v, nan2inf(db[i], 1))
+		if len(idx) == 0 {
+			continue
+		}
+		for _, x := range db[idx[0] : idx[len(idx)-1]+1] {
+			if x != x {
+				return math.Inf(1) // NaN: the worst the stopband can do
+			}
+			if x > v {
+				v = x
+			}
 		}
 	}
 	return v
@@ -377,6 +396,12 @@ func maximize(f func(float64) float64, a, b, fa, fb float64) (float64, float64) 
 	return maximizeBracket(f, a, m, b, fa, fm, fb)
 }
 
+// flatDB is the rise over both neighbours below which a local maximum of
+// the samples is taken as it is: a peak between points whose values agree
+// to 1e-9 dB rises above them by less than that again for any response
+// smooth on the grid's scale.
+const flatDB = 1e-9
+
 // refineIters bounds the steps of one refinement.
 const refineIters = 40
 
@@ -387,6 +412,11 @@ const refineIters = 40
 // the bracket is 1e-9 of its width wide or the value stops changing by
 // more than 1e-9 dB.
 func maximizeBracket(f func(float64) float64, a, b, c, fa, fb, fc float64) (float64, float64) {
+	if fb-fa < flatDB && fb-fc < flatDB {
+		// Flat to rounding (a passband far below its edge): nothing
+		// between the points can rise measurably above them.
+		return b, fb
+	}
 	xa, xb, xc := toXPair(a, b, c)
 	conv := func(x float64) float64 { return fromXPair(x, a) }
 	const golden = 0.3819660112501051

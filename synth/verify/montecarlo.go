@@ -499,15 +499,23 @@ func (w *worker) responseDB(fHz float64) float64 {
 	if cm.fused {
 		x := 2 * math.Pi * fHz / cm.refScale
 		u := -x * x
+		// As fusedResponse: one logarithm unless the products leave the
+		// range where they are safe.
+		n2, d2 := 1.0, 1.0
 		for k := range w.coef {
 			c := &w.coef[k]
 			a := c[0] + u*c[2]
 			b := (c[1] + u*c[3]) * x
 			e := c[4] + u*c[6]
 			g := (c[5] + u*c[7]) * x
-			l += math.Log(a*a+b*b) - math.Log(e*e+g*g)
+			n2 *= a*a + b*b
+			d2 *= e*e + g*g
+			if !(n2 > 1e-200 && n2 < 1e200 && d2 > 1e-200 && d2 < 1e200) {
+				l += math.Log(n2) - math.Log(d2)
+				n2, d2 = 1, 1
+			}
 		}
-		return dbPerLn * l
+		return dbPerLn * (l + math.Log(n2/d2))
 	}
 	for k, sm := range cm.stages {
 		p := complex(0, 2*math.Pi*fHz/sm.scale)
