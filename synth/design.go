@@ -151,7 +151,9 @@ type Section struct {
 	// first.
 	Sensitivities []Sensitivity `json:"sensitivities"`
 	// RequiredTolerance is the tolerance each part needs for the stage's
-	// f0 within 1 % and Q within 2 % on 99 % of boards (first order).
+	// f0 within 1 % and Q within 2 % on 99 % of boards (first order): a
+	// budget for the stage's own figures, not for the mask, which
+	// Component.FailAtPct answers.
 	RequiredTolerance []PartTolerance `json:"required_tolerance"`
 
 	sec section.Section
