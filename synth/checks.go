@@ -130,7 +130,7 @@ func (d *Design) idealMaskCheck() Check {
 	var text string
 	switch {
 	case d.MeetsMask:
-		text = fmt.Sprintf("The ideal %s filter of order %d meets the mask with %s dB to spare.", d.Spec.Approximation, d.Order, dbText(worst))
+		text = fmt.Sprintf("The ideal %s filter of order %d meets the mask with %s dB to spare.", approximationNames[d.Spec.Approximation], d.Order, dbText(worst))
 	case !m.PassbandMet:
 		text = fmt.Sprintf("The ideal filter misses the mask in the passband by %s dB: the order or the losses given do not fit the mask.", dbText(-m.PassbandMarginDB))
 	default:
@@ -302,6 +302,12 @@ func (d *Design) opAmpGBWCheck() (Check, bool) {
 		text = fmt.Sprintf("Stage %d needs %s of gain-bandwidth to keep the op-amp's effect within %d %%; the op-amp has %s, so the board as built departs from the design (see built-mask).", worst, si.Format(need, "Hz", 3), opAmpNeedPct, si.Format(have, "Hz", 3))
 	}
 	return newCheck(CheckOpAmpGBW, ok, SeverityWarning, need, have, "Hz", worst, text), true
+}
+
+// approximationNames are the approximations as a sentence names them.
+var approximationNames = map[string]string{
+	"butterworth": "Butterworth", "chebyshev1": "Chebyshev I", "chebyshev2": "Chebyshev II",
+	"bessel": "Bessel", "elliptic": "elliptic",
 }
 
 // dbText formats a dB figure with three significant decimals for small
