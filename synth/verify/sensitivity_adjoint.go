@@ -157,7 +157,7 @@ func (ns *nodal) rootDerivatives(lam complex128, dst []complex128) (ok bool) {
 		big = math.Max(big, lu.Abs1(x))
 	}
 	piv := make([]int, n)
-	small := factorGuarded(a, n, piv, big)
+	small := lu.FactorGuarded(a, n, piv, big)
 	if !(small <= adjointSingularTol*big) {
 		return false
 	}
@@ -171,7 +171,7 @@ func (ns *nodal) rootDerivatives(lam complex128, dst []complex128) (ok bool) {
 	for range 2 {
 		lu.Solve(a, n, piv, v)
 		normalise(v)
-		solveTransposed(a, n, piv, w)
+		lu.SolveTransposed(a, n, piv, w)
 		normalise(w)
 	}
 	// wᵀA'v, A' = C + β·Σ E_u.
@@ -226,79 +226,5 @@ func normalise(x []complex128) {
 	inv := complex(1/big, 0)
 	for i := range x {
 		x[i] *= inv
-	}
-}
-
-// factorGuarded is lu.Factor for a matrix that is singular to rounding:
-// a pivot that is exactly zero is replaced by 2^-60 times big, the largest
-// entry's size, so that the factors can solve the inverse iteration's
-// systems. It returns the smallest |pivot| (|Re| + |Im|) before any
-// replacement.
-func factorGuarded(a []complex128, n int, piv []int, big float64) float64 {
-	small := math.Inf(1)
-	tiny := complex(big*0x1p-60, 0)
-	if big == 0 {
-		tiny = complex(0x1p-60, 0)
-	}
-	for k := 0; k < n; k++ {
-		p, m := k, lu.Abs1(a[k*n+k])
-		for i := k + 1; i < n; i++ {
-			if v := lu.Abs1(a[i*n+k]); v > m {
-				p, m = i, v
-			}
-		}
-		piv[k] = p
-		small = math.Min(small, m)
-		if p != k {
-			rk, rp := a[k*n:k*n+n], a[p*n:p*n+n]
-			for j := range rk {
-				rk[j], rp[j] = rp[j], rk[j]
-			}
-		}
-		if m == 0 {
-			a[k*n+k] = tiny
-		}
-		inv := 1 / a[k*n+k]
-		rk := a[k*n+k+1 : k*n+n]
-		for i := k + 1; i < n; i++ {
-			ri := a[i*n+k : i*n+n]
-			l := ri[0] * inv
-			ri[0] = l
-			if l == 0 {
-				continue
-			}
-			ri = ri[1:]
-			for j, u := range rk {
-				ri[j] -= l * u
-			}
-		}
-	}
-	return small
-}
-
-// solveTransposed solves aᵀ·x = b (the plain transpose) in place in b,
-// with a and piv from factorGuarded: P·a = L·U, so aᵀ = Uᵀ·Lᵀ·P.
-func solveTransposed(a []complex128, n int, piv []int, b []complex128) {
-	// Uᵀ·z = b: forward.
-	for i := 0; i < n; i++ {
-		s := b[i]
-		for k := 0; k < i; k++ {
-			s -= a[k*n+i] * b[k]
-		}
-		b[i] = s / a[i*n+i]
-	}
-	// Lᵀ·y = z: backward, L unit lower.
-	for i := n - 1; i >= 0; i-- {
-		s := b[i]
-		for k := i + 1; k < n; k++ {
-			s -= a[k*n+i] * b[k]
-		}
-		b[i] = s
-	}
-	// x = Pᵀ·y: undo the exchanges in reverse order.
-	for k := n - 1; k >= 0; k-- {
-		if p := piv[k]; p != k {
-			b[k], b[p] = b[p], b[k]
-		}
 	}
 }

@@ -27,30 +27,99 @@ func Factor(a []complex128, n int, piv []int) complex128 {
 			return 0
 		}
 		if p != k {
-			rk, rp := a[k*n:k*n+n], a[p*n:p*n+n]
-			for j := range rk {
-				rk[j], rp[j] = rp[j], rk[j]
-			}
+			swapRows(a, n, k, p)
 			det = -det
 		}
-		pivot := a[k*n+k]
-		det *= pivot
-		inv := 1 / pivot
-		rk := a[k*n+k+1 : k*n+n]
-		for i := k + 1; i < n; i++ {
-			ri := a[i*n+k : i*n+n]
-			l := ri[0] * inv
-			ri[0] = l
-			if l == 0 {
-				continue
-			}
-			ri = ri[1:]
-			for j, u := range rk {
-				ri[j] -= l * u
-			}
-		}
+		det *= a[k*n+k]
+		eliminate(a, n, k)
 	}
 	return det
+}
+
+// swapRows exchanges rows k and p of the n×n matrix a.
+func swapRows(a []complex128, n, k, p int) {
+	rk, rp := a[k*n:k*n+n], a[p*n:p*n+n]
+	for j := range rk {
+		rk[j], rp[j] = rp[j], rk[j]
+	}
+}
+
+// eliminate does step k of the elimination: the multipliers below the
+// (non-zero) pivot a[k][k] and the update of the rows below.
+func eliminate(a []complex128, n, k int) {
+	inv := 1 / a[k*n+k]
+	rk := a[k*n+k+1 : k*n+n]
+	for i := k + 1; i < n; i++ {
+		ri := a[i*n+k : i*n+n]
+		l := ri[0] * inv
+		ri[0] = l
+		if l == 0 {
+			continue
+		}
+		ri = ri[1:]
+		for j, u := range rk {
+			ri[j] -= l * u
+		}
+	}
+}
+
+// FactorGuarded is [Factor] for a matrix that is singular to rounding (an
+// inverse iteration's): a pivot that is exactly zero is replaced by 2^-60
+// times big, the size of the largest entry, so that the factors can
+// solve. It returns the smallest |pivot| (as [Abs1]) before any
+// replacement.
+func FactorGuarded(a []complex128, n int, piv []int, big float64) float64 {
+	small := math.Inf(1)
+	tiny := complex(big*0x1p-60, 0)
+	if big == 0 {
+		tiny = complex(0x1p-60, 0)
+	}
+	for k := 0; k < n; k++ {
+		p, m := k, Abs1(a[k*n+k])
+		for i := k + 1; i < n; i++ {
+			if v := Abs1(a[i*n+k]); v > m {
+				p, m = i, v
+			}
+		}
+		piv[k] = p
+		small = math.Min(small, m)
+		if p != k {
+			swapRows(a, n, k, p)
+		}
+		if m == 0 {
+			a[k*n+k] = tiny
+		}
+		eliminate(a, n, k)
+	}
+	return small
+}
+
+// SolveTransposed solves aᵀ·x = b (the plain transpose) in place in b,
+// with a and piv from [Factor] or [FactorGuarded]: P·a = L·U, so
+// aᵀ = Uᵀ·Lᵀ·P.
+func SolveTransposed(a []complex128, n int, piv []int, b []complex128) {
+	// Uᵀ·z = b: forward.
+	for i := 0; i < n; i++ {
+		s := b[i]
+		for k := 0; k < i; k++ {
+			s -= a[k*n+i] * b[k]
+		}
+		b[i] = s / a[i*n+i]
+	}
+	// Lᵀ·y = z: backward, L unit lower.
+	for i := n - 1; i >= 0; i-- {
+		s := b[i]
+		for k := i + 1; k < n; k++ {
+			s -= a[k*n+i] * b[k]
+		}
+		b[i] = s
+	}
+	// x = Pᵀ·y: undo the exchanges in reverse order.
+	for k := n - 1; k >= 0; k-- {
+		if p := piv[k]; p != k {
+			b[k], b[p] = b[p], b[k]
+		}
+	}
 }
 
 // Solve solves a·x = b in place in b, with a and piv from a [Factor]

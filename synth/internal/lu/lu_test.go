@@ -23,3 +23,23 @@ func TestFactorSolve(t *testing.T) {
 	// A singular matrix reports a zero determinant.
 	require.Equal(t, complex128(0), Factor([]complex128{1, 2, 2, 4}, 2, piv))
 }
+
+func TestFactorGuardedSolveTransposed(t *testing.T) {
+	t.Parallel()
+	// Aᵀ·x = b for A = [[0, 1], [2j, 3]] (by hand): Aᵀ = [[0, 2j], [1, 3]];
+	// x = (1, 1j) gives b = (2j·1j, 1 + 3j) = (−2, 1 + 3j).
+	a := []complex128{0, 1, 2i, 3}
+	piv := make([]int, 2)
+	require.InDelta(t, 1, FactorGuarded(a, 2, piv, 3), 1e-15) // pivots 2 (|2j|) and 1: the smallest is 1
+	b := []complex128{-2, 1 + 3i}
+	SolveTransposed(a, 2, piv, b)
+	require.InDelta(t, 0, cmplx.Abs(b[0]-1), 1e-15)
+	require.InDelta(t, 0, cmplx.Abs(b[1]-1i), 1e-15)
+	// A singular matrix: the zero pivot is reported and replaced, so the
+	// factors still solve (to a huge, finite answer).
+	s := []complex128{1, 2, 2, 4}
+	require.Zero(t, FactorGuarded(s, 2, piv, 4))
+	x := []complex128{1, 1}
+	Solve(s, 2, piv, x)
+	require.False(t, cmplx.IsNaN(x[0]) || cmplx.IsInf(x[0]))
+}
