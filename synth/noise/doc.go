@@ -141,6 +141,6 @@
 // two-core machine; 0.75 ms with a refined LU per stage and frequency);
 // integrated from 0 Hz with the noise the words of a 48 kHz converter
 // carry, about 0.23 ms, and of a 3.072 MHz modulator's 48 kHz words,
-// about 0.28 ms. Turning the stages into rational functions is about a
-// third of that; each density is then cheap.
+// about 0.28 ms. Compiling the chain (its stages' rational transfers and
+// those of every source) is about half of that.
 package noise
