@@ -94,6 +94,16 @@
 // better over eight decades for the test circuits (the tests require
 // 1e-10).
 //
+// [Stage.SourceTransfers] interpolates, the same way and together, the
+// transfers of any number of sources inside the stage (a current between
+// two nodes, a voltage in series with an op-amp's non-inverting input) to
+// its output, as numerators over the same determinant: at each point one
+// LU of Aᵀ and one solve of Aᵀ·y = e_out give every source's transfer,
+// whose products with det A are cofactors of A, again of degree at most
+// d; each polynomial has its own noise floor and its own second circles.
+// Package noise turns every noise source into such a function once per
+// stage.
+//
 // A sweep then costs, per stage and frequency, two real Horner
 // evaluations (p = jx splits a real polynomial into its even and odd
 // powers of x) and one complex division; a [Cascade] is the product of its

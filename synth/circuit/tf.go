@@ -110,15 +110,20 @@ func trimPoly(c []float64) []float64 {
 }
 
 // circle holds one interpolation pass at radius rho: the coefficients of
-// both polynomials and the noise floor of each, in value units (the
+// each polynomial and the noise floor of each, in value units (the
 // rounding error of a term c_j·rho^j).
 type circle struct {
-	rho            float64
-	num, den       []float64
-	noiseN, noiseD float64
+	rho   float64
+	coef  [][]float64
+	noise []float64
 }
 
-// onCircle samples det A(p) and its output cofactor at m points (m even,
+// sampler sets v[i] to the value of polynomial i at p; len(v) is the
+// number of polynomials interpolated together.
+type sampler func(p complex128, v []complex128)
+
+// onCircle samples the polynomials of sample (np of them, degree at most
+// sys.deg: det A(p) and cofactors of A(p)) at m points (m even,
 // m ≥ deg+1+extraBins) p_k = rho·e^(iθ_k), θ_k = π(2k+1)/m, and inverts the
 // discrete Fourier transform. The points avoid the real axis, where real
 // poles lie, and come in conjugate pairs (θ_m−1−k = 2π − θ_k), so only the
@@ -128,47 +133,58 @@ type circle struct {
 // up to the factor m, spreads the samples' rounding errors evenly over
 // the m bins. The bins above the degree bound hold nothing else, so their
 // largest magnitude (or ε times the largest sample, if more) is the noise
-// floor of every bin. It is measured, not bounded, because at radii far
-// from the stage's scale a low-degree cofactor of a matrix with large
-// entries is small by cancellation and its error is far above ε·|value|.
-func (sys *system) onCircle(rho float64, m int, dn, dd []complex128) circle {
+// floor of every bin of that polynomial. It is measured, not bounded,
+// because at radii far from the stage's scale a low-degree cofactor of a
+// matrix with large entries is small by cancellation and its error is far
+// above ε·|value|. vals holds m·np values and w m values of scratch.
+func (sys *system) onCircle(rho float64, m, np int, sample sampler, vals, w []complex128) circle {
 	deg := sys.deg
-	c := circle{rho: rho, num: make([]float64, deg+1), den: make([]float64, deg+1)}
+	c := circle{rho: rho, coef: make([][]float64, np), noise: make([]float64, np)}
+	for i := range c.coef {
+		c.coef[i] = make([]float64, deg+1)
+	}
 	half := m / 2
-	w := dn[half:] // e^(−iθ_k), k < half; dn and dd hold m values
-	var maxN, maxD float64
+	pw := w[half:] // w[:half] holds e^(−iθ_k), k < half
+	maxV := make([]float64, np)
 	for k := 0; k < half; k++ {
 		sin, cos := math.Sincos(math.Pi * float64(2*k+1) / float64(m))
-		det, num := sys.detNum(complex(rho*cos, rho*sin))
-		dd[k], dn[k] = det, num
+		v := vals[k*np : k*np+np]
+		sample(complex(rho*cos, rho*sin), v)
 		w[k] = complex(cos, -sin)
-		maxN = math.Max(maxN, lu.Abs1(num))
-		maxD = math.Max(maxD, lu.Abs1(det))
+		for i, x := range v {
+			maxV[i] = math.Max(maxV[i], lu.Abs1(x))
+		}
 	}
 	const eps = 0x1p-52
-	c.noiseN, c.noiseD = eps*maxN, eps*maxD
+	for i := range c.noise {
+		c.noise[i] = eps * maxV[i]
+	}
 	// c_j·rho^j = (1/m)·Σ_k v_k·e^(−ijθ_k) = (2/m)·Re Σ_{k<m/2} v_k·e^(−ijθ_k).
-	pw := dd[half:]
 	for k := range half {
 		pw[k] = 1
 	}
+	sum := maxV // reused: the sums of bin j
 	rj := 1.0
 	for j := 0; j < m; j++ {
-		var sn, sd float64
+		clear(sum)
 		for k := 0; k < half; k++ {
-			sn += real(dn[k] * pw[k])
-			sd += real(dd[k] * pw[k])
+			for i, x := range vals[k*np : k*np+np] {
+				sum[i] += real(x * pw[k])
+			}
 			pw[k] *= w[k]
 		}
-		sn *= 2 / float64(m)
-		sd *= 2 / float64(m)
+		for i := range sum {
+			sum[i] *= 2 / float64(m)
+		}
 		if j > deg {
-			c.noiseN = math.Max(c.noiseN, math.Abs(sn))
-			c.noiseD = math.Max(c.noiseD, math.Abs(sd))
+			for i, s := range sum {
+				c.noise[i] = math.Max(c.noise[i], math.Abs(s))
+			}
 			continue
 		}
-		c.num[j] = sn / rj
-		c.den[j] = sd / rj
+		for i, s := range sum {
+			c.coef[i][j] = s / rj
+		}
 		rj *= rho
 	}
 	return c
@@ -176,30 +192,40 @@ func (sys *system) onCircle(rho float64, m int, dn, dd []complex128) circle {
 
 // interpolate returns the numerator and denominator coefficients
 // (ascending powers of p, length deg+1) of V(Out) = num/det.
+func (sys *system) interpolate() (num, den []float64) {
+	c := sys.interpolateAll(2, func(p complex128, v []complex128) {
+		v[0], v[1] = sys.detNum(p)
+	})
+	return c[1], c[0]
+}
+
+// interpolateAll returns the coefficients (ascending powers of p, length
+// deg+1) of the np polynomials of sample.
 //
 // One circle at |p| = 1 settles every coefficient whose term there is well
 // above the noise floor (relative error ≤ acceptRel). Any other (the
 // op-amps' far poles, or a structural zero showing as noise) is measured
-// again on the circle where its term is largest relative to the others,
-// as estimated from the first pass, and there it is either accurate or
-// below noiseFactor times that circle's noise floor, and then exactly
-// zero; so is a coefficient whose estimate is negligible everywhere in the
-// window.
-func (sys *system) interpolate() (num, den []float64) {
+// again on the circle where its term is largest relative to the others of
+// its polynomial, as estimated from the first pass, and there it is either
+// accurate or below noiseFactor times that circle's noise floor, and then
+// exactly zero; so is a coefficient whose estimate is negligible
+// everywhere in the window.
+func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
 	m := (sys.deg + 2 + extraBins) &^ 1 // even, ≥ deg+1+extraBins
-	dn := make([]complex128, m)
-	dd := make([]complex128, m)
-	base := sys.onCircle(1, m, dn, dd)
-	num, den = base.num, base.den
+	vals := make([]complex128, m*np)
+	w := make([]complex128, m)
+	base := sys.onCircle(1, m, np, sample, vals, w)
+	coef := base.coef
 
 	type redo struct {
-		key   int // radius 10^(key/2)
-		isDen bool
-		j     int
+		key  int // radius 10^(key/2)
+		poly int
+		j    int
 	}
 	var todo []redo
-	logs := make([]float64, len(num))
-	plan := func(c []float64, noise float64, isDen bool) {
+	logs := make([]float64, sys.deg+1)
+	for pi, c := range coef {
+		noise := base.noise[pi]
 		for i, v := range c {
 			logs[i] = math.Log(math.Abs(v))
 		}
@@ -217,30 +243,24 @@ func (sys *system) interpolate() (num, den []float64) {
 					c[j] = 0
 				}
 			default:
-				todo = append(todo, redo{key: key, isDen: isDen, j: j})
+				todo = append(todo, redo{key: key, poly: pi, j: j})
 			}
 		}
 	}
-	plan(num, base.noiseN, false)
-	plan(den, base.noiseD, true)
 	slices.SortFunc(todo, func(a, b redo) int { return a.key - b.key })
 	for i := 0; i < len(todo); {
 		key := todo[i].key
-		c := sys.onCircle(math.Pow(10, float64(key)/2), m, dn, dd)
+		c := sys.onCircle(math.Pow(10, float64(key)/2), m, np, sample, vals, w)
 		for ; i < len(todo) && todo[i].key == key; i++ {
 			t := todo[i]
-			src, dst, noise := c.num, num, c.noiseN
-			if t.isDen {
-				src, dst, noise = c.den, den, c.noiseD
-			}
-			v := src[t.j]
-			if math.Abs(v)*math.Pow(c.rho, float64(t.j)) < noiseFactor*noise {
+			v := c.coef[t.poly][t.j]
+			if math.Abs(v)*math.Pow(c.rho, float64(t.j)) < noiseFactor*c.noise[t.poly] {
 				v = 0
 			}
-			dst[t.j] = v
+			coef[t.poly][t.j] = v
 		}
 	}
-	return num, den
+	return coef
 }
 
 // bestLogRadius returns the log-radius x in the window at which term j of

@@ -103,16 +103,19 @@ func ThermalVPerRtHz(rOhm, tempK float64) float64 {
 // op-amp model (single pole or ideal, see package circuit) and noiseless
 // capacitors.
 //
-// Each stage is solved once per frequency by the adjoint method: with the
-// stage's nodal matrix A(jω) (the layout of package circuit: node
-// voltages, the input source's current, the op-amps' output currents), the
-// solution y of Aᵀ·y = e_out gives the transfer of every source to the
-// stage output at once — y_b − y_a for a current source from node a to
-// node b, y_k for a voltage source in op-amp k's equation. The stage's
-// input is driven by an ideal source (the previous op-amp's output), a
-// short for noise. Each stage's output noise power then passes through
-// the later stages' responses |H(jω)|² ([circuit.Chain.TransferFunctions]),
-// which do not load it, and the powers add.
+// Each stage is analysed once, by the adjoint method: with the stage's
+// nodal matrix A(s) (the layout of package circuit: node voltages, the
+// input source's current, the op-amps' output currents), the solution y
+// of Aᵀ·y = e_out gives the transfer of every source to the stage output
+// at once — y_b − y_a for a current source from node a to node b, y_k for
+// a voltage source in op-amp k's equation — and det A·y are polynomials
+// in s, interpolated on circles into one rational function per source
+// over the nodal determinant ([circuit.Stage.SourceTransfers]); a density
+// is then Horner evaluations. The stage's input is driven by an ideal
+// source (the previous op-amp's output), a short for noise. Each stage's
+// output noise power then passes through the later stages' responses
+// |H(jω)|² ([circuit.Chain.TransferFunctions]), which do not load it, and
+// the powers add.
 //
 // OutputVPerRtHz is the density at each frequency of freqHz (finite and
 // ≥ 0, at most [MaxPoints]; may be empty). OutputRMSV integrates the power
@@ -180,7 +183,7 @@ func output(ch circuit.Chain, on OpAmpNoise, tempK float64, freqHz []float64, ba
 
 // analysis is a compiled chain.
 type analysis struct {
-	stages  []*stageSys
+	stages  []*stageNoise
 	tfs     circuit.Cascade
 	refs    []string
 	gain    []float64    // |H_k|² per stage
@@ -214,7 +217,11 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 	a := &analysis{tfs: tfs, gain: make([]float64, len(ch.Stages))}
 	fourKT := 4 * BoltzmannJPerK * tempK
 	for k := range ch.Stages {
-		a.stages = append(a.stages, newStageSys(ch, k+1, on, fourKT, &a.refs))
+		sn, err := newStageNoise(ch, k+1, on, fourKT, &a.refs)
+		if err != nil {
+			return nil, err
+		}
+		a.stages = append(a.stages, sn)
 	}
 	for _, r := range tfs {
 		for _, p := range r.Poles() {
@@ -241,10 +248,11 @@ func (a *analysis) psd(fHz float64, perWho []float64) (float64, error) {
 	var total float64
 	for k := n - 1; k >= 0; k-- {
 		if later != 0 {
-			if err := a.stages[k].adjoint(w); err != nil {
+			v, err := a.stages[k].accumulate(w, later, perWho)
+			if err != nil {
 				return 0, fmt.Errorf("stage %d: %w", k+1, err)
 			}
-			total += a.stages[k].accumulate(later, perWho)
+			total += v
 		}
 		later *= a.gain[k]
 	}
