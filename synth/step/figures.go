@@ -162,7 +162,7 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		fig.FinalValue, fig.PeakAbs, fig.BandAbs, fig.SettlingS = 0, 0, b.halfWidth(0), 0
 		return fig, nil
 	}
-	ms, err := modesOf(stages)
+	ms, err := modesOf(stages, sys.roots)
 	if err != nil {
 		return nanFigures(), err
 	}
@@ -172,6 +172,8 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	if math.IsNaN(final) || math.IsInf(final, 0) {
 		return fig, nil
 	}
+	// One cache of discretisations serves every simulation below.
+	cache := &stepCache{sys: sys}
 	budget := min(MaxPoints, max(minGridPoints, int(measureWork/float64((sys.n+1)*(sys.n+1)))))
 	env0 := envelope(ms, 0)
 
@@ -184,10 +186,8 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		end := envelopeBelow(ms, 0.01*env0)
 		probeBand := 0.01 * env0 * 4 * float64(len(ms))
 		if ts, _ := measureGrid(ms, probeBand, end, pointsPerPeriod[0], min(budget, 2048), true); len(ts) > 1 {
-			ys, err := Response(stages, ts)
-			if err != nil {
-				return fig, err
-			}
+			ys := make([]float64, len(ts))
+			sys.advance(make([]float64, sys.n), 0, ts, ys, nil, cache)
 			for _, v := range ys {
 				peakLB = math.Max(peakLB, math.Abs(v))
 			}
@@ -218,24 +218,27 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		if !ok {
 			return fig, nil // too many points to resolve it
 		}
-		ys, err := Response(stages, ts)
-		if err != nil {
-			return fig, err
-		}
+		// The states at the grid's times, from which the refinements start.
+		ys := make([]float64, len(ts))
+		states := make([]float64, len(ts)*sys.n)
+		sys.advance(make([]float64, sys.n), 0, ts, ys, states, cache)
 		for _, v := range ys {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				return fig, nil
 			}
 		}
+		x := make([]float64, sys.n)
 		sub := func(i, j int) ([]float64, []float64, error) {
-			var st [refineSteps + 1]float64
+			st := make([]float64, refineSteps+1)
 			a, c := ts[i], ts[j]
 			for k := range st {
 				st[k] = a + (c-a)*float64(k)/refineSteps
 			}
 			st[refineSteps] = c
-			yy, err := Response(stages, st[:])
-			return st[:], yy, err
+			copy(x, states[i*sys.n:(i+1)*sys.n])
+			yy := make([]float64, len(st))
+			sys.advance(x, a*sys.wRef, st, yy, nil, cache)
+			return st, yy, nil
 		}
 		got, err := figuresOf(ts, ys, final, b, sub)
 		if err != nil {
