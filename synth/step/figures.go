@@ -229,15 +229,20 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		}
 		x := make([]float64, sys.n)
 		sub := func(i, j int) ([]float64, []float64, error) {
-			st := make([]float64, refineSteps+1)
-			a, c := ts[i], ts[j]
-			for k := range st {
-				st[k] = a + (c-a)*float64(k)/refineSteps
+			// refineSteps sub-steps of each grid interval, so that the
+			// refinements in one stretch of the grid share their sub-step
+			// (and its exponential) whatever their span.
+			st := make([]float64, 0, (j-i)*refineSteps+1)
+			for m := i; m < j; m++ {
+				a, c := ts[m], ts[m+1]
+				for k := range refineSteps {
+					st = append(st, a+(c-a)*float64(k)/refineSteps)
+				}
 			}
-			st[refineSteps] = c
+			st = append(st, ts[j])
 			copy(x, states[i*sys.n:(i+1)*sys.n])
 			yy := make([]float64, len(st))
-			sys.advance(x, a*sys.wRef, st, yy, nil, cache)
+			sys.advance(x, ts[i]*sys.wRef, st, yy, nil, cache)
 			return st, yy, nil
 		}
 		got, err := figuresOf(ts, ys, final, b, sub)
@@ -254,11 +259,12 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	return fig, nil
 }
 
-// refineSteps is the number of sub-steps of [Measure]'s refinement.
+// refineSteps is the number of sub-steps of each grid interval in
+// [Measure]'s refinement.
 const refineSteps = 64
 
-// sampler returns the exact response at refineSteps sub-steps of
-// [ts[i], ts[j]], for Measure's refinement.
+// sampler returns the exact response at refineSteps sub-steps of each
+// grid interval of [ts[i], ts[j]], for Measure's refinement.
 type sampler func(i, j int) ([]float64, []float64, error)
 
 // sign returns the sign of v, +1 for 0.
@@ -277,7 +283,8 @@ func argmax(ys []float64, s, off float64) int {
 
 // extremum returns the largest s·(y − off) near sample k: over the
 // intervals either side of it, on the grid's cubics, or, with sub, on
-// the exact response there at refineSteps sub-steps and their cubics.
+// the exact response there at refineSteps sub-steps of each and their
+// cubics.
 func extremum(ts, ys []float64, k int, s, off float64, sub sampler) (float64, error) {
 	if sub != nil {
 		lo, hi := max(k-1, 0), min(k+1, len(ts)-1)
