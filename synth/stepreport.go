@@ -2,7 +2,6 @@ package synth
 
 import (
 	"errors"
-	"fmt"
 	"math"
 
 	"github.com/polewright/polewright/synth/circuit"
@@ -67,11 +66,11 @@ type StepReport struct {
 	Unstable bool `json:"unstable"`
 }
 
-// stepResponse fills d.Step. An analysis that cannot run (the as-built
-// cascade is unstable, too large for package step, or its response is not
-// finite) leaves its part of the report nil; only a chain without
-// transfer functions is an error.
-func (d *Design) stepResponse(ch circuit.Chain) error {
+// stepResponse fills d.Step from the as-built stages' transfer functions
+// tfs (the chain's, as judgeBuilt keeps them). An analysis that cannot
+// run (the as-built cascade is unstable, too large for package step, or
+// its response is not finite) leaves its part of the report nil.
+func (d *Design) stepResponse(tfs circuit.Cascade) {
 	band := step.Band{Frac: DefaultSettlingFrac}
 	if c := d.Spec.Converter; c != nil {
 		band = step.Band{Frac: step.HalfLSBFrac(c.Bits), FullScale: math.Abs(d.Gain)}
@@ -82,10 +81,6 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 	var ideal, built []step.Stage
 	for _, sec := range d.Cascade() {
 		ideal = append(ideal, step.FromSection(sec))
-	}
-	tfs, err := ch.TransferFunctions()
-	if err != nil {
-		return fmt.Errorf("synth: step: %w", err)
 	}
 	for _, r := range tfs {
 		built = append(built, step.FromRational(r))
@@ -126,7 +121,6 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 		rep.SettlingBand = figB.BandAbs
 	}
 	d.Step = rep
-	return nil
 }
 
 // finiteResponse returns the step response of stages at t, or nil when it

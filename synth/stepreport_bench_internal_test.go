@@ -29,9 +29,13 @@ func BenchmarkStepResponse(b *testing.B) {
 			}
 			b.ReportAllocs()
 			for b.Loop() {
-				if err := d.stepResponse(ch); err != nil {
+				// As verifyDesign does: the chain's transfer functions, then
+				// the report.
+				tfs, err := ch.TransferFunctions()
+				if err != nil {
 					b.Fatal(err)
 				}
+				d.stepResponse(tfs)
 			}
 		})
 	}
