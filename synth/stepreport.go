@@ -85,8 +85,18 @@ func (d *Design) stepResponse(tfs circuit.Cascade) {
 	for _, r := range tfs {
 		built = append(built, step.FromRational(r))
 	}
-	figI, errI := step.Measure(ideal, band)
-	figB, errB := step.Measure(built, band)
+	// Each cascade is built once for its figures and its response.
+	measure := func(stages []step.Stage) (*step.Model, step.Figures, error) {
+		m, err := step.NewModel(stages)
+		if err != nil {
+			fig, err := step.Measure(stages, band) // NaN figures and the error
+			return nil, fig, err
+		}
+		fig, err := m.Measure(band)
+		return m, fig, err
+	}
+	mI, figI, errI := measure(ideal)
+	mB, figB, errB := measure(built)
 
 	// The grid: past the later settling time, or from the ideal poles.
 	end := 0.0
@@ -102,11 +112,11 @@ func (d *Design) stepResponse(tfs circuit.Cascade) {
 	t := step.Grid(end, StepPoints)
 	rep := &StepReport{TimeS: t, SettlingFrac: band.Frac, Unstable: errors.Is(errB, step.ErrUnstable)}
 	if errI == nil {
-		rep.Ideal = finiteResponse(ideal, t)
+		rep.Ideal = finiteResponse(mI, t)
 		rep.IdealSettlingS = finitePtr(figI.SettlingS)
 	}
 	if errB == nil {
-		rep.Realized = finiteResponse(built, t)
+		rep.Realized = finiteResponse(mB, t)
 	}
 	if rep.Realized != nil {
 		rep.OvershootPct = finitePtr(figB.OvershootPct)
@@ -123,10 +133,10 @@ func (d *Design) stepResponse(tfs circuit.Cascade) {
 	d.Step = rep
 }
 
-// finiteResponse returns the step response of stages at t, or nil when it
-// cannot be computed or is not finite everywhere.
-func finiteResponse(stages []step.Stage, t []float64) []float64 {
-	y, err := step.Response(stages, t)
+// finiteResponse returns the step response of the model m at t, or nil
+// when it cannot be computed or is not finite everywhere.
+func finiteResponse(m *step.Model, t []float64) []float64 {
+	y, err := m.Response(t)
 	if err != nil {
 		return nil
 	}

@@ -135,9 +135,13 @@ func Analyze(tS, y []float64, b Band) Figures {
 // band — so the response has settled for good before the last one — with
 // a step that resolves every mode whose term can still matter to the band
 // (16 points per period of its ringing, two per time constant; 8 points
-// per period when that would be too many). The interval of a crossing or
-// an extreme is then sampled again by [Response] at 64 sub-steps and the
-// figure found there as in [Analyze], so the figures are exact up to
+// per period when that would be too many). The grid interval of a
+// crossing, or the two either side of an extreme, is then sampled again
+// on the exact response at 64 sub-steps each, from the state the grid
+// reached at its start, and the figure found there as in [Analyze]. (The
+// model is built once, and the exponential of each distinct step, of the
+// grid or of the sub-steps, is computed once per call; the sub-steps of
+// one stretch of the grid are the same.) So the figures are exact up to
 // rounding (crossing times within 3e-12 of the span, overshoot within
 // 1e-9, against the closed forms of second-order sections in the tests).
 // The grid's size is bounded (points × (states+1)² ≤ 3e8, and
@@ -153,10 +157,19 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	if !b.valid() {
 		return nanFigures(), invalidf("settling band %+v: Frac must be in (0, 1) and FullScale finite and >= 0", b)
 	}
-	sys, err := build(stages)
+	m, err := NewModel(stages)
 	if err != nil {
 		return nanFigures(), err
 	}
+	return m.Measure(b)
+}
+
+// Measure is [Measure] of the model's cascade.
+func (m *Model) Measure(b Band) (Figures, error) {
+	if !b.valid() {
+		return nanFigures(), invalidf("settling band %+v: Frac must be in (0, 1) and FullScale finite and >= 0", b)
+	}
+	stages, sys := m.stages, m.sys
 	if sys.zero {
 		fig := nanFigures()
 		fig.FinalValue, fig.PeakAbs, fig.BandAbs, fig.SettlingS = 0, 0, b.halfWidth(0), 0
