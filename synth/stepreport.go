@@ -2,7 +2,6 @@ package synth
 
 import (
 	"errors"
-	"fmt"
 	"math"
 
 	"github.com/polewright/polewright/synth/circuit"
@@ -67,11 +66,11 @@ type StepReport struct {
 	Unstable bool `json:"unstable"`
 }
 
-// stepResponse fills d.Step. An analysis that cannot run (the as-built
-// cascade is unstable, too large for package step, or its response is not
-// finite) leaves its part of the report nil; only a chain without
-// transfer functions is an error.
-func (d *Design) stepResponse(ch circuit.Chain) error {
+// stepResponse fills d.Step from the as-built stages' transfer functions
+// tfs (the chain's, as judgeBuilt keeps them). An analysis that cannot
+// run (the as-built cascade is unstable, too large for package step, or
+// its response is not finite) leaves its part of the report nil.
+func (d *Design) stepResponse(tfs circuit.Cascade) {
 	band := step.Band{Frac: DefaultSettlingFrac}
 	if c := d.Spec.Converter; c != nil {
 		band = step.Band{Frac: step.HalfLSBFrac(c.Bits), FullScale: math.Abs(d.Gain)}
@@ -83,15 +82,21 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 	for _, sec := range d.Cascade() {
 		ideal = append(ideal, step.FromSection(sec))
 	}
-	tfs, err := ch.TransferFunctions()
-	if err != nil {
-		return fmt.Errorf("synth: step: %w", err)
-	}
 	for _, r := range tfs {
 		built = append(built, step.FromRational(r))
 	}
-	figI, errI := step.Measure(ideal, band)
-	figB, errB := step.Measure(built, band)
+	// Each cascade is built once for its figures and its response.
+	measure := func(stages []step.Stage) (*step.Model, step.Figures, error) {
+		m, err := step.NewModel(stages)
+		if err != nil {
+			fig, err := step.Measure(stages, band) // NaN figures and the error
+			return nil, fig, err
+		}
+		fig, err := m.Measure(band)
+		return m, fig, err
+	}
+	mI, figI, errI := measure(ideal)
+	mB, figB, errB := measure(built)
 
 	// The grid: past the later settling time, or from the ideal poles.
 	end := 0.0
@@ -107,11 +112,11 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 	t := step.Grid(end, StepPoints)
 	rep := &StepReport{TimeS: t, SettlingFrac: band.Frac, Unstable: errors.Is(errB, step.ErrUnstable)}
 	if errI == nil {
-		rep.Ideal = finiteResponse(ideal, t)
+		rep.Ideal = finiteResponse(mI, t)
 		rep.IdealSettlingS = finitePtr(figI.SettlingS)
 	}
 	if errB == nil {
-		rep.Realized = finiteResponse(built, t)
+		rep.Realized = finiteResponse(mB, t)
 	}
 	if rep.Realized != nil {
 		rep.OvershootPct = finitePtr(figB.OvershootPct)
@@ -126,13 +131,12 @@ func (d *Design) stepResponse(ch circuit.Chain) error {
 		rep.SettlingBand = figB.BandAbs
 	}
 	d.Step = rep
-	return nil
 }
 
-// finiteResponse returns the step response of stages at t, or nil when it
-// cannot be computed or is not finite everywhere.
-func finiteResponse(stages []step.Stage, t []float64) []float64 {
-	y, err := step.Response(stages, t)
+// finiteResponse returns the step response of the model m at t, or nil
+// when it cannot be computed or is not finite everywhere.
+func finiteResponse(m *step.Model, t []float64) []float64 {
+	y, err := m.Response(t)
 	if err != nil {
 		return nil
 	}

@@ -71,9 +71,14 @@ func (d *Design) verifyDesign(ctx context.Context) error {
 	if err := d.noise(ch); err != nil {
 		return err
 	}
-	if err := d.stepResponse(ch); err != nil {
-		return err
+	tfs := d.chainTFs
+	if tfs == nil {
+		var err error
+		if tfs, err = ch.TransferFunctions(); err != nil {
+			return fmt.Errorf("synth: step: %w", err)
+		}
 	}
+	d.stepResponse(tfs)
 	if s.MonteCarlo.Trials > 0 {
 		return d.monteCarlo(ctx, ch)
 	}

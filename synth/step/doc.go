@@ -47,9 +47,14 @@
 // the tests, against partial fractions and closed forms). A uniform grid needs one exponential
 // for its step and one for its first time, when that is not 0; a
 // non-uniform grid needs one per distinct step, except that a step twice
-// the last is derived from it by one squaring (Φ(2Δ) = Φ(Δ)²). Steps that
-// differ only by the rounding of the times themselves (a few ulp of t)
-// count as equal.
+// a recent one is derived from it by one squaring (Φ(2Δ) = Φ(Δ)²), and
+// the last few distinct steps are kept, so that a step that recurs is not
+// computed again. Steps that differ only by the rounding of the times
+// themselves (a few ulp of t) count as equal. The state update skips the
+// zero blocks above the diagonal of Φ − I.
+//
+// [NewModel] factors the stages and builds the system once, for a
+// [Model.Measure] and a [Model.Response] of the same cascade.
 //
 // At t = 0 the response is D = H(∞), the limit from the right, as in
 // scipy.signal.step.

@@ -45,13 +45,15 @@ const theta13 = 5.4
 // row pivoting, so that the rows of a slow block are never mixed with
 // those of a fast one (a pivot row taken from a fast block would carry its
 // rounding errors, relative to its large entries, into the slow block).
+//
+// The element-wise steps work on the raw data (c·X + Y in one pass, the
+// identity's multiples added on the diagonal) and the products never
+// alias their operands, which keeps the small matrices here free of
+// gonum's generic paths and temporary copies; every sum is rounded as in
+// the plain form with mat.Dense.Scale and Add.
 func expm1(e, a *mat.Dense, sizes []int) {
 	r, _ := a.Dims()
 	n1 := mat.Norm(a, 1)
-	id := mat.NewDiagDense(r, nil)
-	for i := range r {
-		id.SetDiag(i, 1)
-	}
 	var u, v, a2 mat.Dense
 	for _, p := range padeLow {
 		if n1 > p.theta {
@@ -59,20 +61,21 @@ func expm1(e, a *mat.Dense, sizes []int) {
 		}
 		// U = A·Σ b_{2j+1}·A^{2j}, V = Σ b_{2j}·A^{2j}.
 		a2.Mul(a, a)
-		var pw, us, vs mat.Dense
-		pw.CloneFrom(id)
-		us.Scale(p.b[1], id)
-		vs.Scale(p.b[0], id)
-		var term mat.Dense
+		us, vs := mat.NewDense(r, r, nil), mat.NewDense(r, r, nil)
+		addDiag(us, p.b[1])
+		addDiag(vs, p.b[0])
+		var pw, next mat.Dense
+		pw.CloneFrom(&a2)
 		for j := 1; 2*j < len(p.b); j++ {
-			pw.Mul(&pw, &a2)
-			term.Scale(p.b[2*j], &pw)
-			vs.Add(&vs, &term)
-			term.Scale(p.b[2*j+1], &pw)
-			us.Add(&us, &term)
+			if j > 1 {
+				next.Mul(&pw, &a2)
+				pw, next = next, pw
+			}
+			addScaled(vs, p.b[2*j], &pw)
+			addScaled(us, p.b[2*j+1], &pw)
 		}
-		u.Mul(a, &us)
-		solveE(e, &vs, &u, sizes)
+		u.Mul(a, us)
+		solveE(e, vs, &u, sizes)
 		return
 	}
 
@@ -84,39 +87,70 @@ func expm1(e, a *mat.Dense, sizes []int) {
 		a1.Scale(math.Ldexp(1, -s), &a1)
 	}
 	b := pade13
-	var a4, a6, t mat.Dense
+	var a4, a6 mat.Dense
 	a2.Mul(&a1, &a1)
 	a4.Mul(&a2, &a2)
 	a6.Mul(&a2, &a4)
 	// V = A6·(b12·A6 + b10·A4 + b8·A2) + b6·A6 + b4·A4 + b2·A2 + b0·I.
 	lin := func(dst *mat.Dense, c6, c4, c2, c0 float64) {
-		dst.Scale(c6, &a6)
-		t.Scale(c4, &a4)
-		dst.Add(dst, &t)
-		t.Scale(c2, &a2)
-		dst.Add(dst, &t)
-		if c0 != 0 {
-			t.Scale(c0, id)
-			dst.Add(dst, &t)
+		if dst.IsEmpty() {
+			dst.ReuseAs(r, r)
 		}
+		d, x6, x4, x2 := dst.RawMatrix(), a6.RawMatrix(), a4.RawMatrix(), a2.RawMatrix()
+		for i := range r {
+			for j := range r {
+				w := c6 * x6.Data[i*x6.Stride+j]
+				w += c4 * x4.Data[i*x4.Stride+j]
+				w += c2 * x2.Data[i*x2.Stride+j]
+				d.Data[i*d.Stride+j] = w
+			}
+		}
+		addDiag(dst, c0)
 	}
-	var hi, lo mat.Dense
+	var hi, lo, w mat.Dense
 	lin(&hi, b[12], b[10], b[8], 0)
 	lin(&lo, b[6], b[4], b[2], b[0])
 	v.Mul(&a6, &hi)
-	v.Add(&v, &lo)
+	addScaled(&v, 1, &lo)
 	// U = A·(A6·(b13·A6 + b11·A4 + b9·A2) + b7·A6 + b5·A4 + b3·A2 + b1·I).
 	lin(&hi, b[13], b[11], b[9], 0)
 	lin(&lo, b[7], b[5], b[3], b[1])
-	u.Mul(&a6, &hi)
-	u.Add(&u, &lo)
-	u.Mul(&a1, &u)
+	w.Mul(&a6, &hi)
+	addScaled(&w, 1, &lo)
+	u.Mul(&a1, &w)
 	solveE(e, &v, &u, sizes)
+	// (I + E)² = I + (2E + E²).
 	var sq mat.Dense
 	for range s {
 		sq.Mul(e, e)
-		e.Scale(2, e)
-		e.Add(e, &sq)
+		er, sr := e.RawMatrix(), sq.RawMatrix()
+		for i := range r {
+			row, sqr := er.Data[i*er.Stride:i*er.Stride+r], sr.Data[i*sr.Stride:i*sr.Stride+r]
+			for j, x := range row {
+				row[j] = 2*x + sqr[j]
+			}
+		}
+	}
+}
+
+// addScaled sets dst to dst + c·x, element-wise.
+func addScaled(dst *mat.Dense, c float64, x *mat.Dense) {
+	r, cols := dst.Dims()
+	d, xr := dst.RawMatrix(), x.RawMatrix()
+	for i := range r {
+		row, xrow := d.Data[i*d.Stride:i*d.Stride+cols], xr.Data[i*xr.Stride:i*xr.Stride+cols]
+		for j, v := range xrow {
+			row[j] += c * v
+		}
+	}
+}
+
+// addDiag adds c to the diagonal of the square dst.
+func addDiag(dst *mat.Dense, c float64) {
+	r, _ := dst.Dims()
+	d := dst.RawMatrix()
+	for i := range r {
+		d.Data[i*d.Stride+i] += c
 	}
 }
 

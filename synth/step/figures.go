@@ -135,9 +135,13 @@ func Analyze(tS, y []float64, b Band) Figures {
 // band — so the response has settled for good before the last one — with
 // a step that resolves every mode whose term can still matter to the band
 // (16 points per period of its ringing, two per time constant; 8 points
-// per period when that would be too many). The interval of a crossing or
-// an extreme is then sampled again by [Response] at 64 sub-steps and the
-// figure found there as in [Analyze], so the figures are exact up to
+// per period when that would be too many). The grid interval of a
+// crossing, or the two either side of an extreme, is then sampled again
+// on the exact response at 64 sub-steps each, from the state the grid
+// reached at its start, and the figure found there as in [Analyze]. (The
+// model is built once, and the exponential of each distinct step, of the
+// grid or of the sub-steps, is computed once per call; the sub-steps of
+// one stretch of the grid are the same.) So the figures are exact up to
 // rounding (crossing times within 3e-12 of the span, overshoot within
 // 1e-9, against the closed forms of second-order sections in the tests).
 // The grid's size is bounded (points × (states+1)² ≤ 3e8, and
@@ -153,16 +157,25 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	if !b.valid() {
 		return nanFigures(), invalidf("settling band %+v: Frac must be in (0, 1) and FullScale finite and >= 0", b)
 	}
-	sys, err := build(stages)
+	m, err := NewModel(stages)
 	if err != nil {
 		return nanFigures(), err
 	}
+	return m.Measure(b)
+}
+
+// Measure is [Measure] of the model's cascade.
+func (m *Model) Measure(b Band) (Figures, error) {
+	if !b.valid() {
+		return nanFigures(), invalidf("settling band %+v: Frac must be in (0, 1) and FullScale finite and >= 0", b)
+	}
+	stages, sys := m.stages, m.sys
 	if sys.zero {
 		fig := nanFigures()
 		fig.FinalValue, fig.PeakAbs, fig.BandAbs, fig.SettlingS = 0, 0, b.halfWidth(0), 0
 		return fig, nil
 	}
-	ms, err := modesOf(stages)
+	ms, err := modesOf(stages, sys.roots)
 	if err != nil {
 		return nanFigures(), err
 	}
@@ -172,6 +185,8 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	if math.IsNaN(final) || math.IsInf(final, 0) {
 		return fig, nil
 	}
+	// One cache of discretisations serves every simulation below.
+	cache := &stepCache{sys: sys}
 	budget := min(MaxPoints, max(minGridPoints, int(measureWork/float64((sys.n+1)*(sys.n+1)))))
 	env0 := envelope(ms, 0)
 
@@ -184,10 +199,8 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		end := envelopeBelow(ms, 0.01*env0)
 		probeBand := 0.01 * env0 * 4 * float64(len(ms))
 		if ts, _ := measureGrid(ms, probeBand, end, pointsPerPeriod[0], min(budget, 2048), true); len(ts) > 1 {
-			ys, err := Response(stages, ts)
-			if err != nil {
-				return fig, err
-			}
+			ys := make([]float64, len(ts))
+			sys.advance(make([]float64, sys.n), 0, ts, ys, nil, cache)
 			for _, v := range ys {
 				peakLB = math.Max(peakLB, math.Abs(v))
 			}
@@ -218,24 +231,32 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 		if !ok {
 			return fig, nil // too many points to resolve it
 		}
-		ys, err := Response(stages, ts)
-		if err != nil {
-			return fig, err
-		}
+		// The states at the grid's times, from which the refinements start.
+		ys := make([]float64, len(ts))
+		states := make([]float64, len(ts)*sys.n)
+		sys.advance(make([]float64, sys.n), 0, ts, ys, states, cache)
 		for _, v := range ys {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				return fig, nil
 			}
 		}
+		x := make([]float64, sys.n)
 		sub := func(i, j int) ([]float64, []float64, error) {
-			var st [refineSteps + 1]float64
-			a, c := ts[i], ts[j]
-			for k := range st {
-				st[k] = a + (c-a)*float64(k)/refineSteps
+			// refineSteps sub-steps of each grid interval, so that the
+			// refinements in one stretch of the grid share their sub-step
+			// (and its exponential) whatever their span.
+			st := make([]float64, 0, (j-i)*refineSteps+1)
+			for m := i; m < j; m++ {
+				a, c := ts[m], ts[m+1]
+				for k := range refineSteps {
+					st = append(st, a+(c-a)*float64(k)/refineSteps)
+				}
 			}
-			st[refineSteps] = c
-			yy, err := Response(stages, st[:])
-			return st[:], yy, err
+			st = append(st, ts[j])
+			copy(x, states[i*sys.n:(i+1)*sys.n])
+			yy := make([]float64, len(st))
+			sys.advance(x, ts[i]*sys.wRef, st, yy, nil, cache)
+			return st, yy, nil
 		}
 		got, err := figuresOf(ts, ys, final, b, sub)
 		if err != nil {
@@ -251,11 +272,12 @@ func Measure(stages []Stage, b Band) (Figures, error) {
 	return fig, nil
 }
 
-// refineSteps is the number of sub-steps of [Measure]'s refinement.
+// refineSteps is the number of sub-steps of each grid interval in
+// [Measure]'s refinement.
 const refineSteps = 64
 
-// sampler returns the exact response at refineSteps sub-steps of
-// [ts[i], ts[j]], for Measure's refinement.
+// sampler returns the exact response at refineSteps sub-steps of each
+// grid interval of [ts[i], ts[j]], for Measure's refinement.
 type sampler func(i, j int) ([]float64, []float64, error)
 
 // sign returns the sign of v, +1 for 0.
@@ -274,7 +296,8 @@ func argmax(ys []float64, s, off float64) int {
 
 // extremum returns the largest s·(y − off) near sample k: over the
 // intervals either side of it, on the grid's cubics, or, with sub, on
-// the exact response there at refineSteps sub-steps and their cubics.
+// the exact response there at refineSteps sub-steps of each and their
+// cubics.
 func extremum(ts, ys []float64, k int, s, off float64, sub sampler) (float64, error) {
 	if sub != nil {
 		lo, hi := max(k-1, 0), min(k+1, len(ts)-1)

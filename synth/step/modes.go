@@ -37,8 +37,8 @@ const (
 )
 
 // modesOf returns the modes of the step response of the validated stages,
-// ErrUnstable for a pole with Re p ≥ 0, or an ErrInvalid error for a stage
-// whose roots cannot be found.
+// given the roots of each that [build] found, or ErrUnstable for a pole
+// with Re p ≥ 0.
 //
 // The residue at a pole p of stage k is
 //
@@ -46,31 +46,13 @@ const (
 //
 // with K = Num[n]/Den[d], ζ and π the stage's zeros and poles in its
 // normalised variable and ∏' over the other poles of the stage.
-func modesOf(stages []Stage) ([]mode, error) {
-	type rooted struct {
-		poles, zeros []complex128 // normalised
-		k, ws        float64
-	}
-	rs := make([]rooted, len(stages))
-	for i, st := range stages {
-		dn, dd := degree(st.Num), degree(st.Den)
-		if dn < 0 {
-			return nil, nil // identically zero: no modes
-		}
-		rat := st.rational()
-		rat.Num, rat.Den = st.Num[:dn+1], st.Den[:dd+1]
-		ws := st.ScaleRadPerSec
-		rat.ScaleRadPerSec = 1
-		poles, zeros := rat.Poles(), rat.Zeros()
-		if len(poles) != dd || len(zeros) != dn {
-			return nil, invalidf("stage %d: the roots of a stage of degree %d/%d cannot be found", i, dn, dd)
-		}
-		for _, p := range poles {
+func modesOf(stages []Stage, rs []rooted) ([]mode, error) {
+	for _, r := range rs {
+		for _, p := range r.poles {
 			if !(real(p) < 0) {
 				return nil, ErrUnstable
 			}
 		}
-		rs[i] = rooted{poles: poles, zeros: zeros, k: st.Num[dn] / st.Den[dd], ws: ws}
 	}
 	var ms []mode
 	bad := []int{}

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"slices"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
@@ -203,27 +204,72 @@ func TimeGrid(stages []Stage, n int) []float64 {
 // invalid stages or times, more than [MaxPoints] times or more than
 // [MaxStates] poles in all.
 func Response(stages []Stage, tS []float64) ([]float64, error) {
-	if len(tS) > MaxPoints {
-		return nil, invalidf("%d times, more than %d", len(tS), MaxPoints)
+	if err := validTimes(tS); err != nil {
+		return nil, err
 	}
-	for i, t := range tS {
-		if !(t >= 0) || math.IsInf(t, 1) {
-			return nil, invalidf("tS[%d] = %v is not finite and >= 0", i, t)
-		}
-		if i > 0 && t < tS[i-1] {
-			return nil, invalidf("tS[%d] = %v is below tS[%d] = %v", i, t, i-1, tS[i-1])
-		}
+	m, err := NewModel(stages)
+	if err != nil {
+		return nil, err
 	}
+	return m.response(tS), nil
+}
+
+// Model is a cascade of stages validated and built once, for several
+// analyses of the same cascade: [Model.Response] and [Model.Measure] are
+// [Response] and [Measure] without factoring the stages and building the
+// state-space model again. A Model is not modified by its methods and may
+// be used by several goroutines at once.
+type Model struct {
+	stages []Stage
+	sys    *system
+}
+
+// NewModel validates the stages and builds their model. It returns an
+// error wrapping [ErrInvalid] for invalid stages or more than [MaxStates]
+// poles in all, as [Response] does. The stages are copied.
+func NewModel(stages []Stage) (*Model, error) {
 	sys, err := build(stages)
 	if err != nil {
 		return nil, err
 	}
-	y := make([]float64, len(tS))
-	if sys.zero {
-		return y, nil
+	own := make([]Stage, len(stages))
+	for i, st := range stages {
+		own[i] = Stage{Num: slices.Clone(st.Num), Den: slices.Clone(st.Den), ScaleRadPerSec: st.ScaleRadPerSec}
 	}
-	sys.simulate(y, tS)
-	return y, nil
+	return &Model{stages: own, sys: sys}, nil
+}
+
+// Response is [Response] of the model's cascade.
+func (m *Model) Response(tS []float64) ([]float64, error) {
+	if err := validTimes(tS); err != nil {
+		return nil, err
+	}
+	return m.response(tS), nil
+}
+
+// response returns the step response at the validated times tS.
+func (m *Model) response(tS []float64) []float64 {
+	y := make([]float64, len(tS))
+	if !m.sys.zero {
+		m.sys.simulate(y, tS)
+	}
+	return y
+}
+
+// validTimes checks times for [Response].
+func validTimes(tS []float64) error {
+	if len(tS) > MaxPoints {
+		return invalidf("%d times, more than %d", len(tS), MaxPoints)
+	}
+	for i, t := range tS {
+		if !(t >= 0) || math.IsInf(t, 1) {
+			return invalidf("tS[%d] = %v is not finite and >= 0", i, t)
+		}
+		if i > 0 && t < tS[i-1] {
+			return invalidf("tS[%d] = %v is below tS[%d] = %v", i, t, i-1, tS[i-1])
+		}
+	}
+	return nil
 }
 
 func (st Stage) rational() circuit.Rational {
