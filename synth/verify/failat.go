@@ -16,8 +16,13 @@ const FailAtMaxPct = 100
 // part cannot go to zero.
 const failAtDownMaxPct = 99
 
-// failAtRelTol is the relative accuracy of each figure FailAt reports.
-const failAtRelTol = 1e-3
+// failAtRelTol is the relative accuracy of each figure FailAt reports
+// (0.5 %: a part's tolerance is chosen from series a factor 2 apart).
+const failAtRelTol = 5e-3
+
+// failAtFloorPct is the smallest change FailAt resolves: a board that
+// fails at 1e-4 % of a part is reported as failing there.
+const failAtFloorPct = 1e-4
 
 // PartLimit is how far one part may move, alone, before the board fails:
 // DownPct and UpPct are magnitudes in percent, NaN when the board still
@@ -35,7 +40,7 @@ type PartLimit struct {
 //
 // The search steps the change up by factors of 10 from 0.01 % until the
 // board fails, then finds the crossing by regula falsi (Illinois) on the
-// margin in the logarithm of the change, to failAtRelTol. A margin that
+// margin in the logarithm of the change, to 0.5 %. A margin that
 // dips below zero and recovers between two steps of the ladder is missed:
 // the figure is the first crossing the ladder brackets. If the nominal
 // board fails, every figure is 0.
@@ -137,7 +142,11 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 
 // dbOfComplex returns 20·log10|h|.
 func dbOfComplex(h complex128) float64 {
-	return 20 * math.Log10(math.Hypot(real(h), imag(h)))
+	re, im := real(h), imag(h)
+	if m := re*re + im*im; m > 1e-300 && m < 1e300 {
+		return dbPerLn * math.Log(m) // one logarithm, no hypot
+	}
+	return 20 * math.Log10(math.Hypot(re, im))
 }
 
 func finiteMargin(m float64) float64 {
@@ -171,7 +180,7 @@ func crossing(m func(pct float64) float64, m0, limit float64) float64 {
 	if lo == 0 {
 		lo = hi / 10 // m(0) passes; the ladder's first rung failed
 		v := m(lo)
-		for v < 0 && lo > 1e-9 {
+		for v < 0 && lo > failAtFloorPct {
 			hi, mhi = lo, v
 			lo /= 10
 			v = m(lo)
