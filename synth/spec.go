@@ -601,6 +601,9 @@ func (raw rawSpec) build() (Spec, error) {
 		if s.Response == Lowpass && s.StopbandHz == nil {
 			// The stopband comes from the converter: everything from
 			// fs − fp up folds onto the passband.
+			if fp := s.PassbandHz[0]; !(c.SampleRateHz > 2*fp) {
+				return Spec{}, fieldErr("converter.sample_rate_hz", "must be above twice the passband edge, %g Hz, for the stopband to come from the converter (fs − passband edge; got %g)", 2*fp, c.SampleRateHz)
+			}
 			s.StopbandHz = []float64{c.SampleRateHz - s.PassbandHz[0]}
 			if raw.StopbandAttenDB == nil {
 				s.StopbandAttenDB = c.AliasAttenDB
