@@ -86,13 +86,26 @@
 // not well above the noise there (the op-amps' far poles, or a coefficient
 // that is structurally zero and shows as noise) is measured again on the
 // circle where its term is largest relative to the others, as estimated
-// from the first pass; a coefficient that stays at the noise level there,
-// or whose estimate is below 1e-12 of the largest term everywhere in
-// |p| ∈ [1e-8, 1e8], is set to exactly zero, so a highpass has exact zeros
-// at s = 0 and a lowpass numerator is a constant. Against the refined
-// direct solution the rational form agrees to about 1e-13 relative or
-// better over eight decades for the test circuits (the tests require
-// 1e-10).
+// from the first pass (a coefficient at the noise level, even one that
+// came out exactly zero, is estimated at the noise floor: an exact zero
+// on one circle is rounding like any other); a coefficient that stays at
+// the noise level there, or whose estimate is below 1e-12 of the largest
+// term everywhere in |p| ∈ [1e-8, 1e8], is set to exactly zero, so a
+// highpass has exact zeros at s = 0 and a lowpass numerator is a
+// constant. Against the refined direct solution the rational form agrees
+// to about 1e-13 relative or better over eight decades for the test
+// circuits (the tests require 1e-10).
+//
+// [Stage.Slopes] gives the stage as an affine function of each part's
+// admittance alone (a part is the rank-one stamp y·u·uᵀ): by the matrix
+// determinant lemma and the Sherman–Morrison formula the derivatives of
+// det A and det A_out in y are det A·uᵀA⁻¹u and
+// det A·(uᵀA⁻¹u·x_out − (A⁻¹u)_out·uᵀx), so the one LU at each point,
+// and one solve per node, give every part's slopes; they are interpolated
+// on the nominal's circles, a slope's coefficient read from whichever
+// serves it to within a factor 1e4 of its best circle (so to about 1e-12
+// of its polynomial's largest term), and a circle is added only where
+// none does.
 //
 // [Stage.SourceTransfers] interpolates, the same way and together, the
 // transfers of any number of sources inside the stage (a current between

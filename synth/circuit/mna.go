@@ -140,10 +140,10 @@ func (t *nodeTable) unknown(name string) int {
 // to sys.g or sys.c.
 func (sys *system) stampPart(p Part, t *nodeTable, rn, scale float64) {
 	n := sys.n
-	i, j := t.unknown(p.A), t.unknown(p.B)
-	mat, y := sys.g, rn/p.Value
-	if p.Kind == Capacitor {
-		mat, y = sys.c, rn*p.Value*scale
+	i, j, y, isCap := partStamp(p, t, rn, scale)
+	mat := sys.g
+	if isCap {
+		mat = sys.c
 	}
 	if i >= 0 {
 		mat[i*n+i] += y
@@ -155,6 +155,18 @@ func (sys *system) stampPart(p Part, t *nodeTable, rn, scale float64) {
 		mat[i*n+j] -= y
 		mat[j*n+i] -= y
 	}
+}
+
+// partStamp returns a part's stamp y·u·uᵀ, u = e_i − e_j (an index −1,
+// ground, drops out): the unknowns of its nodes and its admittance
+// normalised by rn, per unit p at scale rad/s for a capacitor (isCap),
+// whose stamp goes into C rather than G.
+func partStamp(p Part, t *nodeTable, rn, scale float64) (i, j int, y float64, isCap bool) {
+	i, j = t.unknown(p.A), t.unknown(p.B)
+	if p.Kind == Capacitor {
+		return i, j, rn * p.Value * scale, true
+	}
+	return i, j, rn / p.Value, false
 }
 
 // fill sets sys.a to A(p).

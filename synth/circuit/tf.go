@@ -110,7 +110,7 @@ func trimPoly(c []float64) []float64 {
 }
 
 // circle holds one interpolation pass at radius rho: the coefficients of
-// each polynomial and the noise floor of each, in value units (the
+// each polynomial sampled and the noise floor of each, in value units (the
 // rounding error of a term c_j·rho^j).
 type circle struct {
 	rho   float64
@@ -118,74 +118,100 @@ type circle struct {
 	noise []float64
 }
 
-// sampler sets v[i] to the value of polynomial i at p; len(v) is the
-// number of polynomials interpolated together.
+// sampler writes the values of q polynomials in p, each of degree at most
+// sys.deg, at p into v (length q).
 type sampler func(p complex128, v []complex128)
 
-// onCircle samples the polynomials of sample (np of them, degree at most
-// sys.deg: det A(p) and cofactors of A(p)) at m points (m even,
-// m ≥ deg+1+extraBins) p_k = rho·e^(iθ_k), θ_k = π(2k+1)/m, and inverts the
-// discrete Fourier transform. The points avoid the real axis, where real
-// poles lie, and come in conjugate pairs (θ_m−1−k = 2π − θ_k), so only the
-// upper half is evaluated: the polynomials are real, so their values at
-// conjugate points are conjugate. With degree < m there is no aliasing:
-// the coefficients are exact up to rounding, and the transform, unitary
-// up to the factor m, spreads the samples' rounding errors evenly over
-// the m bins. The bins above the degree bound hold nothing else, so their
-// largest magnitude (or ε times the largest sample, if more) is the noise
-// floor of every bin of that polynomial. It is measured, not bounded,
-// because at radii far from the stage's scale a low-degree cofactor of a
-// matrix with large entries is small by cancellation and its error is far
-// above ε·|value|. vals holds m·np values and w m values of scratch.
-func (sys *system) onCircle(rho float64, m, np int, sample sampler, vals, w []complex128) circle {
-	deg := sys.deg
-	c := circle{rho: rho, coef: make([][]float64, np), noise: make([]float64, np)}
-	for i := range c.coef {
-		c.coef[i] = make([]float64, deg+1)
-	}
+// interpScratch is the work space of one interpolation: the samples of
+// each polynomial on the upper half circle (polynomial i at point k in
+// vals[i*half+k]), the twiddle factors e^(−ijθ_k) (tw[j*half+k]), one
+// point's values, and a circle's coefficients for the circles after the
+// first.
+type interpScratch struct {
+	vals, tw, pv []complex128
+	again        circle
+}
+
+func newInterpScratch(q, m int) interpScratch {
 	half := m / 2
-	pw := w[half:] // w[:half] holds e^(−iθ_k), k < half
-	maxV := make([]float64, np)
+	cs := make([]complex128, q*half+m*half+q)
+	return interpScratch{
+		vals: cs[:q*half],
+		tw:   cs[q*half : q*half+m*half],
+		pv:   cs[q*half+m*half:],
+	}
+}
+
+// newCircle returns a circle at rho with room for q polynomials of
+// degree deg and, after it, extra more float64s.
+func newCircle(rho float64, q, deg, extra int) (circle, []float64) {
+	fs := make([]float64, q*(deg+2)+extra)
+	c := circle{rho: rho, coef: make([][]float64, q), noise: fs[q*(deg+1) : q*(deg+2)]}
+	for i := range c.coef {
+		c.coef[i] = fs[i*(deg+1) : (i+1)*(deg+1) : (i+1)*(deg+1)]
+	}
+	return c, fs[q*(deg+2):]
+}
+
+// onCircle samples the polynomials (by sample) into c, whose storage it
+// reuses and returns filled, at m points (m even, m ≥ deg+1+extraBins)
+// p_k = rho·e^(iθ_k), rho = c.rho, θ_k = π(2k+1)/m, and inverts
+// the discrete Fourier transform. The points avoid the real axis, where
+// real poles lie, and come in conjugate pairs (θ_m−1−k = 2π − θ_k), so
+// only the upper half is evaluated: the polynomials are real, so their
+// values at conjugate points are conjugate. With degree < m there is no
+// aliasing: the coefficients are exact up to rounding, and the transform,
+// unitary up to the factor m, spreads the samples' rounding errors evenly
+// over the m bins. The bins above the degree bound hold nothing else, so
+// their largest magnitude (or ε times the largest sample, if more) is the
+// noise floor of every bin. It is measured, not bounded, because at radii
+// far from the stage's scale a low-degree cofactor of a matrix with large
+// entries is small by cancellation and its error is far above ε·|value|.
+func (sys *system) onCircle(c circle, m int, sample sampler, sc *interpScratch) circle {
+	deg, rho := sys.deg, c.rho
+	clear(c.noise)
+	half := m / 2
+	tw := sc.tw
 	for k := 0; k < half; k++ {
 		sin, cos := math.Sincos(math.Pi * float64(2*k+1) / float64(m))
-		v := vals[k*np : k*np+np]
-		sample(complex(rho*cos, rho*sin), v)
-		w[k] = complex(cos, -sin)
-		for i, x := range v {
-			maxV[i] = math.Max(maxV[i], lu.Abs1(x))
+		sample(complex(rho*cos, rho*sin), sc.pv)
+		for i, v := range sc.pv {
+			sc.vals[i*half+k] = v
+			c.noise[i] = math.Max(c.noise[i], lu.Abs1(v))
+		}
+		tw[k] = 1
+		if m > 1 {
+			tw[half+k] = complex(cos, -sin)
+		}
+	}
+	// Powers of e^(−iθ_k), by repeated multiplication.
+	for j := 2; j < m; j++ {
+		prev, w, row := tw[(j-1)*half:j*half], tw[half:2*half], tw[j*half:(j+1)*half]
+		for k := range row {
+			row[k] = prev[k] * w[k]
 		}
 	}
 	const eps = 0x1p-52
 	for i := range c.noise {
-		c.noise[i] = eps * maxV[i]
+		c.noise[i] *= eps
 	}
 	// c_j·rho^j = (1/m)·Σ_k v_k·e^(−ijθ_k) = (2/m)·Re Σ_{k<m/2} v_k·e^(−ijθ_k).
-	for k := range half {
-		pw[k] = 1
-	}
-	sum := maxV // reused: the sums of bin j
-	rj := 1.0
-	for j := 0; j < m; j++ {
-		clear(sum)
-		for k := 0; k < half; k++ {
-			for i, x := range vals[k*np : k*np+np] {
-				sum[i] += real(x * pw[k])
+	for i := range c.coef {
+		v := sc.vals[i*half : (i+1)*half]
+		rj := 1.0
+		for j := 0; j < m; j++ {
+			var s float64
+			for k, t := range tw[j*half : (j+1)*half] {
+				s += real(v[k] * t)
 			}
-			pw[k] *= w[k]
-		}
-		for i := range sum {
-			sum[i] *= 2 / float64(m)
-		}
-		if j > deg {
-			for i, s := range sum {
+			s *= 2 / float64(m)
+			if j > deg {
 				c.noise[i] = math.Max(c.noise[i], math.Abs(s))
+				continue
 			}
-			continue
-		}
-		for i, s := range sum {
 			c.coef[i][j] = s / rj
+			rj *= rho
 		}
-		rj *= rho
 	}
 	return c
 }
@@ -194,27 +220,53 @@ func (sys *system) onCircle(rho float64, m, np int, sample sampler, vals, w []co
 // (ascending powers of p, length deg+1) of V(Out) = num/det.
 func (sys *system) interpolate() (num, den []float64) {
 	c := sys.interpolateAll(2, func(p complex128, v []complex128) {
-		v[0], v[1] = sys.detNum(p)
+		v[1], v[0] = sys.detNum(p)
 	})
-	return c[1], c[0]
+	return c[0], c[1]
 }
 
 // interpolateAll returns the coefficients (ascending powers of p, length
-// deg+1) of the np polynomials of sample.
+// deg+1) of the np polynomials of sample, each resolved as if alone (see
+// interpolateShared, of which it is the case with every polynomial
+// strict and no structural zeros given).
+func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
+	return sys.interpolateShared(np, np, nil, sample)
+}
+
+// shareRatio: a coefficient of a shared polynomial (see interpolateShared)
+// may be read from any circle where its term relative to its
+// polynomial's largest is at least shareRatio times what it is on its
+// best circle, so that its error there is at most 1/shareRatio times the
+// least, and at most ε/shareRatio of the polynomial's largest term at any
+// radius.
+const shareRatio = 1e-4
+
+// interpolateShared returns the coefficients (ascending powers of p, length
+// deg+1) of the q polynomials that sample evaluates. Every circle is
+// sampled for all of them; the first strict are each resolved as if
+// alone, the others (shared) may share circles. Coefficient j < lo[i] of
+// polynomial i is structurally zero (lo nil: none is).
 //
 // One circle at |p| = 1 settles every coefficient whose term there is well
-// above the noise floor (relative error ≤ acceptRel). Any other (the
-// op-amps' far poles, or a structural zero showing as noise) is measured
-// again on the circle where its term is largest relative to the others of
-// its polynomial, as estimated from the first pass, and there it is either
+// above its polynomial's noise floor (relative error ≤ acceptRel). Any
+// other (the op-amps' far poles, or a structural zero showing as noise) is
+// measured again on the circle where its term is largest relative to its
+// polynomial's other terms, as estimated from the first pass (where a
+// coefficient below the noise floor, an exact zero included, counts as
+// the noise floor: its value there is rounding), and there it is either
 // accurate or below noiseFactor times that circle's noise floor, and then
 // exactly zero; so is a coefficient whose estimate is negligible
-// everywhere in the window.
-func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
+// everywhere in the window. A strict polynomial's result does not depend
+// on the others sampled with it. A shared polynomial's coefficient is
+// read from a circle where its term is within shareRatio of its best
+// (see shareRatio), the fewest circles that serve all being chosen among
+// the strict polynomials' and new ones (interval stabbing, greedy on the
+// intervals' upper ends, which is optimal).
+func (sys *system) interpolateShared(q, strict int, lo []int, sample sampler) [][]float64 {
 	m := (sys.deg + 2 + extraBins) &^ 1 // even, ≥ deg+1+extraBins
-	vals := make([]complex128, m*np)
-	w := make([]complex128, m)
-	base := sys.onCircle(1, m, np, sample, vals, w)
+	sc := newInterpScratch(q, m)
+	base, logs := newCircle(1, q, sys.deg, sys.deg+1)
+	base = sys.onCircle(base, m, sample, &sc)
 	coef := base.coef
 
 	type redo struct {
@@ -222,35 +274,88 @@ func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
 		poly int
 		j    int
 	}
+	type shared struct {
+		poly, j, lo, hi, best int // keys
+	}
 	var todo []redo
-	logs := make([]float64, sys.deg+1)
-	for pi, c := range coef {
-		noise := base.noise[pi]
-		for i, v := range c {
-			logs[i] = math.Log(math.Abs(v))
+	var flex []shared
+	var lt logTerms
+	for i, c := range coef {
+		noise := base.noise[i]
+		first := 0
+		if lo != nil {
+			first = lo[i]
 		}
-		for j, v := range c {
-			if v == 0 || noise <= acceptRel*math.Abs(v) {
+		for k, v := range c {
+			logs[k] = math.Log(math.Max(math.Abs(v), noise))
+			if k < first {
+				c[k], logs[k] = 0, math.Inf(-1)
+			}
+		}
+		ready := false
+		for j, v := range c[first:] {
+			j += first
+			if noise <= acceptRel*math.Abs(v) {
 				continue
 			}
-			x, r := bestLogRadius(logs, j)
+			if !ready {
+				lt.set(logs)
+				ready = true
+			}
+			x, r := lt.best(j)
 			key := int(math.Round(2 * x / math.Ln10))
+			kl, kh := key, key
+			if i >= strict && r >= negligibleRatio {
+				kl, kh = lt.keyRange(j, key, math.Log(r*shareRatio))
+			}
 			switch {
 			case r < negligibleRatio:
 				c[j] = 0
-			case key == 0:
+			case kl <= 0 && 0 <= kh:
 				if math.Abs(v) < noiseFactor*noise {
 					c[j] = 0
 				}
+			case i < strict:
+				todo = append(todo, redo{key: key, poly: i, j: j})
 			default:
-				todo = append(todo, redo{key: key, poly: pi, j: j})
+				flex = append(flex, shared{poly: i, j: j, lo: kl, hi: kh, best: key})
 			}
+		}
+	}
+	if len(flex) > 0 {
+		keys := []int{0}
+		for _, t := range todo {
+			keys = append(keys, t.key)
+		}
+		slices.SortFunc(flex, func(a, b shared) int { return a.hi - b.hi })
+		for _, f := range flex {
+			if !slices.ContainsFunc(keys, func(k int) bool { return f.lo <= k && k <= f.hi }) {
+				keys = append(keys, f.hi)
+			}
+		}
+		for _, f := range flex {
+			at := f.hi
+			for _, k := range keys {
+				if f.lo <= k && k <= f.hi && abs(k-f.best) < abs(at-f.best) {
+					at = k
+				}
+			}
+			todo = append(todo, redo{key: at, poly: f.poly, j: f.j})
 		}
 	}
 	slices.SortFunc(todo, func(a, b redo) int { return a.key - b.key })
 	for i := 0; i < len(todo); {
 		key := todo[i].key
-		c := sys.onCircle(math.Pow(10, float64(key)/2), m, np, sample, vals, w)
+		var c circle
+		if key == 0 {
+			c = base
+		} else {
+			if sc.again.coef == nil {
+				sc.again, _ = newCircle(0, q, sys.deg, 0)
+			}
+			sc.again.rho = math.Pow(10, float64(key)/2)
+			c = sys.onCircle(sc.again, m, sample, &sc)
+		}
 		for ; i < len(todo) && todo[i].key == key; i++ {
 			t := todo[i]
 			v := c.coef[t.poly][t.j]
@@ -263,31 +368,96 @@ func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
 	return coef
 }
 
-// bestLogRadius returns the log-radius x in the window at which term j of
-// a polynomial with log-magnitude coefficients logs is largest relative to
-// the largest term, preferring the x nearest 0 among the best, and that
-// ratio. Terms with log −Inf (exact zeros) are ignored.
-func bestLogRadius(logs []float64, j int) (x, ratio float64) {
+func abs(k int) int {
+	if k < 0 {
+		return -k
+	}
+	return k
+}
+
+// keyRange returns the keys (radii 10^(key/2) in the window) around best
+// at which term j, relative to the largest term, has a log at least floor.
+// The log ratio is concave in the log-radius (a linear term minus a
+// maximum of linear terms), so the keys form an interval; best is always
+// in it.
+func (lt *logTerms) keyRange(j, best int, floor float64) (lo, hi int) {
+	lim := 2 * windowDecades
+	if len(lt.keyTops) == 0 {
+		for k := -lim; k <= lim; k++ {
+			x := float64(k) / 2 * math.Ln10
+			top := math.Inf(-1)
+			for i, l := range lt.logs {
+				if v := l + float64(i)*x; v > top {
+					top = v
+				}
+			}
+			lt.keyTops = append(lt.keyTops, top)
+		}
+	}
+	ok := func(key int) bool {
+		return lt.logs[j]+float64(j)*(float64(key)/2*math.Ln10)-lt.keyTops[key+lim] >= floor
+	}
+	lo, hi = best, best
+	for lo > -lim && ok(lo-1) {
+		lo--
+	}
+	for hi < lim && ok(hi+1) {
+		hi++
+	}
+	return lo, hi
+}
+
+// logTerms holds a polynomial's log-magnitude coefficients (−Inf for an
+// exact zero), the candidate log-radii at which one of its terms can be
+// largest relative to the others (0, the window's ends, and where two
+// terms are equal), and the largest term's log at each.
+type logTerms struct {
+	logs, cands, tops []float64
+	keyTops           []float64 // the largest term's log at key k−2·windowDecades (keyRange), or nil
+}
+
+// set fills lt for the coefficients logs (kept, not copied).
+func (lt *logTerms) set(logs []float64) {
 	lim := windowDecades * math.Ln10
-	cands := []float64{0, -lim, lim}
+	lt.logs = logs
+	if lt.cands == nil {
+		d := len(logs)
+		n := 3 + d*(d-1)/2
+		buf := make([]float64, 2*n)
+		lt.cands, lt.tops = buf[:0:n], buf[n:n]
+	}
+	lt.cands = append(lt.cands[:0], 0, -lim, lim)
 	for i := range logs {
 		for k := i + 1; k < len(logs); k++ {
 			if math.IsInf(logs[i], -1) || math.IsInf(logs[k], -1) {
 				continue
 			}
 			if b := (logs[i] - logs[k]) / float64(k-i); b > -lim && b < lim {
-				cands = append(cands, b)
+				lt.cands = append(lt.cands, b)
 			}
 		}
 	}
-	const tie = 1e-9
-	best := math.Inf(-1)
-	for _, xc := range cands {
+	lt.keyTops = lt.keyTops[:0]
+	lt.tops = lt.tops[:0]
+	for _, xc := range lt.cands {
 		top := math.Inf(-1)
 		for i, l := range logs {
-			top = math.Max(top, l+float64(i)*xc)
+			if v := l + float64(i)*xc; v > top {
+				top = v
+			}
 		}
-		f := logs[j] + float64(j)*xc - top
+		lt.tops = append(lt.tops, top)
+	}
+}
+
+// best returns the log-radius x in the window at which term j is largest
+// relative to the largest term, preferring the x nearest 0 among the
+// best, and that ratio. Terms with log −Inf (exact zeros) are ignored.
+func (lt *logTerms) best(j int) (x, ratio float64) {
+	const tie = 1e-9
+	best := math.Inf(-1)
+	for c, xc := range lt.cands {
+		f := lt.logs[j] + float64(j)*xc - lt.tops[c]
 		switch {
 		case f > best+tie:
 			best, x = f, xc

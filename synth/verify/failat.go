@@ -47,8 +47,9 @@ type PartLimit struct {
 //
 // A board with one part changed is the nominal chain with one stage
 // replaced: the stage's determinant and cofactor are affine in the part's
-// admittance ([circuit.Stage.Slopes], one interpolation per part), so a
-// step of the search costs one stage's response on the grid.
+// admittance ([circuit.Stage.Slopes], every part's slopes from one LU per
+// interpolation point), so a step of the search costs one stage's
+// response on the grid.
 func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval func(fHz float64) float64) float64) ([][]PartLimit, error) {
 	if err := ch.Validate(); err != nil {
 		return nil, err

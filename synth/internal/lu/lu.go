@@ -146,3 +146,39 @@ func Solve(a []complex128, n int, piv []int, b []complex128) {
 		b[i] = s / row[i]
 	}
 }
+
+// SolveUnit sets x (length n) to the solution of a·x = e_k, the k-th unit
+// vector, with a and piv from a [Factor] that returned a non-zero
+// determinant and invDiag the reciprocals of U's diagonal (a[i*n+i]). It
+// skips the forward substitution's leading zeros, and multiplies by the
+// reciprocals where [Solve] divides, so it agrees with Solve to rounding,
+// not bit for bit.
+func SolveUnit(a []complex128, n int, piv []int, invDiag []complex128, k int, x []complex128) {
+	pos := k
+	for i := 0; i < n; i++ {
+		switch p := piv[i]; {
+		case p == i:
+		case pos == i:
+			pos = p
+		case pos == p:
+			pos = i
+		}
+	}
+	clear(x)
+	x[pos] = 1
+	for i := pos + 1; i < n; i++ {
+		var s complex128
+		for j, l := range a[i*n+pos : i*n+i] {
+			s -= l * x[pos+j]
+		}
+		x[i] = s
+	}
+	for i := n - 1; i >= 0; i-- {
+		s := x[i]
+		row := a[i*n : i*n+n]
+		for j := i + 1; j < n; j++ {
+			s -= row[j] * x[j]
+		}
+		x[i] = s * invDiag[i]
+	}
+}
