@@ -314,16 +314,27 @@ const extremeSpanDB = 3
 // refined maxima within span dB of the result to ext, when ext is not nil
 // (span 0: only the largest).
 func (p *Plan) refineBand(idx []int, db []float64, f func(float64) float64, max bool, floor float64, ext *[]float64, span float64) float64 {
+	sign := 1.0
+	if !max {
+		sign = -1
+	}
 	val := func(i int) float64 {
-		v := nan2inf(db[i], -1)
-		if !max {
-			v = -v
+		v := db[i]
+		if v != v {
+			v = math.Inf(-1)
 		}
-		return v
+		return sign * v
 	}
 	best, bestF := math.Inf(-1), math.NaN()
 	type found struct{ f, v float64 }
-	var all []found
+	var all []found // kept only when ext wants the extremes
+	add := func(x, y float64) {
+		if ext != nil {
+			all = append(all, found{x, y})
+		} else if y > best {
+			best, bestF = y, x
+		}
+	}
 	for k, i := range idx {
 		v := val(i)
 		if v > best {
@@ -341,16 +352,13 @@ func (p *Plan) refineBand(idx []int, db []float64, f func(float64) float64, max 
 			// An edge maximum: the band's edge is on the grid; a maximum
 			// just inside it needs the neighbour as the bracket.
 			if k == 0 && len(idx) > 1 {
-				x, y := maximize(f, p.grid[i], p.grid[idx[1]], v, val(idx[1]))
-				all = append(all, found{x, y})
+				add(maximize(f, p.grid[i], p.grid[idx[1]], v, val(idx[1])))
 			} else if k == len(idx)-1 && len(idx) > 1 {
-				x, y := maximize(f, p.grid[idx[k-1]], p.grid[i], val(idx[k-1]), v)
-				all = append(all, found{x, y})
+				add(maximize(f, p.grid[idx[k-1]], p.grid[i], val(idx[k-1]), v))
 			}
 			continue
 		}
-		x, y := maximizeBracket(f, p.grid[idx[k-1]], p.grid[i], p.grid[idx[k+1]], val(idx[k-1]), v, val(idx[k+1]))
-		all = append(all, found{x, y})
+		add(maximizeBracket(f, p.grid[idx[k-1]], p.grid[i], p.grid[idx[k+1]], val(idx[k-1]), v, val(idx[k+1])))
 	}
 	for _, a := range all {
 		if a.v > best {
