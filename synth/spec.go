@@ -358,7 +358,12 @@ func ParseSpec(r io.Reader) (Spec, error) {
 	return ParseSpecBytes(data)
 }
 
-// ParseSpecBytes is [ParseSpec] on a byte slice.
+// ParseSpecBytes is [ParseSpec] on a byte slice. Input is read strictly:
+// an unknown key, a key given twice in one object, a key in another case
+// than the spec's ("Passband_Hz") and a quoted number ("order": "5") are
+// each a [*FieldError] naming the field (a long name cut to 40
+// characters). A Spec's JSON (its MarshalJSON, the design's echoed spec)
+// parses back to the same Spec.
 func ParseSpecBytes(data []byte) (Spec, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return Spec{}, fieldErr("json", "the spec is empty; expected a JSON object")
