@@ -69,6 +69,24 @@ type OpAmp struct {
 	SlewVPerS float64 `json:"slew_v_per_s"`
 }
 
+// MarshalJSON writes o as the spec JSON spells it. An ideal op-amp is
+// written without gbw_hz and dc_gain_db (they are 0 and mean nothing), so
+// that the echoed design.spec is accepted when fed back: ParseSpec refuses
+// an ideal op-amp that also gives either (issue 9 chose omitting them in
+// the echo over accepting zeros with ideal: true on input).
+func (o OpAmp) MarshalJSON() ([]byte, error) {
+	type plain OpAmp // the same fields without this method
+	if !o.Ideal {
+		return json.Marshal(plain(o))
+	}
+	return json.Marshal(struct {
+		Ideal         bool    `json:"ideal"`
+		NoiseVPerRtHz float64 `json:"noise_v_per_rthz"`
+		NoiseAPerRtHz float64 `json:"noise_a_per_rthz"`
+		SlewVPerS     float64 `json:"slew_v_per_s"`
+	}{o.Ideal, o.NoiseVPerRtHz, o.NoiseAPerRtHz, o.SlewVPerS})
+}
+
 // Tolerance is the spread of part values the Monte Carlo draws from.
 type Tolerance struct {
 	// ResistorPct and CapacitorPct are the tolerances in percent; an
@@ -168,6 +186,20 @@ type Spec struct {
 	// stopbandFromConverter records that ParseSpec derived the stopband
 	// from the converter.
 	stopbandFromConverter bool
+}
+
+// MarshalJSON writes s as the spec JSON spells it, such that ParseSpec
+// reads it back to the same Spec (the echoed design.spec round-trips,
+// issue 9): a stopband derived from the converter (fs − passband edge) is
+// left out, as the spec left it out, so that it is derived again and the
+// design still says where its stopband came from.
+func (s Spec) MarshalJSON() ([]byte, error) {
+	type plain Spec // the same fields without this method
+	p := plain(s)
+	if s.stopbandFromConverter {
+		p.StopbandHz = nil
+	}
+	return json.Marshal(p)
 }
 
 // StopbandFromConverter reports whether the stopband edge (and, when the
@@ -326,13 +358,21 @@ func ParseSpec(r io.Reader) (Spec, error) {
 	return ParseSpecBytes(data)
 }
 
-// ParseSpecBytes is [ParseSpec] on a byte slice.
+// ParseSpecBytes is [ParseSpec] on a byte slice. Input is read strictly:
+// an unknown key, a key given twice in one object, a key in another case
+// than the spec's ("Passband_Hz") and a quoted number ("order": "5") are
+// each a [*FieldError] naming the field (a long name cut to 40
+// characters). A Spec's JSON (its MarshalJSON, the design's echoed spec)
+// parses back to the same Spec.
 func ParseSpecBytes(data []byte) (Spec, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return Spec{}, fieldErr("json", "the spec is empty; expected a JSON object")
 	}
 	if len(data) > MaxSpecBytes {
 		return Spec{}, fieldErr("json", "the spec is larger than %d bytes (1 MiB)", MaxSpecBytes)
+	}
+	if err := strictCheck(data); err != nil {
+		return Spec{}, err
 	}
 	dec := json.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()
@@ -366,9 +406,7 @@ func jsonError(err error) error {
 	msg := err.Error()
 	if rest, ok := strings.CutPrefix(msg, "json: unknown field "); ok {
 		name, _ := strconv.Unquote(rest)
-		if name == "" {
-			name = `""` // an empty key still needs a visible name
-		}
+		name = fieldName(name) // cut, and an empty key still needs a visible name
 		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
@@ -421,9 +459,11 @@ func parseBand(field string, msg json.RawMessage) ([]float64, error) {
 	return many, nil
 }
 
+// clip cuts s to 40 characters (runes) and marks the cut with "…", for
+// error messages that quote the input.
 func clip(s string) string {
-	if len(s) > 40 {
-		return s[:40] + "…"
+	if r := []rune(s); len(r) > 40 {
+		return string(r[:40]) + "…"
 	}
 	return s
 }

@@ -25,8 +25,9 @@
 // (converter_bits, converter_sample_rate_hz, converter_full_scale_vpp:
 // all three or none). An empty value means the field is absent, so that
 // the page runs no Monte Carlo unless trials are given (at most
-// [synth.MaxTrials]). A number may end in a metric prefix (4.7k, 10n,
-// 20M). An error in a nested field ("montecarlo.trials") is shown beside
+// [synth.MaxTrials]). A number is written in the JSON number syntax
+// (RFC 8259: no hexadecimal, underscores, leading "+" or "."), and may end
+// in a metric prefix (4.7k, 10n, 20M). An error in a nested field ("montecarlo.trials") is shown beside
 // its flattened control. The handler turns the query into a JSON object
 // and hands it to [synth.ParseSpecBytes], so the page validates exactly as
 // the API does; a parameter that is neither a spec field nor one of the

@@ -295,9 +295,16 @@ var suffixes = map[string]string{
 	"k": "e3", "M": "e6", "G": "e9",
 }
 
+// jsonNumber is RFC 8259's number grammar (section 6): no hexadecimal, no
+// underscores, no leading "+", "." or zeros, no Inf or NaN, which
+// strconv.ParseFloat would take (issue 9: the permalink takes what the
+// JSON path takes).
+var jsonNumber = regexp.MustCompile(`^-?(?:0|[1-9][0-9]*)(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?$`)
+
 // number parses one number of field f as a JSON number. A metric prefix
 // may follow the number ("4.7k" is 4700, "100n" is 1e-07); it is applied
-// as a decimal exponent, so the value is rounded once, as typed.
+// as a decimal exponent, so the value is rounded once, as typed. The
+// number itself, before the prefix, must be in the JSON number syntax.
 func number(f field, text string) (json.Number, error) {
 	num := text
 	for suffix, exp := range suffixes {
@@ -306,9 +313,15 @@ func number(f field, text string) (json.Number, error) {
 			break
 		}
 	}
+	bad := func() error {
+		return &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("must be a number such as 2000, 0.5, 2e3 or 2k (got %q)", clip(text))}
+	}
+	if !jsonNumber.MatchString(num) {
+		return "", bad()
+	}
 	x, err := strconv.ParseFloat(num, 64)
 	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-		return "", &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("must be a number such as 2000, 2e3 or 2k (got %q)", clip(text))}
+		return "", bad()
 	}
 	return json.Number(strconv.FormatFloat(x, 'g', -1, 64)), nil
 }

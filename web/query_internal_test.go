@@ -38,6 +38,23 @@ func TestSpecJSON(t *testing.T) {
 		{name: "empty edge", query: "stopband_hz=100,", field: "stopband_hz"},
 		{name: "nested field named as synth names it", query: "opamp_gbw_hz=x", field: "opamp.gbw_hz"},
 		{name: "checkbox nonsense", query: "opamp_ideal=perhaps", field: "opamp.ideal"},
+		// Issue 9: numbers in the JSON number syntax (RFC 8259 section 6),
+		// with the form's metric prefixes; Go's extra syntax is refused.
+		{name: "json number", query: "passband_hz=1024", want: `{"passband_hz":1024}`},
+		{name: "json exponent", query: "passband_hz=1.024E3&gain_db=-0.5&stopband_atten_db=4e%2B1", want: `{"passband_hz":1024,"gain_db":-0.5,"stopband_atten_db":40}`},
+		{name: "zero", query: "order=0", want: `{"order":0}`},
+		{name: "prefix on a json number", query: "passband_hz=1.5k", want: `{"passband_hz":1500}`},
+		{name: "hexadecimal float", query: "passband_hz=0x1p10", field: "passband_hz"},
+		{name: "hexadecimal integer", query: "montecarlo_trials=0x10", field: "montecarlo.trials"},
+		{name: "underscores", query: "passband_hz=1_000", field: "passband_hz"},
+		{name: "underscores with a prefix", query: "passband_hz=1_0k", field: "passband_hz"},
+		{name: "underscores in a band edge", query: "response=bandpass&passband_hz=1000,2_000", field: "passband_hz"},
+		{name: "leading plus", query: "gain_db=%2B3", field: "gain_db"},
+		{name: "leading point", query: "gain_db=.5", field: "gain_db"},
+		{name: "trailing point", query: "gain_db=5.", field: "gain_db"},
+		{name: "leading zero", query: "order=05", field: "order"},
+		{name: "nan", query: "gain_db=NaN", field: "gain_db"},
+		{name: "infinity spelt out", query: "gain_db=infinity", field: "gain_db"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -40,6 +40,7 @@ func TestRoutes(t *testing.T) {
 		wantType   string // media type prefix
 		wantField  string // for API errors: the field named
 		contains   []string
+		short      bool // the body is short: long input is cut
 	}{
 		{name: "home", method: "GET", target: "/", wantStatus: 200, wantType: "text/html",
 			contains: []string{`data-testid="spec-form"`, `action="/design"`, `name="passband_hz"`, `name="opamp_ideal"`, `name="adc_bits"`, "low-voltage signal circuits"}},
@@ -84,6 +85,19 @@ func TestRoutes(t *testing.T) {
 			wantStatus: 400, wantType: "application/json", wantField: "wobble"},
 		{name: "api design nested field", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": 2, "opamp": {"gbw_hz": 1}}`,
 			wantStatus: 400, wantType: "application/json", wantField: "opamp.gbw_hz"},
+		// Issue 9: strict input.
+		{name: "api design duplicate key", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": 2, "order": 3}`,
+			wantStatus: 400, wantType: "application/json", wantField: "order", contains: []string{"given twice"}},
+		{name: "api design case variant", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "Passband_Hz": 2000, "order": 2}`,
+			wantStatus: 400, wantType: "application/json", wantField: "Passband_Hz", contains: []string{"case-sensitive"}},
+		{name: "api design quoted number", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": "5"}`,
+			wantStatus: 400, wantType: "application/json", wantField: "order", contains: []string{"quoted"}},
+		{name: "api design long unknown key cut", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": 2, "` + strings.Repeat("k", 60000) + `": 1}`,
+			wantStatus: 400, wantType: "application/json", wantField: strings.Repeat("k", 40) + "…", short: true},
+		{name: "design hexadecimal float", method: "GET", target: "/design?passband_hz=0x1p10&stopband_hz=4000", wantStatus: 400, wantType: "text/html",
+			contains: []string{`data-testid="error-passband_hz"`}},
+		{name: "design underscores", method: "GET", target: "/design?passband_hz=1_000&stopband_hz=4000", wantStatus: 400, wantType: "text/html",
+			contains: []string{`data-testid="error-passband_hz"`}},
 		{name: "api design malformed", method: "POST", target: "/api/v1/design", body: `{"passband_hz": `,
 			wantStatus: 400, wantType: "application/json", wantField: "json"},
 		{name: "api design empty", method: "POST", target: "/api/v1/design", wantStatus: 400, wantType: "application/json", wantField: "json"},
@@ -132,6 +146,9 @@ func TestRoutes(t *testing.T) {
 			}
 			for _, s := range tc.contains {
 				require.Contains(t, rec.Body.String(), s)
+			}
+			if tc.short {
+				require.Less(t, rec.Body.Len(), 2000, "a long name is cut in the error")
 			}
 		})
 	}

@@ -8,7 +8,10 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
+	"regexp"
+	"strconv"
 	"strings"
 
 	"github.com/polewright/polewright/synth"
@@ -83,35 +86,70 @@ func readSpec(path string, stdin io.Reader) (synth.Spec, error) {
 }
 
 // mcFlags are the Monte Carlo options of design and export, which
-// override the spec's montecarlo object when given.
+// override the spec's montecarlo object when given. The flags keep their
+// text; apply validates it as the spec's fields are validated, so that a
+// bad value (-trials -5) is a *synth.FieldError naming the field.
 type mcFlags struct {
-	trials, seed *int64
+	trials, seed *string
 }
 
-func addMCFlags(fs *flag.FlagSet) mcFlags {
-	return mcFlags{
-		trials: fs.Int64("trials", -1, "Monte Carlo trials, overriding the spec's montecarlo.trials (0..100000)"),
-		seed:   fs.Int64("seed", -1, "Monte Carlo seed, overriding the spec's montecarlo.seed"),
+func addMCFlags(fs *flag.FlagSet) *mcFlags {
+	m := &mcFlags{}
+	fs.Func("trials", fmt.Sprintf("Monte Carlo trials, overriding the spec's montecarlo.trials (0..%d)", synth.MaxTrials), func(v string) error {
+		m.trials = &v
+		return nil
+	})
+	fs.Func("seed", "Monte Carlo seed, overriding the spec's montecarlo.seed (0..2^53)", func(v string) error {
+		m.seed = &v
+		return nil
+	})
+	return m
+}
+
+// jsonNumber is RFC 8259's number grammar: a flag's number is written as
+// the spec's JSON would write it.
+var jsonNumber = regexp.MustCompile(`^-?(?:0|[1-9][0-9]*)(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?$`)
+
+// flagWhole reads the text of flag name, which sets spec field field: a
+// whole number from 0 to max.
+func flagWhole(field, name, text string, max float64) (float64, error) {
+	v, err := strconv.ParseFloat(text, 64)
+	if !jsonNumber.MatchString(text) || err != nil || v != math.Trunc(v) || v < 0 || v > max {
+		return 0, &synth.FieldError{Field: field, Reason: fmt.Sprintf("must be from 0 to %.0f, a whole number (got %q from -%s)", max, clip(text), name)}
 	}
+	return v, nil
+}
+
+// clip cuts s to 40 characters for an error message.
+func clip(s string) string {
+	if r := []rune(s); len(r) > 40 {
+		return string(r[:40]) + "…"
+	}
+	return s
 }
 
 // apply writes the flags that were given into s and validates it again.
 func (m mcFlags) apply(s *synth.Spec) error {
-	if m.trials != nil && *m.trials >= 0 {
-		if *m.trials > synth.MaxTrials {
-			return &synth.FieldError{Field: "montecarlo.trials", Reason: fmt.Sprintf("must be from 0 to %d (got %d from -trials)", synth.MaxTrials, *m.trials)}
+	if m.trials != nil {
+		v, err := flagWhole("montecarlo.trials", "trials", *m.trials, synth.MaxTrials)
+		if err != nil {
+			return err
 		}
-		s.MonteCarlo.Trials = int(*m.trials)
+		s.MonteCarlo.Trials = int(v)
 	}
-	if m.seed != nil && *m.seed >= 0 {
-		s.MonteCarlo.Seed = uint64(*m.seed)
+	if m.seed != nil {
+		v, err := flagWhole("montecarlo.seed", "seed", *m.seed, 1<<53)
+		if err != nil {
+			return err
+		}
+		s.MonteCarlo.Seed = uint64(v)
 	}
 	return s.Validate()
 }
 
 // build reads the spec and synthesises it; a failure has been reported on
 // stderr and its exit status is returned.
-func build(ctx context.Context, cmd, path string, mc mcFlags, stdin io.Reader, stderr io.Writer) (*synth.Design, int) {
+func build(ctx context.Context, cmd, path string, mc *mcFlags, stdin io.Reader, stderr io.Writer) (*synth.Design, int) {
 	if path == "" {
 		fmt.Fprintf(stderr, "polewright %s: -spec FILE is required (- reads standard input)\n", cmd)
 		return nil, exitUsage

@@ -112,6 +112,19 @@ func TestUsageErrors(t *testing.T) {
 		{"no kind", []string{"export", "-spec", "-"}, "-as KIND is required"},
 		{"bad kind", []string{"export", "-spec", "-", "-as", "pdf"}, "not a kind"},
 		{"too many trials", []string{"design", "-spec", "-", "-trials", "200000"}, "spec: montecarlo.trials: must be from 0 to 100000"},
+		// Issue 9: the flags are validated like the spec's fields, just
+		// inside and just outside (the accepted rows are in TestMCFlags).
+		{"trials just above", []string{"design", "-spec", "-", "-trials", "100001"}, "spec: montecarlo.trials: must be from 0 to 100000, a whole number"},
+		{"negative trials", []string{"design", "-spec", "-", "-trials", "-5"}, "spec: montecarlo.trials: "},
+		{"trials just below", []string{"export", "-spec", "-", "-as", "json", "-trials", "-1"}, "spec: montecarlo.trials: "},
+		{"fractional trials", []string{"design", "-spec", "-", "-trials", "2.5"}, "spec: montecarlo.trials: must be from 0 to 100000, a whole number"},
+		{"hexadecimal trials", []string{"design", "-spec", "-", "-trials", "0x10"}, "spec: montecarlo.trials: "},
+		{"trials not a number", []string{"design", "-spec", "-", "-trials", "many"}, "spec: montecarlo.trials: "},
+		{"empty trials", []string{"design", "-spec", "-", "-trials", ""}, "spec: montecarlo.trials: "},
+		{"negative seed", []string{"design", "-spec", "-", "-seed", "-5"}, "spec: montecarlo.seed: "},
+		// 2^53 + 2: the next float64 above 2^53 (2^53 + 1 rounds to 2^53, as in the spec JSON).
+		{"seed above 2^53", []string{"design", "-spec", "-", "-seed", "9007199254740994"}, "spec: montecarlo.seed: "},
+		{"long value cut", []string{"design", "-spec", "-", "-seed", strings.Repeat("9", 300)}, strings.Repeat("9", 40) + "…"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -121,6 +134,10 @@ func TestUsageErrors(t *testing.T) {
 			require.Empty(t, out)
 			require.Contains(t, errOut, tc.want)
 			require.Equal(t, 1, strings.Count(errOut, "\n"), errOut)
+			if strings.HasPrefix(tc.want, "spec: ") {
+				require.True(t, strings.HasPrefix(errOut, tc.want), errOut)
+			}
+			require.Less(t, len(errOut), 300, errOut)
 		})
 	}
 }
@@ -145,4 +162,46 @@ func TestTrialsFlag(t *testing.T) {
 	// The same seed gives the same run.
 	_, out2, _ := runCLI(t, spec, "design", "-spec", "-", "-trials", "300", "-seed", "9")
 	require.JSONEq(t, out, out2)
+}
+
+// TestMCFlags: the Monte Carlo flags at the edges of their ranges are
+// accepted and override the spec (issue 9: just inside the refused rows of
+// TestUsageErrors).
+func TestMCFlags(t *testing.T) {
+	t.Parallel()
+	tests := []struct {
+		name       string
+		args       []string
+		trials     int
+		seed       uint64
+		specTrials string // the spec's montecarlo member, overridden by the flags
+	}{
+		{"zero trials", []string{"-trials", "0"}, 0, 1, `"montecarlo": {"trials": 5}`},
+		{"one trial", []string{"-trials", "1"}, 1, 1, ""},
+		{"exponent", []string{"-trials", "2e1"}, 20, 1, ""},
+		{"seed zero", []string{"-seed", "0"}, 3, 0, `"montecarlo": {"trials": 3, "seed": 9}`},
+		{"seed 2^53", []string{"-seed", "9007199254740992"}, 3, 1 << 53, `"montecarlo": {"trials": 3}`},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			spec := `{"passband_hz": 100, "order": 2}`
+			if tc.specTrials != "" {
+				spec = `{"passband_hz": 100, "order": 2, ` + tc.specTrials + `}`
+			}
+			code, out, errOut := runCLI(t, spec, append([]string{"design", "-spec", "-"}, tc.args...)...)
+			require.Equal(t, exitOK, code, errOut)
+			var d struct {
+				Spec struct {
+					MonteCarlo struct {
+						Trials int    `json:"trials"`
+						Seed   uint64 `json:"seed"`
+					} `json:"montecarlo"`
+				} `json:"spec"`
+			}
+			require.NoError(t, json.Unmarshal([]byte(out), &d))
+			require.Equal(t, tc.trials, d.Spec.MonteCarlo.Trials)
+			require.Equal(t, tc.seed, d.Spec.MonteCarlo.Seed)
+		})
+	}
 }
