@@ -128,6 +128,7 @@ func TestHeadAndAllow(t *testing.T) {
 		{"HEAD", "/static/style.css", http.StatusOK, ""},
 		{"HEAD", "/design?" + cheapQuery, http.StatusOK, ""},
 		{"HEAD", "/static/nothing.txt", http.StatusNotFound, ""},
+		{"GET", "/static/nothing.txt", http.StatusNotFound, ""},
 		{"POST", "/", http.StatusMethodNotAllowed, "GET, HEAD"},
 		{"POST", "/design", http.StatusMethodNotAllowed, "GET, HEAD"},
 		{"PUT", "/static/style.css", http.StatusMethodNotAllowed, "GET, HEAD"},
@@ -143,6 +144,9 @@ func TestHeadAndAllow(t *testing.T) {
 			if tc.method == "HEAD" && tc.want == http.StatusOK {
 				get := do(t, h, "GET", tc.target, "")
 				require.Equal(t, get.Header().Get("Content-Type"), rec.Header().Get("Content-Type"))
+			}
+			if tc.want == http.StatusNotFound && tc.method == "GET" {
+				requirePage(t, rec, tc.want)
 			}
 			if tc.want != http.StatusMethodNotAllowed {
 				return

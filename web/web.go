@@ -5,6 +5,7 @@ import (
 	"log/slog"
 	"net/http"
 	"runtime"
+	"strings"
 	"time"
 
 	"github.com/go-chi/chi/v5"
@@ -131,7 +132,14 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
 		_, _ = io.WriteString(w, "ok\n")
 	})
-	r.Get(static.Prefix+"*", static.Handler().ServeHTTP)
+	assets := static.Handler()
+	r.Get(static.Prefix+"*", func(w http.ResponseWriter, r *http.Request) {
+		if !static.Has(strings.TrimPrefix(r.URL.Path, static.Prefix)) {
+			h.fail(w, r, http.StatusNotFound, "there is nothing at "+r.URL.Path, "")
+			return
+		}
+		assets.ServeHTTP(w, r)
+	})
 	r.With(heavy...).Get("/design", h.design)
 	r.With(stream...).Get("/design/progress", h.designProgress)
 	r.With(heavy...).Get("/download/{kind}", h.download)
