@@ -61,6 +61,10 @@ func (h *handler) apiExport(w http.ResponseWriter, r *http.Request) {
 		h.exportFailed(w, r, kind, err)
 		return
 	}
+	if err := r.Context().Err(); err != nil { // the deadline crossed while drawing
+		h.synthFailed(w, r, err)
+		return
+	}
 	w.Header().Set("Content-Type", export.ContentType(kind))
 	w.Header().Set("Cache-Control", "no-store")
 	_, _ = w.Write(buf.Bytes())

@@ -27,7 +27,7 @@ func BenchmarkResultPage(b *testing.B) {
 			for b.Loop() {
 				t0 := time.Now()
 				rec := httptest.NewRecorder()
-				h.ServeHTTP(rec, httptest.NewRequest("GET", "/design?"+bc.query, nil))
+				h.ServeHTTP(rec, newRequest("GET", "/design?"+bc.query, nil))
 				times = append(times, time.Since(t0))
 				if rec.Code != http.StatusOK {
 					b.Fatalf("status %d", rec.Code)
@@ -46,7 +46,7 @@ func BenchmarkAPIDesign(b *testing.B) {
 	const spec = `{"approximation": "chebyshev1", "passband_hz": 20000, "stopband_hz": 180000, "passband_ripple_db": 0.1, "stopband_atten_db": 110.12}`
 	post := func(b *testing.B) {
 		rec := httptest.NewRecorder()
-		h.ServeHTTP(rec, httptest.NewRequest("POST", "/api/v1/design", strings.NewReader(spec)))
+		h.ServeHTTP(rec, newRequest("POST", "/api/v1/design", strings.NewReader(spec)))
 		if rec.Code != http.StatusOK {
 			b.Fatalf("status %d", rec.Code)
 		}

@@ -13,6 +13,9 @@
 //	GET  /static/...             the embedded style sheet and script
 //	GET  /healthz                "ok", for probes
 //
+// Every GET route answers HEAD as well; a method a path does not take is
+// answered 405 with Allow naming those it does.
+//
 // # The spec in the URL
 //
 // QUERY carries the spec's fields by their JSON names (passband_hz=20000),
@@ -72,7 +75,25 @@
 // (no inline script; inline style attributes only, for the SVG drawings),
 // frame-ancestors 'none', X-Content-Type-Options: nosniff and a
 // Referrer-Policy. Panics are answered 500 with no detail and logged with
-// their stack. Bodies are limited to [MaxBodyBytes]; the design routes are
-// throttled and carry a deadline that [synth.Synthesize] observes; POSTs
-// from other origins are refused by [http.CrossOriginProtection].
+// their stack.
+//
+// The Host header must name the workbench: localhost, 127.0.0.1 or [::1]
+// (any port), or one of [Deps].Hosts (the command adds the -addr host and
+// each -host name); any other is answered 421, so that a page whose name
+// an attacker rebinds to 127.0.0.1 cannot drive it. POSTs from other
+// origins are refused (403) by [http.CrossOriginProtection], and so are
+// the GETs that compute (/design, /design/progress, /download/...) when
+// the browser marks them Sec-Fetch-Site: cross-site (same-origin,
+// same-site, none and no header pass).
+//
+// The design routes read the whole body (at most [MaxBodyBytes], else 413)
+// before they wait for one of [Deps].Workers, so that a slow body holds
+// its own connection only; at most [Backlog] requests wait, each at most
+// [BacklogTimeout]. A request carries a deadline of [DesignTimeout] that
+// [synth.Synthesize] observes; one that crosses it, designing or drawing,
+// is answered 503. Every refusal has the shape of its route: JSON
+// {"error", "field"} on /api (field "" when no spec field is at fault),
+// the error page elsewhere; a 503 carries Retry-After. The request log
+// line is an ERROR for a 500 only: a 503 is a WARN, and a client that went
+// away before its answer is INFO (client_gone=true).
 package web

@@ -68,7 +68,12 @@ func do(t testing.TB, h http.Handler, method, target, body string, header ...str
 		r = strings.NewReader(body)
 	}
 	req := httptest.NewRequestWithContext(context.Background(), method, target, r)
+	req.Host = "localhost"
 	for i := 0; i+1 < len(header); i += 2 {
+		if strings.EqualFold(header[i], "Host") {
+			req.Host = header[i+1]
+			continue
+		}
 		req.Header.Set(header[i], header[i+1])
 	}
 	rec := httptest.NewRecorder()
@@ -122,4 +127,12 @@ func hasCircuit(t testing.TB) bool {
 	require.NoError(t, err)
 	_, err = d.Chain()
 	return err == nil
+}
+
+// newRequest is httptest.NewRequest for a workbench on localhost (the
+// host the handler accepts).
+func newRequest(method, target string, body io.Reader) *http.Request {
+	req := httptest.NewRequest(method, target, body)
+	req.Host = "localhost"
+	return req
 }

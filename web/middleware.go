@@ -2,7 +2,9 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
+	"errors"
 	"log/slog"
 	"net/http"
 	"runtime/debug"
@@ -25,18 +27,29 @@ func (h *handler) logRequests(next http.Handler) http.Handler {
 		if status == 0 {
 			status = http.StatusOK
 		}
+		// A client that went away is no failure of the server's; a 503
+		// (busy, or a design over its deadline) is a warning.
+		gone := clientGone(r)
 		level := slog.LevelInfo
-		if status >= 500 {
+		switch {
+		case gone:
+		case status == http.StatusServiceUnavailable:
+			level = slog.LevelWarn
+		case status >= 500:
 			level = slog.LevelError
 		}
-		h.log.LogAttrs(r.Context(), level, "request",
+		attrs := []slog.Attr{
 			slog.String("method", r.Method),
 			slog.String("path", r.URL.Path),
 			slog.Int("status", status),
 			slog.Int("bytes", ww.BytesWritten()),
 			slog.Duration("duration", time.Since(start)),
 			slog.String("request_id", middleware.GetReqID(r.Context())),
-		)
+		}
+		if gone {
+			attrs = append(attrs, slog.Bool("client_gone", true))
+		}
+		h.log.LogAttrs(context.WithoutCancel(r.Context()), level, "request", attrs...)
 	})
 }
 
@@ -65,10 +78,11 @@ func (h *handler) recoverPanics(next http.Handler) http.Handler {
 	})
 }
 
-// apiError is the JSON error body of the API.
+// apiError is the JSON error body of the API; Field is "" when the error
+// concerns no field of the spec.
 type apiError struct {
 	Error string `json:"error"`
-	Field string `json:"field,omitempty"`
+	Field string `json:"field"`
 }
 
 // isAPI reports whether r is for the JSON API.
@@ -77,14 +91,24 @@ func isAPI(r *http.Request) bool {
 }
 
 // fail answers an error: as {"error", "field"} JSON on the API, as a short
-// HTML page elsewhere.
+// HTML page elsewhere. A 503 carries Retry-After; a 405 carries Allow. The
+// page is rendered even when the request's context is done (a crossed
+// deadline is answered with it).
 func (h *handler) fail(w http.ResponseWriter, r *http.Request, status int, msg, field string) {
+	switch status {
+	case http.StatusServiceUnavailable:
+		w.Header().Set("Retry-After", retryAfter)
+	case http.StatusMethodNotAllowed:
+		if h.routes != nil {
+			w.Header().Set("Allow", strings.Join(allowedMethods(h.routes, r.URL.Path), ", "))
+		}
+	}
 	if isAPI(r) {
 		writeJSONError(w, status, msg, field)
 		return
 	}
 	var buf bytes.Buffer
-	if err := components.Message(http.StatusText(status), msg).Render(r.Context(), &buf); err != nil {
+	if err := components.Message(http.StatusText(status), msg).Render(context.WithoutCancel(r.Context()), &buf); err != nil {
 		http.Error(w, http.StatusText(status), status)
 		return
 	}
@@ -99,4 +123,10 @@ func writeJSONError(w http.ResponseWriter, status int, msg, field string) {
 	w.Header().Set("Cache-Control", "no-store")
 	w.WriteHeader(status)
 	_, _ = w.Write(append(b, '\n'))
+}
+
+// clientGone reports whether the client of r went away (its connection
+// closed) before the answer was complete.
+func clientGone(r *http.Request) bool {
+	return errors.Is(r.Context().Err(), context.Canceled)
 }

@@ -55,8 +55,13 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	res, err := h.buildResult(r.Context(), vals, d)
+	if err == nil {
+		// The drawings do not watch the deadline: a request that crossed
+		// it while they ran is answered as one that crossed it designing.
+		err = r.Context().Err()
+	}
 	if err != nil {
-		h.internal(w, r, err)
+		h.synthFailed(w, r, err)
 		return
 	}
 	h.render(w, r, http.StatusOK, components.DesignPage(buildForm(vals, nil), res))
@@ -82,6 +87,10 @@ func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 		h.exportFailed(w, r, kind, err)
 		return
 	}
+	if err := r.Context().Err(); err != nil { // the deadline crossed while drawing
+		h.synthFailed(w, r, err)
+		return
+	}
 	w.Header().Set("Content-Type", export.ContentType(kind))
 	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", export.FileName(kind)))
 	w.Header().Set("Cache-Control", "no-store")
@@ -100,8 +109,12 @@ func (h *handler) downloadNoise(w http.ResponseWriter, r *http.Request, np Noise
 		return
 	}
 	var buf bytes.Buffer
-	if err := np.Noise(&buf, d); err != nil {
-		h.internal(w, r, err)
+	err := np.Noise(&buf, d)
+	if err == nil {
+		err = r.Context().Err() // the deadline crossed while drawing
+	}
+	if err != nil {
+		h.synthFailed(w, r, err)
 		return
 	}
 	w.Header().Set("Content-Type", "image/svg+xml")
@@ -149,9 +162,13 @@ func (h *handler) export(w io.Writer, d *synth.Design, kind string) error {
 	return h.deps.Export(w, d, kind)
 }
 
-// synthFailed answers a synthesis failure that is not the spec's fault.
+// synthFailed answers a failure that is not the spec's fault: designing,
+// drawing or rendering. A crossed deadline (the request's context done) is
+// a 503 with Retry-After, logged by logRequests as a warning, or as a
+// client that went away; anything else is an internal error (500, logged
+// as an ERROR).
 func (h *handler) synthFailed(w http.ResponseWriter, r *http.Request, err error) {
-	if errors.Is(err, context.DeadlineExceeded) || errors.Is(err, context.Canceled) {
+	if errors.Is(err, context.DeadlineExceeded) || errors.Is(err, context.Canceled) || r.Context().Err() != nil {
 		h.fail(w, r, http.StatusServiceUnavailable, "the design took too long; try again, or a lower order", "")
 		return
 	}
@@ -164,7 +181,7 @@ func (h *handler) exportFailed(w http.ResponseWriter, r *http.Request, kind stri
 		h.fail(w, r, http.StatusNotImplemented, kind+" needs the circuit of the design, which this build does not map yet", "")
 		return
 	}
-	h.internal(w, r, err)
+	h.synthFailed(w, r, err)
 }
 
 // internal logs err and answers 500 without its text.
@@ -182,7 +199,7 @@ func (h *handler) render(w http.ResponseWriter, r *http.Request, status int, c t
 	var buf bytes.Buffer
 	buf.Grow(64 << 10)
 	if err := c.Render(r.Context(), &buf); err != nil {
-		h.internal(w, r, err)
+		h.synthFailed(w, r, err)
 		return
 	}
 	w.Header().Set("Content-Type", "text/html; charset=utf-8")

@@ -98,7 +98,7 @@ func TestDesignProgressStreams(t *testing.T) {
 func TestDesignProgressSpecError(t *testing.T) {
 	h, _ := newHandler(t)
 	rec := httptest.NewRecorder()
-	h.ServeHTTP(rec, httptest.NewRequest("GET", "/design/progress?passband_hz=1000&stopband_hz=800&montecarlo_trials=30000", nil))
+	h.ServeHTTP(rec, newRequest("GET", "/design/progress?passband_hz=1000&stopband_hz=800&montecarlo_trials=30000", nil))
 	require.Equal(t, http.StatusOK, rec.Code)
 	require.Equal(t, "text/event-stream", rec.Header().Get("Content-Type"))
 	evs := readEvents(t, rec.Body.String())
@@ -116,7 +116,7 @@ func TestDesignProgressCancel(t *testing.T) {
 	h, _ := newHandler(t)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	req := httptest.NewRequest("GET", "/design/progress?"+vibrationQuery+"&montecarlo_trials=100000", nil).WithContext(ctx)
+	req := newRequest("GET", "/design/progress?"+vibrationQuery+"&montecarlo_trials=100000", nil).WithContext(ctx)
 	rec := httptest.NewRecorder()
 	returned := make(chan time.Duration, 1)
 	go func() {

@@ -5,6 +5,7 @@ import (
 	"log/slog"
 	"net/http"
 	"runtime"
+	"strings"
 	"time"
 
 	"github.com/go-chi/chi/v5"
@@ -20,10 +21,12 @@ import (
 // is answered 413.
 const MaxBodyBytes = 64 << 10
 
-// Limits of the design routes, which spend CPU on every request.
+// Limits of the design routes, which spend CPU on every request. A body is
+// read whole before the request waits for a worker, so a slow body holds
+// its own connection only.
 const (
 	// DesignTimeout is the deadline of one design request: synthesis,
-	// plots and rendering.
+	// plots and rendering; a request that crosses it is answered 503.
 	DesignTimeout = 10 * time.Second
 	// BacklogTimeout is how long a request may wait for a free worker
 	// before it is answered 503.
@@ -67,18 +70,22 @@ type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
 // Deps are what the handler draws and exports with. A nil Plots or
 // Schematics leaves plots or schematics out of the result page; a nil
 // Export is [export.Write]. Workers bounds the design requests in
-// progress at once (0: four per CPU).
+// progress at once (0: four per CPU). Hosts are the names (or addresses)
+// the Host header may carry besides the loopback names localhost,
+// 127.0.0.1 and [::1], which are always accepted; a port is ignored.
 type Deps struct {
 	Plots      Plots
 	Schematics Schematics
 	Export     ExportFunc
 	Workers    int
+	Hosts      []string
 }
 
 // handler carries the dependencies of the routes.
 type handler struct {
-	log  *slog.Logger
-	deps Deps
+	log    *slog.Logger
+	deps   Deps
+	routes chi.Routes // the whole site, for the Allow header of a 405
 }
 
 // New returns the workbench: the pages, the downloads, the JSON API and
@@ -102,7 +109,9 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	}))
 
 	r := chi.NewRouter()
-	r.Use(securityHeaders, middleware.RequestID, h.logRequests, h.recoverPanics, cop.Handler)
+	h.routes = r
+	r.Use(securityHeaders, middleware.RequestID, h.logRequests, h.recoverPanics,
+		h.checkHost(deps.Hosts), cop.Handler, middleware.GetHead)
 	r.NotFound(func(w http.ResponseWriter, r *http.Request) {
 		h.fail(w, r, http.StatusNotFound, "there is nothing at "+r.URL.Path, "")
 	})
@@ -110,25 +119,27 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 		h.fail(w, r, http.StatusMethodNotAllowed, r.Method+" is not accepted at "+r.URL.Path, "")
 	})
 
-	throttle := middleware.ThrottleWithOpts(middleware.ThrottleOpts{
-		Limit:          deps.Workers,
-		BacklogLimit:   Backlog,
-		BacklogTimeout: BacklogTimeout,
-		StatusCode:     http.StatusServiceUnavailable,
-		RetryAfterFn:   func(bool) time.Duration { return time.Second },
-	})
-	heavy := chi.Chain(throttle, middleware.Timeout(DesignTimeout), middleware.RequestSize(MaxBodyBytes))
+	// The body is read before a worker is taken; the GETs that compute are
+	// refused to other sites before they cost anything.
+	work := newWorkers(h, deps.Workers, Backlog, BacklogTimeout).handler
+	heavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work, withDeadline(DesignTimeout))
 	// The progress stream shares the workers but not DesignTimeout: it
-	// bounds its run by ProgressTimeout itself (middleware.Timeout would
-	// answer 504 after the stream has begun).
-	stream := chi.Chain(throttle, middleware.RequestSize(MaxBodyBytes))
+	// bounds its run by ProgressTimeout itself.
+	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work)
 
 	r.Get("/", h.home)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
 		_, _ = io.WriteString(w, "ok\n")
 	})
-	r.Handle(static.Prefix+"*", static.Handler())
+	assets := static.Handler()
+	r.Get(static.Prefix+"*", func(w http.ResponseWriter, r *http.Request) {
+		if !static.Has(strings.TrimPrefix(r.URL.Path, static.Prefix)) {
+			h.fail(w, r, http.StatusNotFound, "there is nothing at "+r.URL.Path, "")
+			return
+		}
+		assets.ServeHTTP(w, r)
+	})
 	r.With(heavy...).Get("/design", h.design)
 	r.With(stream...).Get("/design/progress", h.designProgress)
 	r.With(heavy...).Get("/download/{kind}", h.download)

@@ -48,7 +48,8 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 
 const usage = `polewright designs active analog filters.
 
-  polewright serve  [-addr 127.0.0.1:8080]   the workbench in a browser
+  polewright serve  [-addr 127.0.0.1:8080] [-host NAME]   the workbench in a browser
+                   (it answers to localhost, 127.0.0.1, [::1], the -addr host and each -host NAME)
   polewright design -spec FILE [-trials N] [-seed S]   design as JSON on stdout
   polewright export -spec FILE -as KIND      KIND: spice, bom, json, bode-svg, delay-svg, step-svg
 

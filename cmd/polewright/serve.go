@@ -8,6 +8,8 @@ import (
 	"log/slog"
 	"net"
 	"net/http"
+	"os"
+	"strings"
 	"time"
 
 	"github.com/polewright/polewright/web"
@@ -30,6 +32,8 @@ const (
 func serve(ctx context.Context, args []string, stderr io.Writer) int {
 	fs := newFlags("serve", stderr)
 	addr := fs.String("addr", "127.0.0.1:8080", "address to listen on")
+	var hosts hostList
+	fs.Var(&hosts, "host", "a name the workbench answers to besides the loopback names and the -addr host (repeatable, or comma-separated)")
 	if err := fs.Parse(args); err != nil {
 		return flagError(stderr, "serve", err)
 	}
@@ -43,8 +47,10 @@ func serve(ctx context.Context, args []string, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "polewright serve: %v\n", err)
 		return exitError
 	}
+	deps := workbenchDeps()
+	deps.Hosts = append(listenHosts(*addr), hosts...)
 	srv := &http.Server{
-		Handler:           web.New(log, workbenchDeps()),
+		Handler:           web.New(log, deps),
 		ReadHeaderTimeout: readHeaderTimeout,
 		ReadTimeout:       readTimeout,
 		WriteTimeout:      writeTimeout,
@@ -94,4 +100,46 @@ func serveURL(a net.Addr) string {
 // web/export.
 func workbenchDeps() web.Deps {
 	return draw.Deps()
+}
+
+// hostList is the value of the repeatable -host flag.
+type hostList []string
+
+func (l *hostList) String() string { return strings.Join(*l, ",") }
+
+func (l *hostList) Set(v string) error {
+	for _, name := range strings.Split(v, ",") {
+		name = strings.TrimSpace(name)
+		if name == "" || strings.ContainsAny(name, "/ ") {
+			return fmt.Errorf("-host: %q is not a host name", name)
+		}
+		*l = append(*l, name)
+	}
+	return nil
+}
+
+// listenHosts are the Host names that reach a server listening on addr:
+// its host, or, when it listens on every address (":8080", "0.0.0.0:8080"),
+// the machine's name and its interface addresses. The loopback names are
+// accepted by package web in any case.
+func listenHosts(addr string) []string {
+	host, _, err := net.SplitHostPort(addr)
+	if err != nil {
+		return nil
+	}
+	if ip := net.ParseIP(host); host != "" && (ip == nil || !ip.IsUnspecified()) {
+		return []string{host}
+	}
+	var out []string
+	if name, err := os.Hostname(); err == nil && name != "" {
+		out = append(out, name)
+	}
+	if addrs, err := net.InterfaceAddrs(); err == nil {
+		for _, a := range addrs {
+			if ipn, ok := a.(*net.IPNet); ok {
+				out = append(out, ipn.IP.String())
+			}
+		}
+	}
+	return out
 }

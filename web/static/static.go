@@ -47,6 +47,12 @@ func URL(name string) string {
 	return Prefix + name + "?v=" + v
 }
 
+// Has reports whether name is an embedded asset.
+func Has(name string) bool {
+	_, ok := versions[name]
+	return ok
+}
+
 // Handler serves the assets under [Prefix]. A request that carries the
 // current version may be cached for a year; others must revalidate.
 func Handler() http.Handler {
