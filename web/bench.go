@@ -18,9 +18,6 @@ const (
 	topContributors = 8
 	// topSensitive is the number of parts named per stage.
 	topSensitive = 3
-	// goodYield is the yield the panel calls good: 99 % of boards, the
-	// target of the parts' required tolerances.
-	goodYield = 0.99
 )
 
 // benchView is the bench panel of d: Monte Carlo, noise against the
