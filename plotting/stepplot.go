@@ -108,6 +108,15 @@ func stepPlot(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) er
 		}
 		if fin, ref, ok := finalAndRef(ys, stages); ok && (eIdeal != nil || eBuilt != nil) {
 			band := st.frac * ref
+			errSt := st // the error plot's threshold, relative to ref
+			if st.bandAbs > 0 && ref > 0 {
+				// synth's own band: ±½ LSB of full scale, or ±0.1 % of the
+				// peak; the legend keeps naming it as synth does.
+				band = st.bandAbs
+				rel := *st
+				rel.frac = band / ref
+				errSt = &rel
+			}
 			if finite(st.at) {
 				p.Add(bandRect{x0: st.at / scale, x1: end / scale, y0: fin - band, y1: fin + band})
 				m := vline{x: st.at / scale, sty: settleStyle}
@@ -116,7 +125,7 @@ func stepPlot(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) er
 			}
 			p.HideX()
 			p.X.Label.Text = ""
-			errPlot = settlingErrorPlot(st, x, eIdeal, eBuilt, end/scale, xt, prefix, scale)
+			errPlot = settlingErrorPlot(errSt, x, eIdeal, eBuilt, end/scale, xt, prefix, scale)
 		}
 	}
 	p.Add(frame{})
@@ -140,6 +149,10 @@ const DefaultStepSettlingHeightPt = 440
 type settling struct {
 	frac, at, idealAt float64
 	lsb               bool
+	// bandAbs is synth's settling band half-width (Step.SettlingBand), 0
+	// when the design carries none; the plot then uses frac of its
+	// reference.
+	bandAbs float64
 }
 
 // settlingOf returns the settling figures of d, or nil when d has none
@@ -150,6 +163,9 @@ func settlingOf(d *synth.Design) *settling {
 		return nil
 	}
 	out := &settling{frac: st.SettlingFrac, at: math.NaN(), idealAt: math.NaN(), lsb: d.Spec.Converter != nil}
+	if finite(st.SettlingBand) && st.SettlingBand > 0 {
+		out.bandAbs = st.SettlingBand
+	}
 	if st.SettlingS != nil && finite(*st.SettlingS) && *st.SettlingS >= 0 {
 		out.at = *st.SettlingS
 	}
