@@ -70,7 +70,8 @@ func (h *handler) apiExport(w http.ResponseWriter, r *http.Request) {
 	_, _ = w.Write(buf.Bytes())
 }
 
-// apiSynthesize reads the spec JSON of r's body and designs it. On failure
+// apiSynthesize reads the spec JSON of r's body and designs it (or takes
+// its design from the cache). On failure
 // it has answered and returns ok = false.
 func (h *handler) apiSynthesize(w http.ResponseWriter, r *http.Request) (*synth.Design, bool) {
 	body, err := io.ReadAll(r.Body)
@@ -86,7 +87,7 @@ func (h *handler) apiSynthesize(w http.ResponseWriter, r *http.Request) (*synth.
 	spec, err := synth.ParseSpecBytes(body)
 	var d *synth.Design
 	if err == nil {
-		d, err = synth.Synthesize(r.Context(), spec)
+		d, err = h.cache.design(r.Context(), spec)
 	}
 	if err == nil {
 		return d, true

@@ -35,8 +35,9 @@
 // and hands it to [synth.ParseSpecBytes], so the page validates exactly as
 // the API does; a parameter that is neither a spec field nor one of the
 // converter helper's (adc_rate_hz, adc_bits, adc_band_hz) is an error that
-// names it. The server keeps no state between requests: a result page is
-// reproduced by its URL alone.
+// names it. The server keeps no state between requests that a user
+// depends on: a result page is reproduced by its URL alone (the cache of
+// the section Caching only saves computing it again).
 //
 // # Will it work on the bench
 //
@@ -52,12 +53,37 @@
 // than the page calls slow, the page's script follows the run on GET
 // /design/progress: a text/event-stream of "progress" events
 // ({"done":N,"total":T}, at most ten a second), then "done" with the
-// permalink ({"url":"/design?QUERY"}), which the browser loads (designing
-// again: no state is kept), or "error" ({"message", and for a spec at
-// fault "field" and "url"}). The stream's run is bounded by
+// permalink ({"url":"/design?QUERY"}), which the browser loads (served
+// from the cache, without designing again), or "error" ({"message", and
+// for a spec at fault "field" and "url"}). The stream waits up to
 // [ProgressTimeout] rather than [DesignTimeout]. Its Cancel button closes
-// the stream; the request's context then cancels the run in synth, as it
-// does whenever a client goes away.
+// the stream; when no other request waits for the same design, the run in
+// synth is then cancelled, as it is whenever its clients go away.
+//
+// # Caching
+//
+// Each design is computed once: a bounded in-memory cache keyed by the
+// canonical spec (the JSON of the parsed spec, every default filled in)
+// feeds the result page, the downloads, the API's design and exports and
+// the progress stream, so that a permalink, a download and a POST of the
+// same spec share one computation, and a long Monte Carlo streamed by
+// /design/progress is on the page as soon as its stream ends "done" (the
+// design is stored before that event is sent). The cache keeps at most
+// [CacheMaxEntries] designs and about [CacheMaxBytes] of them (each
+// estimated by the memory it holds), and evicts the least recently used
+// beyond either bound; a design larger than the byte bound alone is not
+// kept. Errors are not kept (a failed or cancelled design is computed
+// again on the next request); the designs are shared and never changed
+// after synthesis. Nothing else is stored.
+//
+// Requests for a spec whose design is being computed wait for that one
+// computation instead of starting their own. The computation runs on a
+// context of its own, bounded by [ProgressTimeout]: a waiter whose deadline
+// passes or whose client goes away gives up alone, and the computation
+// goes on for the others; when its last waiter gives up, it is cancelled,
+// and that waiter's request ends when the computation has stopped (no work
+// outlives the requests that asked for it). [Deps].Synthesize replaces
+// [synth.Synthesize], so that tests can count the computations.
 //
 // # Drawing
 //
@@ -89,9 +115,9 @@
 // The design routes read the whole body (at most [MaxBodyBytes], else 413)
 // before they wait for one of [Deps].Workers, so that a slow body holds
 // its own connection only; at most [Backlog] requests wait, each at most
-// [BacklogTimeout]. A request carries a deadline of [DesignTimeout] that
-// [synth.Synthesize] observes; one that crosses it, designing or drawing,
-// is answered 503. Every refusal has the shape of its route: JSON
+// [BacklogTimeout]. A request carries a deadline of [DesignTimeout],
+// which bounds its wait for the design (see Caching) and its drawing; one
+// that crosses it is answered 503. Every refusal has the shape of its route: JSON
 // {"error", "field"} on /api (field "" when no spec field is at fault),
 // the error page elsewhere; a 503 carries Retry-After. The request log
 // line is an ERROR for a 500 only: a 503 is a WARN, and a client that went

@@ -123,14 +123,15 @@ func (h *handler) downloadNoise(w http.ResponseWriter, r *http.Request, np Noise
 	_, _ = w.Write(buf.Bytes())
 }
 
-// designFromQuery parses and synthesises the spec of r's query. On failure
+// designFromQuery parses the spec of r's query and designs it (or takes
+// its design from the cache). On failure
 // it has answered (the form with the error for a bad spec) and returns
 // ok = false.
 func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formValues, *synth.Design, bool) {
 	vals, spec, err := parseQuery(r.URL.Query())
 	var d *synth.Design
 	if err == nil {
-		d, err = synth.Synthesize(r.Context(), spec)
+		d, err = h.cache.design(r.Context(), spec)
 	}
 	if err == nil {
 		return vals, d, true

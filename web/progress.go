@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
-	"sync"
 	"time"
 
 	"github.com/polewright/polewright/synth"
@@ -14,8 +13,9 @@ import (
 
 // Limits of the progress stream of a long Monte Carlo run.
 const (
-	// ProgressTimeout bounds one run streamed by GET /design/progress; it
-	// replaces DesignTimeout for that route.
+	// ProgressTimeout bounds every computation of a design (whichever
+	// request started it) and the wait of GET /design/progress, which
+	// DesignTimeout does not bound.
 	ProgressTimeout = 2 * time.Minute
 	// progressInterval is the least time between two progress events.
 	progressInterval = 100 * time.Millisecond
@@ -45,9 +45,11 @@ type errorEvent struct {
 // designProgress streams the synthesis of the spec in the query as
 // server-sent events: "progress" ({"done","total"}, at most ten a second)
 // while the Monte Carlo runs, then "done" with the permalink of the result
-// page, or "error" with the message. Nothing is kept on the server: the
-// browser loads the permalink, which designs again. A client that goes
-// away cancels the request's context, and the run stops.
+// page, or "error" with the message. The design is the cache's: a stored
+// one is done at once, a run in progress is joined, and the finished run's
+// design is stored before "done" is sent, so that the permalink the
+// browser then loads is served without designing again. A client that
+// goes away stops the run, unless other requests wait for it.
 func (h *handler) designProgress(w http.ResponseWriter, r *http.Request) {
 	ctx, cancel := context.WithTimeout(r.Context(), ProgressTimeout)
 	defer cancel()
@@ -79,35 +81,23 @@ func (h *handler) designProgress(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 
-	// The run reports from its own goroutine; the handler's goroutine alone
+	// The run is the cache's flight for the spec (or the stored design):
+	// it reports from its own goroutine, and the handler's goroutine alone
 	// writes, at most once per progressInterval.
-	var (
-		mu      sync.Mutex
-		latest  progressEvent
-		changed bool
-	)
-	pctx := synth.WithProgress(ctx, func(done, total int) {
-		mu.Lock()
-		latest, changed = progressEvent{Done: done, Total: total}, true
-		mu.Unlock()
-	})
+	d, f := h.cache.join(ctx, spec)
+	if d != nil {
+		send("done", doneEvent{URL: "/design?" + canonicalQuery(vals)})
+		return
+	}
+	seen := 0
 	flushProgress := func() bool {
-		mu.Lock()
-		ev, ok := latest, changed
-		changed = false
-		mu.Unlock()
-		return !ok || send("progress", ev)
+		ev, seq := f.latest()
+		if seq == seen {
+			return true
+		}
+		seen = seq
+		return send("progress", ev)
 	}
-
-	type outcome struct {
-		d   *synth.Design
-		err error
-	}
-	res := make(chan outcome, 1)
-	go func() {
-		d, err := synth.Synthesize(pctx, spec)
-		res <- outcome{d, err}
-	}()
 
 	tick := time.NewTicker(progressInterval)
 	defer tick.Stop()
@@ -115,14 +105,22 @@ func (h *handler) designProgress(w http.ResponseWriter, r *http.Request) {
 		select {
 		case <-tick.C:
 			if !flushProgress() {
-				// The client is gone: stop the run and wait for it, so
-				// that no work outlives the request.
-				cancel()
-				<-res
+				// The client is gone: the run stops unless other requests
+				// wait for it (leave waits for it to stop, so that no work
+				// outlives the requests that asked for it).
+				h.cache.leave(f)
 				return
 			}
-		case out := <-res:
+		case <-ctx.Done():
+			h.cache.leave(f)
+			if r.Context().Err() == nil {
+				send("error", errorEvent{Message: "the design took too long; try again with fewer trials or a lower order"})
+			}
+			return
+		case <-f.done:
+			h.cache.leave(f)
 			flushProgress()
+			out := f
 			switch {
 			case out.err == nil:
 				send("done", doneEvent{URL: "/design?" + canonicalQuery(vals)})

@@ -25,8 +25,9 @@ const MaxBodyBytes = 64 << 10
 // read whole before the request waits for a worker, so a slow body holds
 // its own connection only.
 const (
-	// DesignTimeout is the deadline of one design request: synthesis,
-	// plots and rendering; a request that crosses it is answered 503.
+	// DesignTimeout is the deadline of one design request: its wait for
+	// the design (computed, or from the cache), plots and rendering; a
+	// request that crosses it is answered 503.
 	DesignTimeout = 10 * time.Second
 	// BacklogTimeout is how long a request may wait for a free worker
 	// before it is answered 503.
@@ -73,19 +74,23 @@ type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
 // progress at once (0: four per CPU). Hosts are the names (or addresses)
 // the Host header may carry besides the loopback names localhost,
 // 127.0.0.1 and [::1], which are always accepted; a port is ignored.
+// A nil Synthesize is [synth.Synthesize]; the handler calls it once per
+// design it does not hold in its cache (tests count the calls through it).
 type Deps struct {
 	Plots      Plots
 	Schematics Schematics
 	Export     ExportFunc
 	Workers    int
 	Hosts      []string
+	Synthesize SynthesizeFunc
 }
 
 // handler carries the dependencies of the routes.
 type handler struct {
 	log    *slog.Logger
 	deps   Deps
-	routes chi.Routes // the whole site, for the Allow header of a 405
+	routes chi.Routes   // the whole site, for the Allow header of a 405
+	cache  *designCache // one computation per design, shared by every route
 }
 
 // New returns the workbench: the pages, the downloads, the JSON API and
@@ -101,7 +106,8 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	if deps.Workers <= 0 {
 		deps.Workers = 4 * runtime.GOMAXPROCS(0)
 	}
-	h := &handler{log: log, deps: deps}
+	h := &handler{log: log, deps: deps,
+		cache: newDesignCache(deps.Synthesize, CacheMaxEntries, CacheMaxBytes, ProgressTimeout)}
 
 	cop := http.NewCrossOriginProtection()
 	cop.SetDenyHandler(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {

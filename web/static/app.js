@@ -49,7 +49,9 @@
     close();
     var query = new URLSearchParams(new FormData(form)).toString();
     // The run is followed as it goes; closing the stream (Cancel, or
-    // leaving the page) cancels it on the server.
+    // leaving the page) cancels it on the server, unless another request
+    // waits for the same design. Its result is kept, so the page loaded on
+    // "done" is not designed again.
     source = new EventSource(endpoint + "?" + query);
     bar.removeAttribute("value");
     bar.removeAttribute("max");
