@@ -73,12 +73,16 @@ type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
 // progress at once (0: four per CPU). Hosts are the names (or addresses)
 // the Host header may carry besides the loopback names localhost,
 // 127.0.0.1 and [::1], which are always accepted; a port is ignored.
+// MaxCostMs is the most CPU-milliseconds ([synth.EstimateCost]) one design
+// request may cost (0: [DefaultMaxCostMs]; negative: no bound); a spec
+// over it is refused with the error beside the field that dominates.
 type Deps struct {
 	Plots      Plots
 	Schematics Schematics
 	Export     ExportFunc
 	Workers    int
 	Hosts      []string
+	MaxCostMs  float64
 }
 
 // handler carries the dependencies of the routes.
@@ -101,6 +105,9 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	if deps.Workers <= 0 {
 		deps.Workers = 4 * runtime.GOMAXPROCS(0)
 	}
+	if deps.MaxCostMs == 0 {
+		deps.MaxCostMs = DefaultMaxCostMs
+	}
 	h := &handler{log: log, deps: deps}
 
 	cop := http.NewCrossOriginProtection()
@@ -120,12 +127,14 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	})
 
 	// The body is read before a worker is taken; the GETs that compute are
-	// refused to other sites before they cost anything.
+	// refused to other sites before they cost anything; the spec's cost is
+	// estimated (and one over the bound refused) before it takes a worker
+	// of its lane.
 	work := newWorkers(h, deps.Workers, Backlog, BacklogTimeout).handler
-	heavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work, withDeadline(DesignTimeout))
+	heavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work, withDeadline(DesignTimeout))
 	// The progress stream shares the workers but not DesignTimeout: it
 	// bounds its run by ProgressTimeout itself.
-	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work)
+	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work)
 
 	r.Get("/", h.home)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
