@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"net/http"
+	"time"
 
 	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/web/components"
@@ -20,6 +21,9 @@ const (
 	// CheapCostMs is the estimate under which a request runs in the cheap
 	// lane of the workers; one at or over it runs in the heavy lane.
 	CheapCostMs = 250
+	// HeavyDesignTimeout replaces DesignTimeout for a request of the
+	// heavy lane.
+	HeavyDesignTimeout = 20 * time.Second
 )
 
 // costKey carries a request's estimated cost in its context.

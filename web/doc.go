@@ -124,5 +124,10 @@
 // that sends only cheap requests needs no protection from itself; the
 // lanes protect cheap requests from heavy ones whoever sends them. A heavy
 // request waits for its lane like any other (at most [BacklogTimeout],
-// then 503 with Retry-After), which costs the server nothing.
+// then 503 with Retry-After), which costs the server nothing, and once
+// running carries a deadline of [HeavyDesignTimeout] instead of
+// [DesignTimeout]: its cost is bounded by admission, and under a full
+// load of cheap requests its lane's share of the CPU needs longer than
+// DesignTimeout for a request at the bound, which would otherwise end in
+// "took too long" after spending the CPU.
 package web

@@ -158,12 +158,21 @@ func (wk *workers) handler(next http.Handler) http.Handler {
 	})
 }
 
-// withDeadline gives the request's context a deadline of d. The handlers
-// answer a crossed deadline themselves (503), whatever they were doing.
+// withDeadline gives the request's context a deadline of d, or of
+// [HeavyDesignTimeout] for a request of the heavy lane (its cost is
+// bounded by admission; under load it runs on its lane's share of the
+// CPU), whose write deadline it moves to match. The handlers answer a
+// crossed deadline themselves (503), whatever they were doing.
 func withDeadline(d time.Duration) func(http.Handler) http.Handler {
 	return func(next http.Handler) http.Handler {
 		return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-			ctx, cancel := context.WithTimeout(r.Context(), d)
+			dl := d
+			if requestCost(r.Context()) >= CheapCostMs {
+				dl = max(d, HeavyDesignTimeout)
+				// Errors: the writer has no deadline to set.
+				_ = http.NewResponseController(w).SetWriteDeadline(time.Now().Add(dl + 10*time.Second))
+			}
+			ctx, cancel := context.WithTimeout(r.Context(), dl)
 			defer cancel()
 			next.ServeHTTP(w, r.WithContext(ctx))
 		})

@@ -98,3 +98,31 @@ func TestWorkersLanes(t *testing.T) {
 		})
 	}
 }
+
+// TestDeadlineByLane: a cheap request carries DesignTimeout, a heavy one
+// HeavyDesignTimeout.
+func TestDeadlineByLane(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name   string
+		costMs float64
+		want   time.Duration
+	}{
+		{"cheap", 1, DesignTimeout},
+		{"heavy", 10 * CheapCostMs, HeavyDesignTimeout},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			var got time.Duration
+			next := withDeadline(DesignTimeout)(http.HandlerFunc(func(_ http.ResponseWriter, r *http.Request) {
+				dl, ok := r.Context().Deadline()
+				require.True(t, ok)
+				got = time.Until(dl)
+			}))
+			req := httptest.NewRequest("POST", "/api/v1/design", nil)
+			req = req.WithContext(context.WithValue(req.Context(), costKey{}, tc.costMs))
+			next.ServeHTTP(httptest.NewRecorder(), req)
+			require.InDelta(t, tc.want.Seconds(), got.Seconds(), 1)
+		})
+	}
+}
