@@ -122,4 +122,38 @@
 // the error page elsewhere; a 503 carries Retry-After. The request log
 // line is an ERROR for a 500 only: a 503 is a WARN, and a client that went
 // away before its answer is INFO (client_gone=true).
+//
+// # Admission by cost
+//
+// The bound on a design request is its cost, not only its time. Before a
+// request takes a worker its spec is parsed and [synth.EstimateCost]
+// estimates the CPU-milliseconds it will spend, from the spec alone (the
+// order, the stages and their parts, notch stages being the dearest, and
+// trials × stages × parts² × frequency points for the Monte Carlo). A spec
+// over [Deps].MaxCostMs ([DefaultMaxCostMs], 5 CPU-seconds) is refused at
+// once, 400, with the error beside the field that dominates the cost:
+// montecarlo.trials with the most trials that would pass ("at most N
+// trials for this design on this server"), else order (stopband_hz when
+// the mask sets the order). On /api it is {"error", "field"}, on the
+// pages the form with the message beside the control, on the progress
+// stream an "error" event. The command-line tool has no such bound: only
+// INTERFACE.md's limits (synth.MaxTrials).
+//
+// The workers are shared in two lanes by cost rather than per client:
+// a request estimated under [CheapCostMs] takes one of [Deps].Workers, any
+// dearer one one of the heavy lane's max(1, Workers/8) (one per two CPUs
+// at the default), and the lanes are separate, so heavy requests can
+// never hold the workers cheap ones need, and can take at most a bounded
+// share of the CPU (a Monte Carlo runs on every CPU). Per-client queues
+// were not chosen: the client's address is one for every user behind a
+// proxy or on the same machine (and for the load check), and a client
+// that sends only cheap requests needs no protection from itself; the
+// lanes protect cheap requests from heavy ones whoever sends them. A heavy
+// request waits for its lane like any other (at most [BacklogTimeout],
+// then 503 with Retry-After), which costs the server nothing, and once
+// running carries a deadline of [HeavyDesignTimeout] instead of
+// [DesignTimeout]: its cost is bounded by admission, and under a full
+// load of cheap requests its lane's share of the CPU needs longer than
+// DesignTimeout for a request at the bound, which would otherwise end in
+// "took too long" after spending the CPU.
 package web

@@ -96,26 +96,40 @@ func (h *handler) readBodyFirst(next http.Handler) http.Handler {
 	})
 }
 
-// workers bounds the design requests in progress: at most limit run at
-// once, at most backlog wait (each for at most wait); the others are
-// answered 503 with Retry-After, in the shape of the route.
+// workers bounds the design requests in progress, in two lanes by their
+// estimated cost (see the package comment): a request under cheapMs takes
+// one of slots, any other one of heavy, so that heavy requests never hold
+// the workers cheap ones need. At most backlog wait in both lanes together
+// (each for at most wait); the others are answered 503 with Retry-After,
+// in the shape of the route.
 type workers struct {
 	h       *handler
-	slots   chan struct{}
+	slots   chan struct{} // the cheap lane
+	heavy   chan struct{} // the heavy lane
+	cheapMs float64
 	waiting atomic.Int64
 	backlog int64
 	wait    time.Duration
 }
 
+// newWorkers returns limit workers for cheap requests and max(1, limit/8)
+// for heavy ones (one per two CPUs at the default limit).
 func newWorkers(h *handler, limit, backlog int, wait time.Duration) *workers {
-	return &workers{h: h, slots: make(chan struct{}, limit), backlog: int64(backlog), wait: wait}
+	return &workers{
+		h: h, slots: make(chan struct{}, limit), heavy: make(chan struct{}, max(1, limit/8)),
+		cheapMs: CheapCostMs, backlog: int64(backlog), wait: wait,
+	}
 }
 
-// handler is the middleware that takes a worker for the request.
+// handler is the middleware that takes a worker of the request's lane.
 func (wk *workers) handler(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		lane := wk.slots
+		if requestCost(r.Context()) >= wk.cheapMs {
+			lane = wk.heavy
+		}
 		select {
-		case wk.slots <- struct{}{}:
+		case lane <- struct{}{}:
 		default:
 			if wk.waiting.Add(1) > wk.backlog {
 				wk.waiting.Add(-1)
@@ -124,7 +138,7 @@ func (wk *workers) handler(next http.Handler) http.Handler {
 			}
 			t := time.NewTimer(wk.wait)
 			select {
-			case wk.slots <- struct{}{}:
+			case lane <- struct{}{}:
 				t.Stop()
 				wk.waiting.Add(-1)
 			case <-t.C:
@@ -139,17 +153,26 @@ func (wk *workers) handler(next http.Handler) http.Handler {
 				return
 			}
 		}
-		defer func() { <-wk.slots }()
+		defer func() { <-lane }()
 		next.ServeHTTP(w, r)
 	})
 }
 
-// withDeadline gives the request's context a deadline of d. The handlers
-// answer a crossed deadline themselves (503), whatever they were doing.
+// withDeadline gives the request's context a deadline of d, or of
+// [HeavyDesignTimeout] for a request of the heavy lane (its cost is
+// bounded by admission; under load it runs on its lane's share of the
+// CPU), whose write deadline it moves to match. The handlers answer a
+// crossed deadline themselves (503), whatever they were doing.
 func withDeadline(d time.Duration) func(http.Handler) http.Handler {
 	return func(next http.Handler) http.Handler {
 		return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-			ctx, cancel := context.WithTimeout(r.Context(), d)
+			dl := d
+			if requestCost(r.Context()) >= CheapCostMs {
+				dl = max(d, HeavyDesignTimeout)
+				// Errors: the writer has no deadline to set.
+				_ = http.NewResponseController(w).SetWriteDeadline(time.Now().Add(dl + 10*time.Second))
+			}
+			ctx, cancel := context.WithTimeout(r.Context(), dl)
 			defer cancel()
 			next.ServeHTTP(w, r.WithContext(ctx))
 		})

@@ -19,15 +19,20 @@ import (
 
 	"github.com/stretchr/testify/require"
 
+	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/web"
 )
 
 // Load check bounds: 32 clients on loopback for 10 s, each sending at most
-// loadMaxPerClient requests.
+// loadMaxPerClient requests. The mixed workload runs loadOrdinary clients
+// of loadSpecs for loadDuration alone, then beside loadHeavy clients that
+// send the costliest spec the server admits.
 const (
 	loadClients      = 32
 	loadDuration     = 10 * time.Second
 	loadMaxPerClient = 20000
+	loadHeavy        = 4
+	loadOrdinary     = 28
 )
 
 // loadSpecs are the bodies the clients send, valid and invalid, with the
@@ -63,23 +68,133 @@ func TestLoad(t *testing.T) {
 	runtime.GC()
 	baseline := runtime.NumGoroutine()
 
+	t.Run("ordinary", func(t *testing.T) {
+		ord, _ := runLoad(t, loadClients, 0)
+		ord.report(t, "load", loadClients)
+	})
+	var alone, mixed loadResult
+	t.Run("mixed/without-heavy", func(t *testing.T) {
+		alone, _ = runLoad(t, loadOrdinary, 0)
+		alone.report(t, "load ordinary alone", loadOrdinary)
+	})
+	t.Run("mixed/with-heavy", func(t *testing.T) {
+		var heavy loadResult
+		mixed, heavy = runLoad(t, loadOrdinary, loadHeavy)
+		mixed.report(t, "load ordinary beside heavy", loadOrdinary)
+		heavy.print("load heavy", loadHeavy)
+		for _, s := range heavy.samples {
+			require.Contains(t, []int{http.StatusOK, http.StatusServiceUnavailable}, s.status, "a heavy request is designed or told to retry")
+		}
+	})
+	if len(alone.samples) > 0 && len(mixed.samples) > 0 {
+		fmt.Printf("load: ordinary p99 %v alone, %v beside %d heavy clients (%.2fx)\n",
+			alone.p(0.99).Round(10*time.Microsecond), mixed.p(0.99).Round(10*time.Microsecond), loadHeavy,
+			float64(mixed.p(0.99))/float64(alone.p(0.99)))
+	}
+
+	// No goroutine outlives the servers.
+	var now int
+	require.Eventually(t, func() bool {
+		runtime.GC()
+		now = runtime.NumGoroutine()
+		return now <= baseline+2
+	}, 10*time.Second, 50*time.Millisecond, "goroutines: %d before, %d after", baseline, now)
+}
+
+// loadResult is one class of requests of a run.
+type loadResult struct {
+	samples []sample
+	elapsed time.Duration
+	lat     []time.Duration
+}
+
+func (lr *loadResult) p(q float64) time.Duration {
+	if lr.lat == nil {
+		for _, s := range lr.samples {
+			lr.lat = append(lr.lat, s.d)
+		}
+		slices.Sort(lr.lat)
+	}
+	if len(lr.lat) == 0 {
+		return 0
+	}
+	return lr.lat[min(len(lr.lat)-1, int(q*float64(len(lr.lat))))]
+}
+
+// print prints the class's figures; it returns the count of 5xx.
+func (lr *loadResult) print(name string, clients int) int {
+	fivexx, designs := 0, 0
+	for _, s := range lr.samples {
+		if s.status >= 500 {
+			fivexx++
+		}
+		if s.status == http.StatusOK {
+			designs++
+		}
+	}
+	secs := lr.elapsed.Seconds()
+	fmt.Printf("%s: clients=%d requests=%d p50=%v p99=%v throughput=%.0f req/s designs=%.1f/s 5xx=%d\n",
+		name, clients, len(lr.samples), lr.p(0.50).Round(10*time.Microsecond), lr.p(0.99).Round(10*time.Microsecond),
+		float64(len(lr.samples))/secs, float64(designs)/secs, fivexx)
+	return fivexx
+}
+
+// report prints the class's figures and requires no 5xx and every status
+// as its spec's.
+func (lr *loadResult) report(t *testing.T, name string, clients int) {
+	t.Helper()
+	require.NotEmpty(t, lr.samples)
+	fivexx := lr.print(name, clients)
+	wrong := 0
+	for _, s := range lr.samples {
+		if s.status != s.want {
+			wrong++
+		}
+	}
+	require.Zero(t, fivexx, "no 5xx under load")
+	require.Zero(t, wrong, "every request gets the status of its spec")
+}
+
+// heavyLoadSpec is the costliest spec the server admits: an order-20
+// bandstop of state-variable notch stages with the most trials under the
+// cost bound.
+func heavyLoadSpec(t *testing.T) string {
+	const base = `{"response": "bandstop", "approximation": "butterworth", "order": 20, "passband_hz": [900, 1100], "topology": "state-variable", "tolerance": {"distribution": "gaussian"}, "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 2}, "montecarlo": {"seed": 1, "trials": %d}}`
+	s, err := synth.ParseSpecBytes(fmt.Appendf(nil, base, 1))
+	require.NoError(t, err)
+	n := synth.MaxTrialsWithin(s, web.DefaultMaxCostMs)
+	require.Positive(t, n)
+	return fmt.Sprintf(base, n)
+}
+
+// runLoad runs ordinary clients of loadSpecs and heavy clients of
+// heavyLoadSpec against one server on loopback for loadDuration.
+func runLoad(t *testing.T, ordinary, heavy int) (ord, hv loadResult) {
 	h := web.New(slog.New(slog.NewTextHandler(io.Discard, nil)), realDeps())
 	srv := httptest.NewServer(h) // 127.0.0.1
-	tr := &http.Transport{MaxIdleConnsPerHost: loadClients, MaxConnsPerHost: loadClients}
+	clients := ordinary + heavy
+	tr := &http.Transport{MaxIdleConnsPerHost: clients, MaxConnsPerHost: clients}
 	client := &http.Client{Transport: tr, Timeout: 30 * time.Second}
+	heavyBody := ""
+	if heavy > 0 {
+		heavyBody = heavyLoadSpec(t)
+	}
 
 	var mu sync.Mutex
-	var samples []sample
 	var failures []string
 	deadline := time.Now().Add(loadDuration)
 	var wg sync.WaitGroup
 	start := time.Now()
-	for c := range loadClients {
+	for c := range clients {
+		isHeavy := c < heavy
 		wg.Go(func() {
 			rng := rand.New(rand.NewPCG(uint64(c), 1))
 			local := make([]sample, 0, 1024)
 			for n := 0; n < loadMaxPerClient && time.Now().Before(deadline); n++ {
 				s := loadSpecs[rng.IntN(len(loadSpecs))]
+				if isHeavy {
+					s.body, s.status = heavyBody, http.StatusOK
+				}
 				t0 := time.Now()
 				res, err := client.Post(srv.URL+"/api/v1/design", "application/json", bytes.NewReader([]byte(s.body)))
 				if err != nil {
@@ -93,46 +208,19 @@ func TestLoad(t *testing.T) {
 				local = append(local, sample{time.Since(t0), res.StatusCode, s.status})
 			}
 			mu.Lock()
-			samples = append(samples, local...)
+			if isHeavy {
+				hv.samples = append(hv.samples, local...)
+			} else {
+				ord.samples = append(ord.samples, local...)
+			}
 			mu.Unlock()
 		})
 	}
 	wg.Wait()
-	elapsed := time.Since(start)
+	ord.elapsed = time.Since(start)
+	hv.elapsed = ord.elapsed
 	srv.Close()
 	tr.CloseIdleConnections()
-
 	require.Empty(t, failures, "transport errors")
-	require.NotEmpty(t, samples)
-	var lat []time.Duration
-	fivexx, wrong, designs := 0, 0, 0
-	for _, s := range samples {
-		lat = append(lat, s.d)
-		if s.status >= 500 {
-			fivexx++
-		}
-		if s.status != s.want {
-			wrong++
-		}
-		if s.status == http.StatusOK {
-			designs++
-		}
-	}
-	slices.Sort(lat)
-	p := func(q float64) time.Duration { return lat[min(len(lat)-1, int(q*float64(len(lat))))] }
-	rps := float64(len(samples)) / elapsed.Seconds()
-	dps := float64(designs) / elapsed.Seconds()
-	t.Logf("%d requests in %v: p50 %v, p99 %v, %.0f requests/s, %.0f designs/s", len(samples), elapsed.Round(time.Millisecond), p(0.50), p(0.99), rps, dps)
-	fmt.Printf("load: clients=%d requests=%d p50=%v p99=%v throughput=%.0f req/s designs=%.0f/s 5xx=%d\n",
-		loadClients, len(samples), p(0.50).Round(10*time.Microsecond), p(0.99).Round(10*time.Microsecond), rps, dps, fivexx)
-	require.Zero(t, fivexx, "no 5xx under load")
-	require.Zero(t, wrong, "every request gets the status of its spec")
-
-	// No goroutine outlives the server.
-	var now int
-	require.Eventually(t, func() bool {
-		runtime.GC()
-		now = runtime.NumGoroutine()
-		return now <= baseline+2
-	}, 10*time.Second, 50*time.Millisecond, "goroutines: %d before, %d after", baseline, now)
+	return ord, hv
 }

@@ -76,6 +76,9 @@ type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
 // 127.0.0.1 and [::1], which are always accepted; a port is ignored.
 // A nil Synthesize is [synth.Synthesize]; the handler calls it once per
 // design it does not hold in its cache (tests count the calls through it).
+// MaxCostMs is the most CPU-milliseconds ([synth.EstimateCost]) one design
+// request may cost (0: [DefaultMaxCostMs]; negative: no bound); a spec
+// over it is refused with the error beside the field that dominates.
 type Deps struct {
 	Plots      Plots
 	Schematics Schematics
@@ -83,6 +86,7 @@ type Deps struct {
 	Workers    int
 	Hosts      []string
 	Synthesize SynthesizeFunc
+	MaxCostMs  float64
 }
 
 // handler carries the dependencies of the routes.
@@ -106,6 +110,9 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	if deps.Workers <= 0 {
 		deps.Workers = 4 * runtime.GOMAXPROCS(0)
 	}
+	if deps.MaxCostMs == 0 {
+		deps.MaxCostMs = DefaultMaxCostMs
+	}
 	h := &handler{log: log, deps: deps,
 		cache: newDesignCache(deps.Synthesize, CacheMaxEntries, CacheMaxBytes, ProgressTimeout)}
 
@@ -126,12 +133,14 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	})
 
 	// The body is read before a worker is taken; the GETs that compute are
-	// refused to other sites before they cost anything.
+	// refused to other sites before they cost anything; the spec's cost is
+	// estimated (and one over the bound refused) before it takes a worker
+	// of its lane.
 	work := newWorkers(h, deps.Workers, Backlog, BacklogTimeout).handler
-	heavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work, withDeadline(DesignTimeout))
+	heavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work, withDeadline(DesignTimeout))
 	// The progress stream shares the workers but not DesignTimeout: it
 	// bounds its run by ProgressTimeout itself.
-	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, work)
+	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work)
 
 	r.Get("/", h.home)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
