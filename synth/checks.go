@@ -153,6 +153,12 @@ func (d *Design) builtMaskCheck() Check {
 		worst = *b.GainMarginDB
 		what = fmt.Sprintf("the passband maximum is %+.3g dB from gain_db; the tolerance is ±%s dB", b.GainErrorDB, dbText(*s.GainToleranceDB))
 	}
+	if b.AliasMarginDB != nil && *b.AliasMarginDB < worst {
+		// The acceptance rule includes the alias band (its own check words
+		// it too).
+		worst = *b.AliasMarginDB
+		what = fmt.Sprintf("what sampling folds onto the passband is only %s dB down; the converter needs %s dB", dbText(b.PassbandMaxDB-*b.AliasWorstDB), dbText(s.Converter.AliasAttenDB))
+	}
 	if b.Unstable {
 		return newCheck(CheckBuiltMask, false, SeverityError, math.Min(worst, 0), 0, "dB", 0,
 			"As built, the board is unstable: the op-amps' finite gain-bandwidth moves a pole into the right half-plane. A faster op-amp or lower-Q sections cure it.")

@@ -24,6 +24,12 @@ func TestChecksAtThresholds(t *testing.T) {
 		r.Meets = r.MinMarginDB() >= -accept.SlackDB
 		return &BuiltReport{MeetsMask: r.Meets, PassbandRippleDB: 0.1 - margin, PassbandMarginDB: margin, result: r}
 	}
+	aliasShort := func() *BuiltReport {
+		r := accept.Result{PassMarginDB: 0.05, StopMarginDB: 3, AliasMarginDB: -0.2, GainMarginDB: math.Inf(1)}
+		r.Meets = r.MinMarginDB() >= -accept.SlackDB
+		return &BuiltReport{MeetsMask: r.Meets, PassbandRippleDB: 0.05, PassbandMarginDB: 0.05, StopbandWorstDB: f(-83),
+			StopbandMarginDB: f(3), AliasWorstDB: f(-97.88), AliasMarginDB: f(-0.2), result: r}
+	}
 	needs := func(slew, gbw float64) []Section {
 		return []Section{{OpAmpNeeds: &OpAmpNeeds{SlewVPerS: slew, GBWHz: &gbw}}}
 	}
@@ -35,6 +41,7 @@ func TestChecksAtThresholds(t *testing.T) {
 	}{
 		{"built-mask just inside", func(d *Design) (Check, bool) { return d.builtMaskCheck(), true }, &Design{Spec: spec, Built: built(1e-4)}, true},
 		{"built-mask just outside", func(d *Design) (Check, bool) { return d.builtMaskCheck(), true }, &Design{Spec: spec, Built: built(-1e-4)}, false},
+		{"built-mask fails on the alias band alone", func(d *Design) (Check, bool) { return d.builtMaskCheck(), true }, &Design{Spec: spec, Built: aliasShort()}, false},
 		{"yield at the target", func(d *Design) (Check, bool) { return d.yieldCheck(), true }, &Design{MonteCarlo: &MonteCarloReport{Trials: 10000, Yield: 0.99}}, true},
 		{"yield below", func(d *Design) (Check, bool) { return d.yieldCheck(), true }, &Design{MonteCarlo: &MonteCarloReport{Trials: 10000, Yield: 0.9899}}, false},
 		{"noise at half a bit", (*Design).noiseCheck, &Design{Spec: spec, Noise: &NoiseReport{QuantizationRMSV: f(17.6e-6), SampledRMSV: f(17.6e-6), ENOBLossBits: f(0.5)}}, true},
@@ -95,4 +102,21 @@ func TestChecksPresence(t *testing.T) {
 	require.NoError(t, err)
 	require.Equal(t, []string{CheckIdealMask, CheckBuiltMask, CheckYield, CheckAlias, CheckNoise, CheckSettling, CheckSlew, CheckOpAmpGBW}, ids(d.Checks))
 	require.Equal(t, "converter", d.Mask.StopbandFrom)
+}
+
+// TestBuiltMaskWordsTheWorstRule: the built-mask sentence names the rule
+// that fails (here the alias band, whose margin is the only negative one).
+func TestBuiltMaskWordsTheWorstRule(t *testing.T) {
+	t.Parallel()
+	f := func(v float64) *float64 { return &v }
+	r := accept.Result{PassMarginDB: 0.05, StopMarginDB: 3, AliasMarginDB: -0.2, GainMarginDB: math.Inf(1)}
+	d := &Design{
+		Spec: Spec{PassbandRippleDB: 0.1, StopbandAttenDB: 80, Converter: &Converter{AliasAttenDB: 98.08}},
+		Built: &BuiltReport{PassbandRippleDB: 0.05, StopbandWorstDB: f(-83), StopbandMarginDB: f(3),
+			AliasWorstDB: f(-97.88), AliasMarginDB: f(-0.2), result: r},
+	}
+	c := d.builtMaskCheck()
+	require.False(t, c.OK)
+	require.InDelta(t, -0.2, c.Figure, 1e-12)
+	require.Contains(t, c.Text, "folds onto the passband is only 97.88 dB down; the converter needs 98.08 dB")
 }
