@@ -32,6 +32,12 @@ const (
 	smallSpec = `{"passband_hz": 1000, "stopband_hz": 4000, "stopband_atten_db": 40}`
 	// Order 8 Butterworth for the benchmarks and the page-time target.
 	order8Query = "response=lowpass&approximation=butterworth&passband_hz=10000&order=8&stopband_hz=40000"
+	// The elliptic-8 of synth's benchmarks (1 kHz, 1 dB ripple, 60 dB
+	// down) with every panel of the page: a 16-bit converter at 48 kHz
+	// (noise, settling to ½ LSB) and 200 Monte Carlo trials, for the
+	// page-time target of a cached view.
+	elliptic8Query = "response=lowpass&approximation=elliptic&passband_hz=1000&order=8&passband_ripple_db=1&stopband_atten_db=60" +
+		"&converter_sample_rate_hz=48000&converter_bits=16&converter_full_scale_vpp=4&montecarlo_trials=200&montecarlo_seed=1"
 )
 
 // logBuffer collects the server's log for checks; safe for concurrent use.
