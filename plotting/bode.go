@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
 	"github.com/polewright/polewright/synth"
@@ -180,8 +181,44 @@ func addMask(p *plot.Plot, regions []region, lo, hi float64) {
 // shape is a polygon without its DataRange method (see curve).
 type shape struct{ poly *plotter.Polygon }
 
-// Plot implements plot.Plotter.
-func (s shape) Plot(c draw.Canvas, p *plot.Plot) { s.poly.Plot(c, p) }
+// Plot implements plot.Plotter. It draws the polygon as plotter.Polygon
+// does (each ring transformed and clipped, filled, its edge stroked), each
+// ring simplified before it is clipped, as a curve's line is (see
+// curve.Plot): the Monte Carlo envelope's bands have two points per
+// frequency of the analysis.
+func (s shape) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	rings := make([][]vg.Point, 0, len(s.poly.XYs))
+	n := 0
+	for _, xys := range s.poly.XYs {
+		ring := make([]vg.Point, len(xys))
+		for j, pt := range xys {
+			ring[j] = vg.Point{X: trX(pt.X), Y: trY(pt.Y)}
+		}
+		if ring = c.ClipPolygonXY(simplified(ring, simplifyTolPt)); len(ring) > 0 {
+			rings = append(rings, ring)
+			n += len(ring) + 1
+		}
+	}
+	if s.poly.Color != nil && len(rings) > 0 {
+		c.SetColor(s.poly.Color)
+		pa := make(vg.Path, 0, n)
+		for _, ring := range rings {
+			pa.Move(ring[0])
+			for _, pt := range ring[1:] {
+				pa.Line(pt)
+			}
+			pa.Close()
+		}
+		c.Fill(pa)
+	}
+	for _, ring := range rings {
+		if ring[len(ring)-1] != ring[0] {
+			ring = append(ring, ring[0])
+		}
+		c.StrokeLines(s.poly.LineStyle, c.ClipLinesXY(ring)...)
+	}
+}
 
 // Thumbnail implements plot.Thumbnailer.
 func (s shape) Thumbnail(c *draw.Canvas) { s.poly.Thumbnail(c) }
