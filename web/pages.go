@@ -11,6 +11,7 @@ import (
 	"net/http"
 	"net/url"
 	"strings"
+	"sync"
 
 	"github.com/a-h/templ"
 	"github.com/go-chi/chi/v5"
@@ -197,9 +198,9 @@ func (h *handler) internal(w http.ResponseWriter, r *http.Request, err error) {
 // render renders c into a buffer and sends it, so that a failed render
 // never sends half a page.
 func (h *handler) render(w http.ResponseWriter, r *http.Request, status int, c templ.Component) {
-	var buf bytes.Buffer
-	buf.Grow(64 << 10)
-	if err := c.Render(r.Context(), &buf); err != nil {
+	buf := getBuffer()
+	defer putBuffer(buf)
+	if err := c.Render(r.Context(), buf); err != nil {
 		h.synthFailed(w, r, err)
 		return
 	}
@@ -207,6 +208,32 @@ func (h *handler) render(w http.ResponseWriter, r *http.Request, status int, c t
 	w.Header().Set("Cache-Control", "no-cache")
 	w.WriteHeader(status)
 	_, _ = w.Write(buf.Bytes())
+}
+
+// buffers are the scratch buffers that pages and drawings are written
+// into before they are sent or copied: a result page is about 200 KB and
+// its plots 10–60 KB each, which a new buffer would reach by doubling.
+var buffers = sync.Pool{New: func() any {
+	b := new(bytes.Buffer)
+	b.Grow(64 << 10)
+	return b
+}}
+
+// maxPooledBytes is the largest buffer put back into buffers: a rare huge
+// page is left to the collector rather than held.
+const maxPooledBytes = 4 << 20
+
+// getBuffer returns an empty buffer from buffers.
+func getBuffer() *bytes.Buffer { return buffers.Get().(*bytes.Buffer) }
+
+// putBuffer returns b to buffers, emptied; nothing that b's bytes were
+// shared with may be used after.
+func putBuffer(b *bytes.Buffer) {
+	if b.Cap() > maxPooledBytes {
+		return
+	}
+	b.Reset()
+	buffers.Put(b)
 }
 
 // initialValues are the values of the blank form.

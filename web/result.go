@@ -182,15 +182,16 @@ func drawSVG(draw func(io.Writer) error) (c templ.Component, err error) {
 			c, err = nil, fmt.Errorf("web: drawing panicked: %v\n%s", rec, debug.Stack())
 		}
 	}()
-	var buf bytes.Buffer
-	if err := draw(&buf); err != nil {
+	buf := getBuffer()
+	defer putBuffer(buf)
+	if err := draw(buf); err != nil {
 		return nil, err
 	}
 	b := inlineSVG(buf.Bytes())
 	if !bytes.HasPrefix(b, []byte("<svg")) {
 		return nil, errors.New("web: the drawing is not an SVG document")
 	}
-	return templ.Raw(string(b)), nil
+	return templ.Raw(string(b)), nil // a copy: buf goes back to the pool
 }
 
 // inlineSVG strips what precedes the <svg element of an SVG document: the
