@@ -7,10 +7,12 @@ import (
 	"io"
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgsvg"
@@ -179,6 +181,13 @@ const (
 func newPlot() *plot.Plot {
 	p := plot.New()
 	p.BackgroundColor = nil // render fills the whole canvas
+	p.TextHandler = textMeasure
+	for _, sty := range []*text.Style{
+		&p.Title.TextStyle, &p.X.Label.TextStyle, &p.Y.Label.TextStyle,
+		&p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle,
+	} {
+		sty.Handler = textMeasure
+	}
 	p.X.Label.TextStyle.Font = font.From(sans, 10)
 	p.Y.Label.TextStyle.Font = font.From(sans, 10)
 	p.X.Tick.Label.Font = font.From(sans, 9)
@@ -191,6 +200,52 @@ func newPlot() *plot.Plot {
 	p.X.Tick.Width, p.Y.Tick.Width = vg.Points(0.6), vg.Points(0.6)
 	p.X.Label.Padding, p.Y.Label.Padding = vg.Points(3), vg.Points(3)
 	return p
+}
+
+// textMeasure is the text handler of every plot: gonum/plot's own, with
+// the sizes of the texts remembered, since laying out a plot measures each
+// tick label several times and each measurement allocates (font.Face.Width
+// takes a new sfnt.Buffer): about a third of the memory a page's plots
+// took. The sizes depend only on the text and the font.
+var textMeasure = &measuringHandler{Plain: plot.DefaultTextHandler.(text.Plain)}
+
+// maxMeasured bounds the texts measuringHandler remembers; texts beyond
+// it are measured every time.
+const maxMeasured = 4096
+
+// measuringHandler is a text.Plain that remembers the boxes of the texts
+// it has measured, up to maxMeasured of them. It is safe for concurrent
+// use.
+type measuringHandler struct {
+	text.Plain
+	mu    sync.RWMutex
+	boxes map[measureKey][3]vg.Length
+}
+
+type measureKey struct {
+	txt string
+	fnt font.Font
+}
+
+// Box implements text.Handler.
+func (h *measuringHandler) Box(txt string, fnt font.Font) (width, height, depth vg.Length) {
+	k := measureKey{txt, fnt}
+	h.mu.RLock()
+	b, ok := h.boxes[k]
+	h.mu.RUnlock()
+	if ok {
+		return b[0], b[1], b[2]
+	}
+	width, height, depth = h.Plain.Box(txt, fnt)
+	h.mu.Lock()
+	if h.boxes == nil {
+		h.boxes = map[measureKey][3]vg.Length{}
+	}
+	if len(h.boxes) < maxMeasured {
+		h.boxes[k] = [3]vg.Length{width, height, depth}
+	}
+	h.mu.Unlock()
+	return width, height, depth
 }
 
 // render writes the plots, stacked in one column and aligned, as SVG.
@@ -297,6 +352,10 @@ func simplified(l []vg.Point, tol vg.Length) []vg.Point {
 // thinnest curve's width and below what a screen or a print shows.
 const simplifyTolPt = 0.1
 
+// simplifyWindow is the length of the runs that simplify simplifies
+// alone.
+const simplifyWindow = 64
+
 // simplify marks the points of l to keep (Ramer–Douglas–Peucker): the
 // ends, and every point without which some point of l would lie farther
 // than tol from the polyline through the kept ones. It reuses keep's
@@ -305,9 +364,17 @@ func simplify(keep []bool, l []vg.Point, tol vg.Length) []bool {
 	n := len(l)
 	keep = slices.Grow(keep[:0], n)[:n]
 	clear(keep)
-	keep[0], keep[n-1] = true, true
 	type span struct{ a, b int }
-	stack := []span{{0, n - 1}}
+	// RDP costs up to the square of a run's length where nearly every
+	// point is kept (a ringing step's error on a log axis), so the line is
+	// simplified in windows of simplifyWindow points, their ends kept.
+	stack := make([]span, 0, 64)
+	for a := 0; a < n-1; a += simplifyWindow {
+		b := min(a+simplifyWindow, n-1)
+		keep[a], keep[b] = true, true
+		stack = append(stack, span{a, b})
+	}
+	keep[0], keep[n-1] = true, true
 	tol2 := float64(tol * tol)
 	for len(stack) > 0 {
 		s := stack[len(stack)-1]
