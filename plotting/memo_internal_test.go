@@ -9,18 +9,18 @@ import (
 	"github.com/polewright/polewright/synth/circuit"
 )
 
-// TestBuiltMemo checks that the as-built stages are computed once per
-// design while it is among the last builtMemoEntries asked about, and
-// again once it has been evicted.
-func TestBuiltMemo(t *testing.T) {
+// TestDesignMemo checks that a value (here as-built stages) is computed
+// once per design while the design is among the last memoEntries asked
+// about, and again once it has been evicted.
+func TestDesignMemo(t *testing.T) {
 	t.Parallel()
-	m := &builtMemo{}
+	m := &designMemo[circuit.Cascade]{}
 	calls := map[*synth.Design]int{}
 	compute := func(d *synth.Design) circuit.Cascade {
 		calls[d]++
 		return circuit.Cascade{{Num: []float64{float64(calls[d])}, Den: []float64{1}, ScaleRadPerSec: 1}}
 	}
-	designs := make([]*synth.Design, builtMemoEntries+1)
+	designs := make([]*synth.Design, memoEntries+1)
 	for i := range designs {
 		designs[i] = &synth.Design{}
 	}
@@ -32,6 +32,6 @@ func TestBuiltMemo(t *testing.T) {
 	require.Equal(t, 1, calls[designs[0]])
 	m.get(designs[0], compute) // evicted by the last one: computed again
 	require.Equal(t, 2, calls[designs[0]])
-	require.Len(t, m.keys, builtMemoEntries)
-	require.Len(t, m.tfs, builtMemoEntries)
+	require.Len(t, m.keys, memoEntries)
+	require.Len(t, m.values, memoEntries)
 }

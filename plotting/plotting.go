@@ -84,7 +84,7 @@ func Step(w io.Writer, d *synth.Design, opt Options) error {
 	if d == nil {
 		return ErrNilDesign
 	}
-	return stepPlot(w, d, asBuilt(d), opt)
+	return drawStep(w, stepData.get(d, func(d *synth.Design) *stepSeries { return newStepSeries(d, asBuilt(d)) }), opt)
 }
 
 // InlineSVG returns b without its XML prolog — the <?xml ...?>
@@ -119,53 +119,54 @@ func InlineSVG(b []byte) []byte {
 // asBuilt returns the design's chain as rational stages, or nil when the
 // design has no circuit or the chain cannot be analysed. The stages of the
 // last few designs are remembered (see builtMemo): a result page draws
-// four plots of one design, and the nodal analysis behind them was a
+// three plots of one design, and the nodal analysis behind them was a
 // tenth of the time to draw them.
 func asBuilt(d *synth.Design) circuit.Cascade {
 	return builtStages.get(d, computeAsBuilt)
 }
 
 // builtStages remembers asBuilt's answers.
-var builtStages = &builtMemo{}
+var builtStages = &designMemo[circuit.Cascade]{}
 
-// builtMemoEntries bounds the designs builtMemo remembers.
-const builtMemoEntries = 16
+// memoEntries bounds the designs a designMemo remembers.
+const memoEntries = 16
 
-// builtMemo remembers the as-built stages of the last builtMemoEntries
+// designMemo remembers a value computed from each of the last memoEntries
 // designs it was asked about, by weak pointer: it never keeps a design
-// alive, and a synth.Design is not changed after synthesis, so the stages
-// of a pointer stay right while it lives. Callers share the stages and
+// alive, and a synth.Design is not changed after synthesis, so the value
+// of a pointer stays right while it lives. Callers share the values and
 // must not change them. It is safe for concurrent use.
-type builtMemo struct {
-	mu   sync.Mutex
-	keys []weak.Pointer[synth.Design] // oldest first
-	tfs  map[weak.Pointer[synth.Design]]circuit.Cascade
+type designMemo[V any] struct {
+	mu     sync.Mutex
+	keys   []weak.Pointer[synth.Design] // oldest first
+	values map[weak.Pointer[synth.Design]]V
 }
 
-func (m *builtMemo) get(d *synth.Design, compute func(*synth.Design) circuit.Cascade) circuit.Cascade {
+// get returns the value of d, computing it when d is not remembered.
+func (m *designMemo[V]) get(d *synth.Design, compute func(*synth.Design) V) V {
 	k := weak.Make(d)
 	m.mu.Lock()
-	tfs, ok := m.tfs[k]
+	v, ok := m.values[k]
 	m.mu.Unlock()
 	if ok {
-		return tfs
+		return v
 	}
-	tfs = compute(d)
+	v = compute(d)
 	m.mu.Lock()
 	defer m.mu.Unlock()
-	if _, ok := m.tfs[k]; ok {
-		return tfs
+	if _, ok := m.values[k]; ok {
+		return v
 	}
-	if m.tfs == nil {
-		m.tfs = map[weak.Pointer[synth.Design]]circuit.Cascade{}
+	if m.values == nil {
+		m.values = map[weak.Pointer[synth.Design]]V{}
 	}
-	if len(m.keys) >= builtMemoEntries {
-		delete(m.tfs, m.keys[0])
+	if len(m.keys) >= memoEntries {
+		delete(m.values, m.keys[0])
 		m.keys = append(m.keys[:0], m.keys[1:]...)
 	}
 	m.keys = append(m.keys, k)
-	m.tfs[k] = tfs
-	return tfs
+	m.values[k] = v
+	return v
 }
 
 // computeAsBuilt is asBuilt without the memo.

@@ -38,7 +38,27 @@ func stepPoints(poles [][2]float64, span float64) int {
 	return int(math.Min(math.Ceil(n), maxStepPoints))
 }
 
+// stepSeries is what the step plot draws of a design: the stages of the
+// ideal filter and of the circuit as built, the times, both responses and
+// the final value, and the settling figures (nil without). [Step]
+// remembers it per design (stepData): the responses were an eighth of the
+// time to draw a result page.
+type stepSeries struct {
+	ideal, built       []step.Stage
+	ts, yIdeal, yBuilt []float64
+	final              float64
+	st                 *settling
+}
+
+// stepData remembers the step series of the last designs drawn by [Step].
+var stepData = &designMemo[*stepSeries]{}
+
 func stepPlot(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) error {
+	return drawStep(w, newStepSeries(d, tfs), opt)
+}
+
+// newStepSeries computes the step series of d, with tfs as built.
+func newStepSeries(d *synth.Design, tfs circuit.Cascade) *stepSeries {
 	var ideal, built []step.Stage
 	for _, s := range d.Cascade() {
 		ideal = append(ideal, step.FromSection(s))
@@ -67,7 +87,14 @@ func stepPlot(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) er
 	if len(built) > 0 {
 		yBuilt, _ = step.Response(built, ts)
 	}
+	return &stepSeries{ideal: ideal, built: built, ts: ts, yIdeal: yIdeal, yBuilt: yBuilt, final: final, st: st}
+}
 
+// drawStep writes the step plot of the series s, which it does not
+// change.
+func drawStep(w io.Writer, s *stepSeries, opt Options) error {
+	ideal, built, st := s.ideal, s.built, s.st
+	ts, yIdeal, yBuilt, final := s.ts, s.yIdeal, s.yBuilt, s.final
 	p := newPlot()
 	end := 1e-3
 	if len(ts) > 0 && ts[len(ts)-1] > 0 {
