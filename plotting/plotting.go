@@ -365,11 +365,14 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 		return
 	}
 	trX, trY := p.Transforms(&dc)
-	ps := make([]vg.Point, len(c.line.XYs))
-	for i, pt := range c.line.XYs {
-		ps[i] = vg.Point{X: trX(pt.X), Y: trY(pt.Y)}
+	sc := scratchPool.Get().(*scratch)
+	defer scratchPool.Put(sc)
+	ps := slices.Grow(sc.pts[:0], len(c.line.XYs))
+	for _, pt := range c.line.XYs {
+		ps = append(ps, vg.Point{X: trX(pt.X), Y: trY(pt.Y)})
 	}
-	ps = simplified(ps, simplifyTolPt)
+	sc.pts = ps
+	ps = sc.simplified(ps, simplifyTolPt)
 	lines := dc.ClipLinesXY(ps)
 	dc.SetLineStyle(sty)
 	for _, l := range lines {
@@ -385,12 +388,28 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 	}
 }
 
+// scratch is the memory curve.Plot works in, pooled in scratchPool: the
+// canvas points of a curve and simplify's marks. Nothing drawn keeps it
+// (the SVG canvas writes a path out when it is stroked).
+type scratch struct {
+	pts  []vg.Point
+	keep []bool
+}
+
+var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
+
 // simplified returns the points of l that [simplify] keeps, in l's memory.
 func simplified(l []vg.Point, tol vg.Length) []vg.Point {
+	return (&scratch{}).simplified(l, tol)
+}
+
+// simplified is the function simplified with its marks in sc.
+func (sc *scratch) simplified(l []vg.Point, tol vg.Length) []vg.Point {
 	if len(l) < 3 {
 		return l
 	}
-	keep := simplify(nil, l, tol)
+	sc.keep = simplify(sc.keep, l, tol)
+	keep := sc.keep
 	out := l[:0]
 	for i, pt := range l {
 		if keep[i] {
