@@ -517,20 +517,23 @@ func builtCurve(pts plotter.XYs) curve {
 func placeLegend(p *plot.Plot, curves ...plotter.XYs) {
 	type corner struct{ top, left bool }
 	corners := []corner{{true, false}, {true, true}, {false, false}, {false, true}}
-	best, bestN := corners[0], math.MaxInt
-	for _, c := range corners {
-		n := 0
-		for _, pts := range curves {
-			for _, pt := range pts {
-				x, y := p.X.Norm(pt.X), p.Y.Norm(pt.Y)
+	// Each point is placed once (the axes' Norm is most of the cost).
+	var counts [4]int
+	for _, pts := range curves {
+		for _, pt := range pts {
+			x, y := p.X.Norm(pt.X), p.Y.Norm(pt.Y)
+			for i, c := range corners {
 				inX := (c.left && x < 0.3) || (!c.left && x > 0.7)
 				inY := (c.top && y > 0.72) || (!c.top && y < 0.28)
 				if inX && inY {
-					n++
+					counts[i]++
 				}
 			}
 		}
-		if n < bestN {
+	}
+	best, bestN := corners[0], math.MaxInt
+	for i, c := range corners {
+		if n := counts[i]; n < bestN {
 			best, bestN = c, n
 		}
 	}
