@@ -62,6 +62,11 @@
 // labels, legend names ("ideal", "as built") and numbers, and gonum/plot's
 // SVG canvas escapes all text it writes in any case.
 //
+// A curve is drawn with the points the drawing can show: in canvas
+// coordinates, points whose leaving out moves the line by at most a tenth
+// of a point are left out (a smooth curve keeps a few dozen to a few
+// hundred of its samples).
+//
 // # Fonts and global state
 //
 // The plots use Liberation Sans from gonum/plot's default font cache and
@@ -69,5 +74,9 @@
 // override it with CSS, `svg text { font-family: sans-serif !important }`).
 // The fonts are set on each plot's text styles, not through
 // plot.DefaultFont or font.DefaultCache: this package changes no
-// package-level state, so it is safe to call concurrently.
+// package-level state, so it is safe to call concurrently. It keeps only
+// caches of its own: the sizes of the texts it has measured (at most 4,096)
+// and, for the last 16 designs drawn, the circuit's rational stages and
+// the step plot's responses, held by weak pointer so that no design is
+// kept alive by them (a design is not changed after synthesis).
 package plotting

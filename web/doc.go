@@ -74,7 +74,9 @@
 // beyond either bound; a design larger than the byte bound alone is not
 // kept. Errors are not kept (a failed or cancelled design is computed
 // again on the next request); the designs are shared and never changed
-// after synthesis. Nothing else is stored.
+// after synthesis. Nothing else is stored (package plotting remembers,
+// besides, a little of what it computed for the last designs it drew; see
+// its documentation).
 //
 // Requests for a spec whose design is being computed wait for that one
 // computation instead of starting their own. The computation runs on a
