@@ -38,11 +38,14 @@ with the edges in Hz (the order depends only on their ratio). Records:
 import json
 import math
 import os
+import sys
 
 import numpy as np
 import scipy
 from scipy import signal
-from scipy.signal import _filter_design as fd
+
+sys.dont_write_bytecode = True  # no __pycache__ beside the scripts
+from gen_proto import fractional_order  # noqa: E402  (one copy of SciPy's order bound)
 
 BORDER = 1e-6
 
@@ -58,21 +61,6 @@ SAMPLE_RATES = [8e3, 22.05e3, 44.1e3, 48e3, 96e3, 192e3, 500e3, 1e6, 2.5e6, 10e6
 FRACTIONS = [0.02, 0.05, 0.1, 0.2, 0.25, 0.3, 0.4, 0.45]
 RIPPLES = [0.01, 0.1, 0.5, 1.0, 3.0]
 GIVEN_ATTEN = [40.0, 60.0, 80.0, 100.0, 120.0]
-
-
-def fractional_order(name, nat, gpass, gstop):
-    """The order bound before ceil, with SciPy 1.10's expressions."""
-    GSTOP = 10 ** (0.1 * abs(gstop))
-    GPASS = 10 ** (0.1 * abs(gpass))
-    if name == "buttord":
-        return math.log10((GSTOP - 1.0) / (GPASS - 1.0)) / (2 * math.log10(nat))
-    if name in ("cheb1ord", "cheb2ord"):
-        return float(np.arccosh(np.sqrt((GSTOP - 1.0) / (GPASS - 1.0))) / np.arccosh(nat))
-    arg1_sq = fd._pow10m1(0.1 * gpass) / fd._pow10m1(0.1 * gstop)
-    arg0 = 1.0 / nat
-    d0 = scipy.special.ellipk(arg0 ** 2), scipy.special.ellipkm1(arg0 ** 2)
-    d1 = scipy.special.ellipk(arg1_sq), scipy.special.ellipkm1(arg1_sq)
-    return float(d0[0] * d1[1] / (d0[1] * d1[0]))
 
 
 def converters():
