@@ -84,6 +84,9 @@ type Design struct {
 	// Checks is the one list of verdicts on the design, the same for the
 	// page, the API and the CLI.
 	Checks []Check `json:"checks"`
+	// DC is the output's DC error from the op-amps' offsets and bias
+	// currents (nil before verification).
+	DC *DCReport `json:"dc,omitempty"`
 
 	tf       zpk.ZPK
 	chain    *circuit.Chain
@@ -155,6 +158,9 @@ type Section struct {
 	// budget for the stage's own figures, not for the mask, which
 	// Component.FailAtPct answers.
 	RequiredTolerance []PartTolerance `json:"required_tolerance"`
+	// Swing is the signal's extremes at the stage's op-amps, against the
+	// rails when the spec gives a supply (nil before verification).
+	Swing *Swing `json:"swing,omitempty"`
 
 	sec section.Section
 }

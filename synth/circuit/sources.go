@@ -55,6 +55,8 @@ func (st Stage) SourceTransfers(m Model, srcs []Source) (SourceTransfers, error)
 	if err != nil {
 		return SourceTransfers{}, err
 	}
+	nOps := len(st.OpAmps)
+	st, t = st.withParasitics(m, t)
 	scale, rn := stageScale(st, m)
 	sys := compile(st, m, t, scale)
 	nodes := len(t.names) - 1
@@ -67,7 +69,7 @@ func (st Stage) SourceTransfers(m Model, srcs []Source) (SourceTransfers, error)
 	bs := make([]rhs, len(srcs))
 	for i, s := range srcs {
 		if s.OpAmp != 0 {
-			if s.OpAmp < 1 || s.OpAmp > len(st.OpAmps) {
+			if s.OpAmp < 1 || s.OpAmp > nOps {
 				return SourceTransfers{}, invalidf("source %d: no op-amp %d", i+1, s.OpAmp)
 			}
 			bs[i] = rhs{a: nodes + s.OpAmp, b: -1, w: 1}
