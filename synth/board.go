@@ -129,7 +129,7 @@ const dcBudgetLSB = 0.5
 // the as-built stages' transfer functions tfs and the step report's time
 // grid (d.Step).
 func (d *Design) board(ch circuit.Chain, tfs circuit.Cascade) error {
-	if err := d.dcReport(ch, tfs); err != nil {
+	if err := d.dcReport(ch); err != nil {
 		return err
 	}
 	return d.swing(ch, tfs)
@@ -238,7 +238,7 @@ func allFinite(y []float64) bool {
 // ground, into the op-amp) reach its stage's output through the stage's
 // DC source transfers, then the output through the DC gains of the later
 // stages.
-func (d *Design) dcReport(ch circuit.Chain, tfs circuit.Cascade) error {
+func (d *Design) dcReport(ch circuit.Chain) error {
 	m := ch.Model
 	rep := &DCReport{Contributors: []DCContributor{}, Balance: []BalanceSuggestion{}}
 	type amp struct {
@@ -248,10 +248,19 @@ func (d *Design) dcReport(ch circuit.Chain, tfs circuit.Cascade) error {
 		plusV   float64 // output per volt at the + input
 	}
 	var amps []amp
+	// The stages' DC gains, by a direct solve at s = 0.
+	dcGains := make([]float64, len(ch.Stages))
+	for k, st := range ch.Stages {
+		g, err := st.SolveAt(m, 0)
+		if err != nil {
+			return fmt.Errorf("synth: DC gain of stage %d: %w", k+1, err)
+		}
+		dcGains[k] = real(g)
+	}
 	for k, st := range ch.Stages {
 		later := 1.0
-		for _, r := range tfs[k+1:] {
-			later *= real(r.At(0))
+		for _, later1 := range dcGains[k+1:] {
+			later *= later1
 		}
 		var srcs []circuit.Source
 		for q, u := range st.OpAmps {
@@ -262,20 +271,11 @@ func (d *Design) dcReport(ch circuit.Chain, tfs circuit.Cascade) error {
 				}
 			}
 		}
-		st2 := st
-		tr, err := st2.SourceTransfers(m, srcs)
+		tr, err := st.DCSourceTransfers(m, srcs)
 		if err != nil {
 			return fmt.Errorf("synth: DC error, stage %d: %w", k+1, err)
 		}
-		dc := func(i int) float64 {
-			if len(tr.Den) == 0 || tr.Den[0] == 0 {
-				return math.Inf(1) // a pole at DC: no DC solution
-			}
-			if len(tr.Num[i]) == 0 {
-				return 0
-			}
-			return tr.Num[i][0] / tr.Den[0]
-		}
+		dc := func(i int) float64 { return tr[i] }
 		i := 0
 		for _, u := range st.OpAmps {
 			a := amp{ref: ch.Ref(k+1, u.Ref)}
