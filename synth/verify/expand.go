@@ -84,8 +84,8 @@ type expansion []term
 type stageModel struct {
 	stage        circuit.Stage
 	aug          circuit.Stage // stage with the model's parasitic parts after its own (circuit.Stage.WithParasitics)
-	scale, rn    float64 // natural scale (rad/s) and resistance of the nominal stage
-	nOps         int     // single-pole op-amps (0 for the ideal model)
+	scale, rn    float64       // natural scale (rad/s) and resistance of the nominal stage
+	nOps         int           // single-pole op-amps (0 for the ideal model)
 	sectionOrder int
 	num, den     expansion
 	degNum       int
