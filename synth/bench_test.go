@@ -107,3 +107,30 @@ func BenchmarkMonteCarloDesign(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkSynthesizeBoard times a whole design of the benchmark specs
+// with a supply and every field of the board (rails and reference, signal,
+// headrooms, offset, bias current, input capacitance, output resistance,
+// 1/f corner): the swing at every op-amp node, the DC error and the
+// parasitics on top of BenchmarkSynthesize's work.
+func BenchmarkSynthesizeBoard(b *testing.B) {
+	for _, bs := range benchSpecs[:3] {
+		s := bs.spec
+		s.Supply = &synth.Supply{PositiveV: 5, ReferenceV: 2.5}
+		vpp := 3.0
+		s.SignalVpp = &vpp
+		s.OpAmp.OutputHeadroomV, s.OpAmp.InputHeadroomV = 0.1, 0.2
+		s.OpAmp.OffsetV, s.OpAmp.BiasA = 1e-3, 50e-9
+		s.OpAmp.InputCapacitanceFarad, s.OpAmp.OutputResistanceOhm = 3e-12, 50
+		s.OpAmp.NoiseCornerHz = 100
+		b.Run(bs.name, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			for b.Loop() {
+				if _, err := synth.Synthesize(ctx, s); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

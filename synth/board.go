@@ -2,6 +2,7 @@ package synth
 
 import (
 	"cmp"
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -163,56 +164,85 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	for k, st := range ch.Stages {
 		stage := k + 1
 		sw := &Swing{Nodes: []SwingNode{}}
+		// The stage's listed nodes, and their transfers from its input in
+		// one nodal interpolation (the output's is tfs[k]).
+		type pinAt struct {
+			local, pin, ref string
+		}
+		var pins []pinAt
+		var others []string
 		for _, u := range st.OpAmps {
-			pins := []struct{ local, pin string }{{u.Out, PinOutput}}
 			if u.Plus != circuit.Ground {
-				pins = append([]struct{ local, pin string }{{u.Plus, PinInput}}, pins...)
+				pins = append(pins, pinAt{u.Plus, PinInput, u.Ref})
 			}
-			for _, p := range pins {
-				var r circuit.Rational
-				var err error
-				if p.local == st.Out {
-					r = tfs[k]
-				} else if r, err = st.NodeTransferFunction(ch.Model, p.local, 0); err != nil {
-					return fmt.Errorf("synth: swing at stage %d node %s: %w", stage, p.local, err)
-				}
-				n := SwingNode{Node: ch.Node(stage, p.local), Ref: ch.Ref(stage, u.Ref), Pin: p.pin}
-				// At DC first: the response grid starts above it.
-				n.GainMax = math.Abs(real(r.At(0)) * dcUp)
-				for i, f := range freq {
-					if g := cmplx.Abs(up[i] * r.AtHz(f)); g > n.GainMax {
-						n.GainMax, n.PeakHz = g, f
-					}
-				}
-				n.SineV = [2]float64{ref - amp*n.GainMax, ref + amp*n.GainMax}
-				n.PeakV = n.SineV
-				if len(t) > 1 {
-					stages := append(slices.Clone(upSteps), step.FromRational(r))
-					if y, err := step.Response(stages, t); err == nil && allFinite(y) {
-						h0 := step.DCGain(stages)
-						lo, hi := ref-amp*h0, ref-amp*h0
-						for _, v := range y {
-							v = ref - amp*h0 + 2*amp*v
-							lo, hi = math.Min(lo, v), math.Max(hi, v)
-						}
-						n.StepV = &[2]float64{lo, hi}
-						n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
-					}
-				}
-				if p := s.Supply; p != nil {
-					hd := s.OpAmp.OutputHeadroomV
-					if n.Pin == PinInput {
-						hd = s.OpAmp.InputHeadroomV
-					}
-					lim := [2]float64{p.NegativeV + hd, p.PositiveV - hd}
-					room := math.Min(lim[1]-n.PeakV[1], n.PeakV[0]-lim[0])
-					n.LimitV, n.HeadroomV = &lim, &room
-					if sw.HeadroomV == nil || room < *sw.HeadroomV {
-						sw.HeadroomV = &room
-					}
-				}
-				sw.Nodes = append(sw.Nodes, n)
+			pins = append(pins, pinAt{u.Out, PinOutput, u.Ref})
+		}
+		for _, p := range pins {
+			if p.local != st.Out && !slices.Contains(others, p.local) {
+				others = append(others, p.local)
 			}
+		}
+		nodeTF := map[string]circuit.Rational{st.Out: tfs[k]}
+		if len(others) > 0 {
+			rs, err := st.NodeTransferFunctions(ch.Model, others)
+			if err != nil {
+				return fmt.Errorf("synth: swing at stage %d: %w", stage, err)
+			}
+			for i, n := range others {
+				nodeTF[n] = rs[i]
+			}
+		}
+		var modal *step.Modal
+		if len(t) > 1 {
+			modal, _ = step.NewModal(upSteps)
+		}
+		for _, p := range pins {
+			r := nodeTF[p.local]
+			n := SwingNode{Node: ch.Node(stage, p.local), Ref: ch.Ref(stage, p.ref), Pin: p.pin}
+			// At DC first: the response grid starts above it.
+			n.GainMax = math.Abs(real(r.At(0)) * dcUp)
+			for i, f := range freq {
+				if g := cmplx.Abs(up[i] * r.AtHz(f)); g > n.GainMax {
+					n.GainMax, n.PeakHz = g, f
+				}
+			}
+			n.SineV = [2]float64{ref - amp*n.GainMax, ref + amp*n.GainMax}
+			n.PeakV = n.SineV
+			if len(t) > 1 {
+				last := step.FromRational(r)
+				var y []float64
+				err := errors.New("no modal model")
+				if modal != nil {
+					y, err = modal.With(last, t)
+				}
+				if err != nil {
+					// Exact where partial fractions are not.
+					y, err = step.Response(append(slices.Clone(upSteps), last), t)
+				}
+				if err == nil && allFinite(y) {
+					h0 := dcUp * real(r.At(0))
+					lo, hi := ref-amp*h0, ref-amp*h0
+					for _, v := range y {
+						v = ref - amp*h0 + 2*amp*v
+						lo, hi = math.Min(lo, v), math.Max(hi, v)
+					}
+					n.StepV = &[2]float64{lo, hi}
+					n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
+				}
+			}
+			if p := s.Supply; p != nil {
+				hd := s.OpAmp.OutputHeadroomV
+				if n.Pin == PinInput {
+					hd = s.OpAmp.InputHeadroomV
+				}
+				lim := [2]float64{p.NegativeV + hd, p.PositiveV - hd}
+				room := math.Min(lim[1]-n.PeakV[1], n.PeakV[0]-lim[0])
+				n.LimitV, n.HeadroomV = &lim, &room
+				if sw.HeadroomV == nil || room < *sw.HeadroomV {
+					sw.HeadroomV = &room
+				}
+			}
+			sw.Nodes = append(sw.Nodes, n)
 		}
 		d.Sections[k].Swing = sw
 		for i, f := range freq {

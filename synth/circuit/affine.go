@@ -92,11 +92,15 @@ func (st Stage) Slopes(m Model, scaleRadPerSec float64) (PartSlopes, error) {
 		return PartSlopes{}, invalidf("scale %v rad/s is not finite and > 0", scale)
 	}
 	sys := compile(st, m, t, natural)
-	ss := newSlopeSampler(sys, st, t, rn)
+	// Slopes of the stage's own parts only: the parasitic parts are in
+	// the nominal system but have no figure.
+	own := st
+	own.Parts = st.Parts[:nReal]
+	ss := newSlopeSampler(sys, own, t, rn)
 	// A capacitor's slopes carry its admittance's factor p: no constant
 	// term.
-	lo := make([]int, 2+2*len(st.Parts))
-	for j, p := range st.Parts {
+	lo := make([]int, 2+2*nReal)
+	for j, p := range own.Parts {
 		if p.Kind == Capacitor {
 			lo[2+2*j], lo[3+2*j] = 1, 1
 		}

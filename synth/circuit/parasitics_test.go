@@ -98,3 +98,46 @@ func TestModelRejectsBadParasitics(t *testing.T) {
 		require.ErrorIs(t, m.Validate(), circuit.ErrInvalid, "%+v", m)
 	}
 }
+
+// TestNodeTransferFunctions checks the shared-interpolation node transfers
+// against each node's own (NodeTransferFunction) and, for the output,
+// against the stage's transfer function, on a Sallen-Key stage with the
+// parasitics set.
+func TestNodeTransferFunctions(t *testing.T) {
+	t.Parallel()
+	st := circuittest.SallenKeyLP(skR1, skR2, skC1, skC2)
+	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, InputCapacitanceFarad: 3e-12, OutputResistanceOhm: 50}
+	var nodes []string
+	for _, p := range st.Parts {
+		for _, n := range []string{p.A, p.B} {
+			if n != circuit.Ground && !containsNode(nodes, n) {
+				nodes = append(nodes, n)
+			}
+		}
+	}
+	all, err := st.NodeTransferFunctions(m, nodes)
+	require.NoError(t, err)
+	out, err := st.TransferFunction(m)
+	require.NoError(t, err)
+	for i, n := range nodes {
+		one, err := st.NodeTransferFunction(m, n, 0)
+		require.NoError(t, err)
+		for _, f := range []float64{10, 300, 1e3, 3e3, 1e5, 1e6} {
+			require.Less(t, relErr(all[i].AtHz(f), one.AtHz(f)), 1e-9, "node %s at %g Hz", n, f)
+			if n == st.Out {
+				require.Less(t, relErr(all[i].AtHz(f), out.AtHz(f)), 1e-9, "output at %g Hz", f)
+			}
+		}
+	}
+	_, err = st.NodeTransferFunctions(m, []string{"nowhere"})
+	require.ErrorIs(t, err, circuit.ErrInvalid)
+}
+
+func containsNode(ns []string, n string) bool {
+	for _, x := range ns {
+		if x == n {
+			return true
+		}
+	}
+	return false
+}

@@ -2,9 +2,10 @@ package circuit
 
 import (
 	"fmt"
-	"github.com/polewright/polewright/synth/internal/lu"
 	"math"
 	"slices"
+
+	"github.com/polewright/polewright/synth/internal/lu"
 )
 
 // Interpolation tuning (see the package documentation, # Analysis).
@@ -73,6 +74,72 @@ func (st Stage) NodeTransferFunction(m Model, node string, scaleRadPerSec float6
 		return Rational{}, invalidf("no node %q", node)
 	}
 	return st.nodeTransfer(m, t, scaleRadPerSec, node)
+}
+
+// NodeTransferFunctions is [Stage.NodeTransferFunction] for several nodes
+// at once, at the stage's natural scale: one LU of the nodal matrix per
+// interpolation point gives every node's voltage (det A times it is the
+// node's numerator, a cofactor), so the cost is about that of one
+// transfer function. The rationals share the denominator.
+func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, error) {
+	if err := m.Validate(); err != nil {
+		return nil, err
+	}
+	t, err := st.check()
+	if err != nil {
+		return nil, err
+	}
+	for _, node := range nodes {
+		if node == Ground || t.index(node) < 0 {
+			return nil, invalidf("no node %q", node)
+		}
+	}
+	nOps := len(st.OpAmps)
+	st, t = st.withParasitics(m, t)
+	scale, _ := stageScale(st, m)
+	sys := compile(st, m, t, scale)
+	cols := make([]int, len(nodes))
+	for i, node := range nodes {
+		cols[i] = t.unknown(node)
+	}
+	coef := sys.interpolateAll(1+len(nodes), func(p complex128, v []complex128) {
+		sys.fill(p)
+		det := lu.Factor(sys.a, sys.n, sys.piv)
+		v[0] = det
+		if det != 0 {
+			clear(sys.x)
+			sys.x[sys.srcRow] = 1
+			lu.Solve(sys.a, sys.n, sys.piv, sys.x)
+			for i, c := range cols {
+				v[1+i] = det * sys.x[c]
+			}
+			return
+		}
+		for i, c := range cols { // Cramer's rule directly: A is singular here
+			sys.outCol = c
+			_, v[1+i] = sys.detNum(p)
+		}
+	})
+	den := coef[0]
+	lo := slices.IndexFunc(den, func(v float64) bool { return v != 0 })
+	if lo < 0 {
+		return nil, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
+	}
+	d := den[lo]
+	for _, c := range coef {
+		for j := range c {
+			c[j] /= d
+		}
+	}
+	order := len(trimPoly(den)) - 1
+	if !m.Ideal {
+		order = max(0, order-nOps)
+	}
+	out := make([]Rational, len(nodes))
+	for i := range nodes {
+		out[i] = Rational{Num: trimPoly(coef[1+i]), Den: trimPoly(slices.Clone(den)), ScaleRadPerSec: scale, SectionOrder: order}
+	}
+	return out, nil
 }
 
 // transferFunction is TransferFunctionScaled for a valid stage with node
