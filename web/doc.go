@@ -94,8 +94,9 @@
 // are drawn; a nil one leaves its part out of the page. The SVG they write
 // is inlined into the page with its XML prolog removed. A Plots that also
 // implements [NoisePlots] draws the noise density plot, which the page
-// shows and offers as GET /download/noise-svg (a download of the page's
-// own, not an export kind of package export).
+// shows and offers as GET /download/noise-svg. A downloaded SVG carries
+// a <title> and the spec ([export.LabelSVG]) and every download is named
+// after the design ([export.DesignFileName]).
 //
 // # Hardening
 //

@@ -50,8 +50,8 @@ type Plots interface {
 
 // NoisePlots is what a [Plots] may also draw: the output noise density.
 // When Deps.Plots implements it, the result page shows the noise plot and
-// offers it as the download noise-svg (a kind of the page's own, not of
-// package export).
+// offers it as the download noise-svg (the export kind, drawn as the
+// page draws it).
 type NoisePlots interface {
 	// Noise writes the output noise density plot of d, which has
 	// d.Noise.

@@ -70,3 +70,28 @@ func TestExportExamples(t *testing.T) {
 		})
 	}
 }
+
+// TestExportSVGKinds checks that every SVG kind is written by the CLI as
+// the API writes it (package export, shared), with its title and spec.
+func TestExportSVGKinds(t *testing.T) {
+	t.Parallel()
+	spec := `{"approximation": "elliptic", "order": 5, "passband_hz": 20000, "stopband_hz": 25000, "passband_ripple_db": 0.5, "stopband_atten_db": 60}`
+	tests := []struct {
+		kind, title string
+	}{
+		{"noise-svg", "output noise density"},
+		{"schematic-svg", "schematic, every stage"},
+		{"bode-svg", "magnitude and phase"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.kind, func(t *testing.T) {
+			t.Parallel()
+			code, out, errOut := runCLI(t, spec, "export", "-spec", "-", "-as", tc.kind)
+			require.Equal(t, exitOK, code, errOut)
+			require.Empty(t, errOut)
+			require.True(t, strings.HasPrefix(out, "<?xml"), out[:min(len(out), 80)])
+			require.Contains(t, out, "<title>polewright: elliptic lowpass, order 5, passband 20 kHz, "+tc.title+"</title>")
+			require.Contains(t, out, `<desc>spec: {"response":"lowpass","approximation":"elliptic"`)
+		})
+	}
+}
