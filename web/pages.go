@@ -406,6 +406,7 @@ var downloadKinds = map[string]struct {
 	"step-svg":      {"Step response", "SVG", false, true},
 	"noise-svg":     {"Output noise", "SVG", true, true},
 	"schematic-svg": {"Schematic, every stage", "SVG", true, false},
+	"report":        {"Design report", "HTML, self-contained, prints to PDF", false, false},
 }
 
 // noiseKind is the export kind of the noise plot.

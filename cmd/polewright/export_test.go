@@ -95,3 +95,15 @@ func TestExportSVGKinds(t *testing.T) {
 		})
 	}
 }
+
+// TestExportReport checks that the CLI writes the report (one HTML file)
+// and names it in its usage.
+func TestExportReport(t *testing.T) {
+	t.Parallel()
+	spec := `{"approximation": "chebyshev1", "passband_hz": 1000, "stopband_hz": 3000, "passband_ripple_db": 0.5, "stopband_atten_db": 50, "order": 4}`
+	code, out, errOut := runCLI(t, spec, "export", "-spec", "-", "-as", "report")
+	require.Equal(t, exitOK, code, errOut)
+	require.True(t, strings.HasPrefix(out, "<!DOCTYPE html>"))
+	require.Contains(t, out, "<title>Filter design report: chebyshev1 lowpass, order 4, passband 1 kHz</title>")
+	require.True(t, strings.HasSuffix(out, "</html>\n"))
+}

@@ -18,7 +18,7 @@ import (
 )
 
 // Kinds are the export kinds, as the CLI's -as and the API's ?as= take them.
-var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg"}
+var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report"}
 
 // ErrKind is returned by [Write] for a kind not in [Kinds].
 var ErrKind = errors.New("export: unknown kind")
@@ -49,6 +49,8 @@ func ContentType(kind string) string {
 		return "text/csv; charset=utf-8"
 	case "json":
 		return "application/json"
+	case "report":
+		return "text/html; charset=utf-8"
 	}
 	if IsSVG(kind) {
 		return "image/svg+xml"
@@ -91,6 +93,8 @@ func Write(w io.Writer, d *synth.Design, kind string) error {
 		err = writePlot(&buf, d, kind)
 	case "schematic-svg":
 		err = writeSchematics(&buf, d)
+	case "report":
+		err = writeReport(&buf, d)
 	default:
 		return fmt.Errorf("%w %q (kinds: %s)", ErrKind, kind, strings.Join(Kinds, ", "))
 	}

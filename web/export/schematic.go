@@ -35,8 +35,13 @@ func StageTitle(d *synth.Design, ch circuit.Chain, k int) string {
 // StageSVG writes the schematic of stage k (1-based) of ch, labelled with
 // the chain-wide designators and captioned with [StageTitle].
 func StageSVG(w io.Writer, d *synth.Design, ch circuit.Chain, k int) error {
+	return stageSVG(w, d, ch, k, StageTitle(d, ch, k))
+}
+
+// stageSVG writes stage k's schematic with title drawn above it ("": none).
+func stageSVG(w io.Writer, d *synth.Design, ch circuit.Chain, k int, title string) error {
 	return schematic.Stage(w, ch.Stages[k-1], schematic.Options{
-		Title: StageTitle(d, ch, k),
+		Title: title,
 		Refs:  func(local string) string { return ch.Ref(k, local) },
 	})
 }
