@@ -407,6 +407,7 @@ var downloadKinds = map[string]struct {
 	"noise-svg":     {"Output noise", "SVG", true, true},
 	"schematic-svg": {"Schematic, every stage", "SVG", true, false},
 	"report":        {"Design report", "HTML, self-contained, prints to PDF", false, false},
+	"parts":         {"Part list", "CSV, grouped by value, with the op-amp's needs", true, false},
 }
 
 // noiseKind is the export kind of the noise plot.

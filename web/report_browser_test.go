@@ -12,6 +12,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/chromedp/cdproto/cdp"
+	"github.com/chromedp/cdproto/emulation"
 	"github.com/chromedp/chromedp"
 	"github.com/stretchr/testify/require"
 )
@@ -62,8 +64,25 @@ func TestReportBrowser(t *testing.T) {
 	require.Positive(t, stages)
 	require.Equal(t, 4+stages, svgs, "four plots and one schematic per stage, drawn")
 	step(t, ctx, "phone", chromedp.EmulateViewport(390, 844, chromedp.EmulateMobile))
-	overflow := step(t, ctx, "overflow", chromedp.Evaluate[int](`document.documentElement.scrollWidth - window.innerWidth`))
-	require.LessOrEqual(t, overflow, 0, "no sideways scrolling of the report on a phone")
+	// Against the device's width: a mobile viewport widens itself to
+	// content that overflows it.
+	width := step(t, ctx, "width", chromedp.Evaluate[float64](`document.documentElement.scrollWidth`))
+	require.LessOrEqual(t, width, 390.0, "no sideways scrolling of the report on a phone")
+	// In print, on an A4 page's width (186 mm between the margins, about
+	// 700 CSS px), no table or drawing runs past the page's content box.
+	step(t, ctx, "print media", chromedp.Steps(
+		chromedp.EmulateViewport(700, 1000),
+		chromedp.Func(func(ctx context.Context, tg *chromedp.Target) error {
+			_, err := cdp.Call(ctx, tg, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: "print"})
+			return err
+		}),
+	))
+	cut := step(t, ctx, "print widths", chromedp.Evaluate[[]string](`(() => {
+		const right = document.body.getBoundingClientRect().right + 0.5;
+		return [...document.querySelectorAll("table, svg, pre")].filter(e => e.getBoundingClientRect().right > right)
+			.map(e => e.tagName + "." + (e.getAttribute("class") || "") + " " + Math.round(e.getBoundingClientRect().width));
+	})()`))
+	require.Empty(t, cut, "everything fits the printed page's width")
 	mu.Lock()
 	for _, p := range paths {
 		if p != "/favicon.ico" { // the browser's own habit, not the report's

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"html"
 	"io"
 	"log/slog"
 	"net/http"
@@ -570,6 +571,32 @@ func TestStageTableRows(t *testing.T) {
 			t.Parallel()
 			body := do(t, h, "GET", "/design?"+tc.query, "").Body.String()
 			require.Equal(t, sectionCount(t, tc.spec), strings.Count(body, `data-testid="stage-row"`))
+		})
+	}
+}
+
+// TestPageDownloads checks that the result page offers every export kind
+// as a download named after the design, and that each link serves that
+// kind.
+func TestPageDownloads(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	const query = "approximation=elliptic&passband_hz=20000&stopband_hz=28000&passband_ripple_db=0.1&stopband_atten_db=80"
+	page := do(t, h, "GET", "/design?"+query, "").Body.String()
+	spec, err := synth.ParseSpecBytes([]byte(`{"approximation": "elliptic", "passband_hz": 20000, "stopband_hz": 28000, "passband_ripple_db": 0.1, "stopband_atten_db": 80}`))
+	require.NoError(t, err)
+	d, err := synth.Synthesize(context.Background(), spec)
+	require.NoError(t, err)
+	for _, kind := range export.Kinds {
+		t.Run(kind, func(t *testing.T) {
+			t.Parallel()
+			re := regexp.MustCompile(`<a href="(/download/` + regexp.QuoteMeta(kind) + `\?[^"]*)" download="([^"]*)" data-kind="` + regexp.QuoteMeta(kind) + `"`)
+			m := re.FindStringSubmatch(page)
+			require.NotNil(t, m, "the page offers %s", kind)
+			require.Equal(t, export.DesignFileName(d, kind), m[2])
+			rec := do(t, h, "GET", html.UnescapeString(m[1]), "")
+			require.Equal(t, http.StatusOK, rec.Code)
+			require.Equal(t, export.ContentType(kind), rec.Header().Get("Content-Type"))
 		})
 	}
 }

@@ -18,7 +18,7 @@ import (
 )
 
 // Kinds are the export kinds, as the CLI's -as and the API's ?as= take them.
-var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report"}
+var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report", "parts"}
 
 // ErrKind is returned by [Write] for a kind not in [Kinds].
 var ErrKind = errors.New("export: unknown kind")
@@ -45,7 +45,7 @@ func ContentType(kind string) string {
 	switch kind {
 	case "spice":
 		return "application/x-spice; charset=utf-8"
-	case "bom":
+	case "bom", "parts":
 		return "text/csv; charset=utf-8"
 	case "json":
 		return "application/json"
@@ -95,6 +95,8 @@ func Write(w io.Writer, d *synth.Design, kind string) error {
 		err = writeSchematics(&buf, d)
 	case "report":
 		err = writeReport(&buf, d)
+	case "parts":
+		err = writeParts(&buf, d)
 	default:
 		return fmt.Errorf("%w %q (kinds: %s)", ErrKind, kind, strings.Join(Kinds, ", "))
 	}

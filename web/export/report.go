@@ -54,6 +54,8 @@ type report struct {
 	Stages          []reportStage
 	BOMHeader       []string
 	BOM             [][]string
+	PartsHeader     []string
+	Parts           [][]string
 	Noise           []pair
 	Contributors    []pair
 	Yield           []pair
@@ -211,6 +213,16 @@ func newReport(d *synth.Design) (*report, error) {
 		}
 		if len(rows) > 0 {
 			r.BOMHeader, r.BOM = rows[0], rows[1:]
+		}
+		var parts bytes.Buffer
+		if err := writeParts(&parts, d); err != nil {
+			return nil, err
+		}
+		if rows, err = csv.NewReader(&parts).ReadAll(); err != nil {
+			return nil, err
+		}
+		if len(rows) > 0 {
+			r.PartsHeader, r.Parts = rows[0], rows[1:]
 		}
 	}
 

@@ -102,6 +102,7 @@ func TestReport(t *testing.T) {
 				ref := strings.SplitN(line, ",", 2)[0]
 				require.Contains(t, page, "<td>"+ref+"</td>", "BOM row %s", ref)
 			}
+			require.Contains(t, page, `data-testid="parts"`)
 			if d.Noise != nil {
 				require.Contains(t, page, `data-testid="plot-noise"`)
 			}
