@@ -143,6 +143,7 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work)
 
 	r.Get("/", h.home)
+	r.Get("/favicon.ico", favicon)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
 		_, _ = io.WriteString(w, "ok\n")

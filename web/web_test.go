@@ -12,6 +12,7 @@ import (
 	"net/http"
 	"net/url"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -22,6 +23,7 @@ import (
 	"github.com/polewright/polewright/web"
 	"github.com/polewright/polewright/web/draw"
 	"github.com/polewright/polewright/web/export"
+	"github.com/polewright/polewright/web/static"
 )
 
 func TestRoutes(t *testing.T) {
@@ -598,5 +600,20 @@ func TestPageDownloads(t *testing.T) {
 			require.Equal(t, http.StatusOK, rec.Code)
 			require.Equal(t, export.ContentType(kind), rec.Header().Get("Content-Type"))
 		})
+	}
+}
+
+// TestFaviconRoute checks that /favicon.ico serves the embedded icon.
+func TestFaviconRoute(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	for _, method := range []string{"GET", "HEAD"} {
+		rec := do(t, h, method, "/favicon.ico", "")
+		require.Equal(t, http.StatusOK, rec.Code, method)
+		require.Equal(t, "image/x-icon", rec.Header().Get("Content-Type"))
+		require.Equal(t, strconv.Itoa(len(static.FaviconICO())), rec.Header().Get("Content-Length"))
+		if method == "GET" {
+			require.Equal(t, static.FaviconICO(), rec.Body.Bytes())
+		}
 	}
 }

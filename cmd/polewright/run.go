@@ -28,6 +28,13 @@ const (
 // run is the whole program behind main, with its streams passed in so that
 // tests can drive it.
 func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	if len(args) > 0 {
+		switch args[0] {
+		case "help", "-h", "-help", "--help":
+			fmt.Fprint(stdout, usageText())
+			return exitOK
+		}
+	}
 	cmd := "serve"
 	if len(args) > 0 && !strings.HasPrefix(args[0], "-") {
 		cmd, args = args[0], args[1:]
@@ -39,11 +46,8 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 		return design(ctx, args, stdin, stdout, stderr)
 	case "export":
 		return exportCmd(ctx, args, stdin, stdout, stderr)
-	case "help", "-h", "--help":
-		fmt.Fprint(stdout, usageText())
-		return exitOK
 	}
-	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export)\n", cmd)
+	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export, help)\n\n%s", clip(cmd), usageText())
 	return exitUsage
 }
 

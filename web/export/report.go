@@ -3,6 +3,7 @@ package export
 import (
 	"bytes"
 	"embed"
+	"encoding/base64"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
@@ -17,6 +18,7 @@ import (
 	"github.com/polewright/polewright/standards/si"
 	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/web/static"
 )
 
 //go:embed report.html report.css
@@ -37,13 +39,19 @@ var reportCSS = func() template.CSS {
 	return template.CSS(b)
 }()
 
+// reportIcon is the workbench's icon as a data: address.
+var reportIcon = template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(static.FaviconPNG()))
+
 // report is the view of a design that the report template renders: every
 // figure already formatted, every verdict sentence taken from the
 // design's checks as synth wrote it.
 type report struct {
 	Title, Job string
 	CSS        template.CSS
-	Mask       []pair
+	// Icon is the workbench's icon as a data: address, so that a
+	// browser asks for no favicon either.
+	Icon template.URL
+	Mask []pair
 	// Verdict is the text of the built-mask check (the ideal-mask check
 	// without a circuit); VerdictOK and VerdictSeverity are its.
 	Verdict         string
@@ -102,6 +110,7 @@ func newReport(d *synth.Design) (*report, error) {
 	r := &report{
 		Title: "Filter design report: " + Describe(d),
 		CSS:   reportCSS,
+		Icon:  reportIcon,
 	}
 	r.Job = job(d)
 	r.Mask = maskPairs(d)
