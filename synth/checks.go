@@ -94,7 +94,7 @@ func finiteOr(v, alt float64) float64 {
 
 // fillChecks computes every check whose inputs the design carries, in a
 // fixed order: ideal-mask, built-mask, yield, alias, noise, settling,
-// slew, opamp-gbw.
+// slew, opamp-gbw, then the safety cautions that apply (cautions.go).
 func (d *Design) fillChecks() {
 	d.Checks = []Check{d.idealMaskCheck()}
 	if d.Built != nil {
@@ -118,6 +118,7 @@ func (d *Design) fillChecks() {
 	if c, ok := d.opAmpGBWCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
+	d.Checks = append(d.Checks, d.cautionChecks()...)
 }
 
 // idealMaskCheck judges the ideal response (meets_mask).

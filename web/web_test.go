@@ -617,3 +617,30 @@ func TestFaviconRoute(t *testing.T) {
 		}
 	}
 }
+
+// TestPageCautions checks that the result page shows synth's safety
+// cautions for the workbench issue's case, a 50 Hz mains notch at
+// 100 Vpp, with synth's sentences, and none for a low-voltage lowpass.
+func TestPageCautions(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	const spec = `{"response": "bandstop", "passband_hz": [40, 62], "stopband_hz": [48, 52], "passband_ripple_db": 3, "stopband_atten_db": 30,
+		"gain_db": -20, "converter": {"bits": 16, "sample_rate_hz": 1000, "full_scale_vpp": 10}, "resistor_range_ohm": [1000, 10000000]}`
+	s, err := synth.ParseSpecBytes([]byte(spec))
+	require.NoError(t, err)
+	d, err := synth.Synthesize(context.Background(), s)
+	require.NoError(t, err)
+	page := do(t, h, "GET", "/design?response=bandstop&passband_hz=40,62&stopband_hz=48,52&passband_ripple_db=3&stopband_atten_db=30&gain_db=-20"+
+		"&converter_bits=16&converter_sample_rate_hz=1000&converter_full_scale_vpp=10&resistor_range_ohm=1000,10000000", "").Body.String()
+	found := 0
+	for _, c := range d.Checks {
+		if c.ID == synth.CheckSafetyVoltage || c.ID == synth.CheckSafetyMains {
+			found++
+			require.Contains(t, page, `data-testid="check-`+c.ID+`"`)
+			require.Contains(t, page, html.EscapeString(c.Text))
+		}
+	}
+	require.Equal(t, 2, found, "both cautions apply")
+	plain := do(t, h, "GET", "/design?passband_hz=1000&stopband_hz=4000", "").Body.String()
+	require.NotContains(t, plain, `data-testid="check-safety-`)
+}

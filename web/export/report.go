@@ -244,6 +244,11 @@ func newReport(d *synth.Design) (*report, error) {
 			{"Part tolerances drawn", fmt.Sprintf("resistors %g %%, capacitors %g %%, %s", s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, s.Tolerance.Distribution)},
 		}
 	}
+	for _, c := range d.Checks {
+		if c.ID == synth.CheckSafetyVoltage || c.ID == synth.CheckSafetyMains {
+			r.Cautions = append(r.Cautions, c.Text)
+		}
+	}
 	r.Cautions = append(r.Cautions, generalCaution)
 	return r, nil
 }

@@ -21,6 +21,9 @@ var reportSpecs = []struct{ name, spec string }{
 		"converter": {"bits": 16, "sample_rate_hz": 96000, "full_scale_vpp": 4}, "montecarlo": {"trials": 200, "seed": 3}}`},
 	{"bandpass", bandSpec},
 	{"ideal op-amp", `{"approximation": "bessel", "order": 4, "passband_hz": 1000, "opamp": {"ideal": true}}`},
+	// The workbench issue's case: a 50 Hz mains notch at 100 Vpp.
+	{"mains notch at 100 Vpp", `{"response": "bandstop", "passband_hz": [40, 62], "stopband_hz": [48, 52], "passband_ripple_db": 3, "stopband_atten_db": 30,
+		"gain_db": -20, "converter": {"bits": 16, "sample_rate_hz": 1000, "full_scale_vpp": 10}, "resistor_range_ohm": [1000, 10000000]}`},
 	{"exact highpass", `{"response": "highpass", "approximation": "chebyshev2", "passband_hz": 300, "stopband_hz": 100, "values": "exact"}`},
 }
 
@@ -88,9 +91,17 @@ func TestReport(t *testing.T) {
 				require.Greater(t, i, last, "%s after the section before it", id)
 				last = i
 			}
+			cautions := page[strings.Index(page, `data-testid="cautions"`):]
 			for _, c := range d.Checks {
 				require.Contains(t, page, `data-testid="check-`+c.ID+`"`)
 				require.Contains(t, page, html.EscapeString(c.Text), "the check's sentence from synth")
+				if strings.HasPrefix(c.ID, "safety-") {
+					require.Contains(t, cautions, `<p class="caution">`+html.EscapeString(c.Text)+`</p>`, "a caution in the cautions section")
+				}
+			}
+			require.Contains(t, cautions, "local electrical codes")
+			if strings.HasPrefix(tc.name, "mains notch") {
+				require.Equal(t, 3, strings.Count(cautions, `<p class="caution">`), "voltage, mains and the general note")
 			}
 
 			ch, err := d.Chain()
