@@ -153,6 +153,7 @@ func BenchmarkReport(b *testing.B) {
 		{"elliptic-8", `{"approximation": "elliptic", "order": 8, "passband_hz": 20000, "stopband_hz": 22000, "passband_ripple_db": 0.1, "stopband_atten_db": 80}`},
 		{"elliptic-8-converter", `{"approximation": "elliptic", "order": 8, "passband_hz": 20000, "stopband_hz": 22000, "passband_ripple_db": 0.1, "stopband_atten_db": 80,
 			"converter": {"bits": 16, "sample_rate_hz": 96000, "full_scale_vpp": 4}, "montecarlo": {"trials": 200, "seed": 1}}`},
+		{"bandpass-chebyshev1-10", `{"response": "bandpass", "approximation": "chebyshev1", "order": 10, "passband_hz": [1000, 3000], "passband_ripple_db": 0.5}`},
 	} {
 		d := design(b, bc.spec)
 		b.Run(bc.name, func(b *testing.B) {
