@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -66,6 +68,12 @@ func TestExportExamples(t *testing.T) {
 				var val float64
 				_, err = fmt.Sscan(row[2], &val)
 				require.NoError(t, err)
+				// The same value as the element in the deck ngspice ran.
+				m := regexp.MustCompile(`(?m)^` + ref + ` \S+ \S+ (\S+)$`).FindStringSubmatch(deck)
+				require.NotNil(t, m, "%s in the deck", ref)
+				inDeck, err := strconv.ParseFloat(m[1], 64)
+				require.NoError(t, err)
+				require.InEpsilon(t, inDeck, val, 1e-11, "%s: BOM %s, deck %s", ref, row[2], m[1])
 				require.True(t, series.Contains(val), "%s = %s is not an %s value", ref, row[2], row[4])
 			}
 		})
