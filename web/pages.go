@@ -121,26 +121,25 @@ func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formV
 // plot is the one the page shows, and labelled as [export.Write] labels
 // its SVGs; everything else goes through Deps.Export.
 func (h *handler) export(w io.Writer, d *synth.Design, kind string) error {
-	draw := func(p Plots, w io.Writer, d *synth.Design) error { return nil }
-	found := false
+	var draw func(io.Writer) error // nil: not a plot Deps.Plots draws
 	if p := h.deps.Plots; p != nil {
 		for _, pk := range plotKinds {
 			if pk.kind == kind {
-				draw, found = pk.draw, true
+				draw = func(w io.Writer) error { return pk.draw(p, w, d) }
 			}
 		}
 		if np, ok := p.(NoisePlots); ok && kind == noiseKind {
 			if d.Noise == nil {
 				return export.ErrNoNoise
 			}
-			draw, found = func(_ Plots, w io.Writer, d *synth.Design) error { return np.Noise(w, d) }, true
+			draw = func(w io.Writer) error { return np.Noise(w, d) }
 		}
 	}
-	if !found {
+	if draw == nil {
 		return h.deps.Export(w, d, kind)
 	}
 	var buf bytes.Buffer
-	if err := draw(h.deps.Plots, &buf, d); err != nil {
+	if err := draw(&buf); err != nil {
 		return err
 	}
 	_, err := w.Write(export.LabelSVG(buf.Bytes(), d, kind))
