@@ -97,7 +97,7 @@ func finiteOr(v, alt float64) float64 {
 
 // fillChecks computes every check whose inputs the design carries, in a
 // fixed order: ideal-mask, built-mask, yield, alias, noise, settling,
-// slew, opamp-gbw.
+// slew, opamp-gbw, then the safety cautions that apply (cautions.go).
 func (d *Design) fillChecks() {
 	d.Checks = []Check{d.idealMaskCheck()}
 	if d.Built != nil {
@@ -129,6 +129,7 @@ func (d *Design) fillChecks() {
 	if c, ok := d.dcErrorCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
+	d.Checks = append(d.Checks, d.cautionChecks()...)
 }
 
 // swingCheck judges the op-amp outputs (pin "output": the swing check)

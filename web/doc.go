@@ -6,12 +6,12 @@
 //	GET  /                       the spec form (with the converter helper)
 //	GET  /design?QUERY           the result page of the spec in QUERY (a permalink)
 //	GET  /design/progress?QUERY  the same design as server-sent events (progress, then done or error)
-//	GET  /download/KIND?QUERY    one export of that design as a file
-//	GET  /download/noise-svg?QUERY  its noise density plot (the page's own)
+//	GET  /download/KIND?QUERY    one export of that design as a file named after it
 //	POST /api/v1/design          spec JSON in, design JSON out
 //	POST /api/v1/export?as=KIND  spec JSON in, the export out
 //	GET  /static/...             the embedded style sheet and script
 //	GET  /healthz                "ok", for probes
+//	GET  /favicon.ico            the workbench's icon
 //
 // Every GET route answers HEAD as well; a method a path does not take is
 // answered 405 with Allow naming those it does.
@@ -94,8 +94,9 @@
 // are drawn; a nil one leaves its part out of the page. The SVG they write
 // is inlined into the page with its XML prolog removed. A Plots that also
 // implements [NoisePlots] draws the noise density plot, which the page
-// shows and offers as GET /download/noise-svg (a download of the page's
-// own, not an export kind of package export).
+// shows and offers as GET /download/noise-svg. A downloaded SVG carries
+// a <title> and the spec ([export.LabelSVG]) and every download is named
+// after the design ([export.DesignFileName]).
 //
 // # Hardening
 //

@@ -68,13 +68,10 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 	h.render(w, r, http.StatusOK, components.DesignPage(buildForm(vals, nil), res))
 }
 
-// download serves one export of the spec in the query as a file.
+// download serves one export of the spec in the query as a file, named
+// after the design ([export.DesignFileName]).
 func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 	kind := chi.URLParam(r, "kind")
-	if np, ok := h.deps.Plots.(NoisePlots); ok && kind == noiseKind {
-		h.downloadNoise(w, r, np)
-		return
-	}
 	if !export.Known(kind) {
 		h.fail(w, r, http.StatusNotFound, fmt.Sprintf("there is no download %q (kinds: %s)", clip(kind), strings.Join(export.Kinds, ", ")), "")
 		return
@@ -93,33 +90,7 @@ func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	w.Header().Set("Content-Type", export.ContentType(kind))
-	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", export.FileName(kind)))
-	w.Header().Set("Cache-Control", "no-store")
-	_, _ = w.Write(buf.Bytes())
-}
-
-// downloadNoise serves the noise plot of the spec in the query. It is the
-// page's own download, drawn by Deps.Plots, not an export kind.
-func (h *handler) downloadNoise(w http.ResponseWriter, r *http.Request, np NoisePlots) {
-	_, d, ok := h.designFromQuery(w, r)
-	if !ok {
-		return
-	}
-	if d.Noise == nil {
-		h.fail(w, r, http.StatusNotImplemented, "this design has no noise analysis (it needs the circuit)", "")
-		return
-	}
-	var buf bytes.Buffer
-	err := np.Noise(&buf, d)
-	if err == nil {
-		err = r.Context().Err() // the deadline crossed while drawing
-	}
-	if err != nil {
-		h.synthFailed(w, r, err)
-		return
-	}
-	w.Header().Set("Content-Type", "image/svg+xml")
-	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", noiseFileName))
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", export.DesignFileName(d, kind)))
 	w.Header().Set("Cache-Control", "no-store")
 	_, _ = w.Write(buf.Bytes())
 }
@@ -146,22 +117,33 @@ func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formV
 }
 
 // export writes d as kind. The plot kinds are drawn by Deps.Plots when it
-// is set, so that a downloaded plot is the one the page shows; everything
-// else goes through Deps.Export.
+// is set (noise-svg when it is also a [NoisePlots]), so that a downloaded
+// plot is the one the page shows, and labelled as [export.Write] labels
+// its SVGs; everything else goes through Deps.Export.
 func (h *handler) export(w io.Writer, d *synth.Design, kind string) error {
+	var draw func(io.Writer) error // nil: not a plot Deps.Plots draws
 	if p := h.deps.Plots; p != nil {
 		for _, pk := range plotKinds {
 			if pk.kind == kind {
-				var buf bytes.Buffer
-				if err := pk.draw(p, &buf, d); err != nil {
-					return err
-				}
-				_, err := w.Write(buf.Bytes())
-				return err
+				draw = func(w io.Writer) error { return pk.draw(p, w, d) }
 			}
 		}
+		if np, ok := p.(NoisePlots); ok && kind == noiseKind {
+			if d.Noise == nil {
+				return export.ErrNoNoise
+			}
+			draw = func(w io.Writer) error { return np.Noise(w, d) }
+		}
 	}
-	return h.deps.Export(w, d, kind)
+	if draw == nil {
+		return h.deps.Export(w, d, kind)
+	}
+	var buf bytes.Buffer
+	if err := draw(&buf); err != nil {
+		return err
+	}
+	_, err := w.Write(export.LabelSVG(buf.Bytes(), d, kind))
+	return err
 }
 
 // synthFailed answers a failure that is not the spec's fault: designing,
@@ -181,6 +163,10 @@ func (h *handler) synthFailed(w http.ResponseWriter, r *http.Request, err error)
 func (h *handler) exportFailed(w http.ResponseWriter, r *http.Request, kind string, err error) {
 	if errors.Is(err, synth.ErrNoCircuit) {
 		h.fail(w, r, http.StatusNotImplemented, kind+" needs the circuit of the design, which this build does not map yet", "")
+		return
+	}
+	if errors.Is(err, export.ErrNoNoise) {
+		h.fail(w, r, http.StatusNotImplemented, "this design has no noise analysis (it needs the circuit)", "")
 		return
 	}
 	h.synthFailed(w, r, err)
@@ -411,38 +397,30 @@ var downloadKinds = map[string]struct {
 	label, detail  string
 	circuit, plots bool
 }{
-	"spice":     {"SPICE deck", "runs in ngspice batch mode", true, false},
-	"bom":       {"Bill of materials", "CSV", true, false},
-	"json":      {"Design", "JSON", false, false},
-	"bode-svg":  {"Magnitude and phase", "SVG", false, true},
-	"delay-svg": {"Group delay", "SVG", false, true},
-	"step-svg":  {"Step response", "SVG", false, true},
+	"spice":         {"SPICE deck", "runs in ngspice batch mode", true, false},
+	"bom":           {"Bill of materials", "CSV", true, false},
+	"json":          {"Design", "JSON", false, false},
+	"bode-svg":      {"Magnitude and phase", "SVG", false, true},
+	"delay-svg":     {"Group delay", "SVG", false, true},
+	"step-svg":      {"Step response", "SVG", false, true},
+	"noise-svg":     {"Output noise", "SVG", true, true},
+	"schematic-svg": {"Schematic, every stage", "SVG", true, false},
+	"report":        {"Design report", "HTML, self-contained, prints to PDF", false, false},
+	"parts":         {"Part list", "CSV, grouped by value, with the op-amp's needs", true, false},
 }
 
-// The noise plot's download: a kind of the page's own, not of package
-// export.
-const (
-	noiseKind     = "noise-svg"
-	noiseFileName = "polewright-noise.svg"
-)
+// noiseKind is the export kind of the noise plot.
+const noiseKind = "noise-svg"
 
-// noiseLink is the address of the noise plot's download for the query.
-func noiseLink(query string) components.Link {
-	return components.Link{
-		Label: "Output noise", Detail: "SVG",
-		Href:     "/download/" + noiseKind + "?" + query,
-		Download: noiseFileName, Kind: noiseKind,
-	}
-}
-
-// downloadLink is the address of the download of kind for the query.
-func downloadLink(kind, query string) components.Link {
+// downloadLink is the address of the download of kind of d, whose spec
+// query holds.
+func downloadLink(d *synth.Design, kind, query string) components.Link {
 	k := downloadKinds[kind]
 	return components.Link{
 		Label:    k.label,
 		Detail:   k.detail,
 		Href:     "/download/" + url.PathEscape(kind) + "?" + query,
-		Download: export.FileName(kind),
+		Download: export.DesignFileName(d, kind),
 		Kind:     kind,
 	}
 }

@@ -83,7 +83,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 				}
 				plots[i] = components.Plot{
 					Title: pk.title, Caption: pk.caption, SVG: svg, TestID: "plot-" + pk.kind,
-					Download: downloadLink(pk.kind, query),
+					Download: downloadLink(d, pk.kind, query),
 				}
 				plots[i].Download.Label = "Download SVG"
 			})
@@ -100,7 +100,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 			noisePlot = &components.Plot{
 				Title:   "Output noise density",
 				Caption: "Output noise density of the circuit as built; dashed: the converter's quantisation noise LSB/√12 spread evenly over 0 to fs/2, when a converter is given.",
-				SVG:     svg, TestID: "plot-" + noiseKind, Download: noiseLink(query),
+				SVG:     svg, TestID: "plot-" + noiseKind, Download: downloadLink(d, noiseKind, query),
 			}
 			noisePlot.Download.Label = "Download SVG"
 		})
@@ -151,10 +151,10 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		if (k.circuit && !hasChain) || (k.plots && h.deps.Plots == nil) {
 			continue
 		}
-		res.Downloads = append(res.Downloads, downloadLink(kind, query))
-	}
-	if _, ok := h.deps.Plots.(NoisePlots); ok && d.Noise != nil {
-		res.Downloads = append(res.Downloads, noiseLink(query))
+		if _, ok := h.deps.Plots.(NoisePlots); kind == noiseKind && (!ok || d.Noise == nil) {
+			continue
+		}
+		res.Downloads = append(res.Downloads, downloadLink(d, kind, query))
 	}
 	return res, nil
 }

@@ -50,8 +50,8 @@ type Plots interface {
 
 // NoisePlots is what a [Plots] may also draw: the output noise density.
 // When Deps.Plots implements it, the result page shows the noise plot and
-// offers it as the download noise-svg (a kind of the page's own, not of
-// package export).
+// offers it as the download noise-svg (the export kind, drawn as the
+// page draws it).
 type NoisePlots interface {
 	// Noise writes the output noise density plot of d, which has
 	// d.Noise.
@@ -151,6 +151,7 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	stream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admit, work)
 
 	r.Get("/", h.home)
+	r.Get("/favicon.ico", favicon)
 	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
 		_, _ = io.WriteString(w, "ok\n")

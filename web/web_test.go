@@ -5,11 +5,14 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"fmt"
+	"html"
 	"io"
 	"log/slog"
 	"net/http"
 	"net/url"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -20,6 +23,7 @@ import (
 	"github.com/polewright/polewright/web"
 	"github.com/polewright/polewright/web/draw"
 	"github.com/polewright/polewright/web/export"
+	"github.com/polewright/polewright/web/static"
 )
 
 func TestRoutes(t *testing.T) {
@@ -171,27 +175,28 @@ func TestExports(t *testing.T) {
 		t.Run(kind, func(t *testing.T) {
 			t.Parallel()
 			var want bytes.Buffer
+			if err := export.Write(&want, d, kind); err != nil {
+				t.Skipf("export %s is not available in this build: %v", kind, err)
+			}
+			if export.IsSVG(kind) {
+				require.Contains(t, want.String(), "<title>polewright: ", "every SVG export carries a title")
+				require.Contains(t, want.String(), "<desc>spec: {", "and the spec")
+			}
+			var page bytes.Buffer
 			var err error
 			switch kind {
 			case "bode-svg":
-				err = plots.Bode(&want, d)
+				err = plots.Bode(&page, d)
 			case "delay-svg":
-				err = plots.GroupDelay(&want, d)
+				err = plots.GroupDelay(&page, d)
 			case "step-svg":
-				err = plots.Step(&want, d)
-			default:
-				err = export.Write(&want, d, kind)
+				err = plots.Step(&page, d)
+			case "noise-svg":
+				err = plots.Noise(&page, d)
 			}
-			if err != nil {
-				t.Skipf("export %s is not available in this build: %v", kind, err)
-			}
-			if strings.HasSuffix(kind, "-svg") {
-				var viaExport bytes.Buffer
-				if err := export.Write(&viaExport, d, kind); err == nil {
-					require.Equal(t, want.String(), viaExport.String(), "the page's plot download is the CLI's export")
-				} else {
-					t.Logf("export.Write cannot write %s yet (%v); the page draws it itself", kind, err)
-				}
+			require.NoError(t, err)
+			if page.Len() > 0 {
+				require.Equal(t, string(export.LabelSVG(page.Bytes(), d, kind)), want.String(), "the page's plot, labelled, is the CLI's export")
 			}
 			rec := do(t, h, "POST", "/api/v1/export?as="+kind, smallSpec)
 			require.Equal(t, http.StatusOK, rec.Code, rec.Body.String())
@@ -201,7 +206,7 @@ func TestExports(t *testing.T) {
 			rec = do(t, h, "GET", "/download/"+kind+"?passband_hz=1000&stopband_hz=4000&stopband_atten_db=40", "")
 			require.Equal(t, http.StatusOK, rec.Code, rec.Body.String())
 			require.Equal(t, export.ContentType(kind), rec.Header().Get("Content-Type"))
-			require.Contains(t, rec.Header().Get("Content-Disposition"), export.FileName(kind))
+			require.Equal(t, fmt.Sprintf("attachment; filename=%q", export.DesignFileName(d, kind)), rec.Header().Get("Content-Disposition"))
 			require.Equal(t, want.String(), rec.Body.String())
 		})
 	}
@@ -570,4 +575,72 @@ func TestStageTableRows(t *testing.T) {
 			require.Equal(t, sectionCount(t, tc.spec), strings.Count(body, `data-testid="stage-row"`))
 		})
 	}
+}
+
+// TestPageDownloads checks that the result page offers every export kind
+// as a download named after the design, and that each link serves that
+// kind.
+func TestPageDownloads(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	const query = "approximation=elliptic&passband_hz=20000&stopband_hz=28000&passband_ripple_db=0.1&stopband_atten_db=80"
+	page := do(t, h, "GET", "/design?"+query, "").Body.String()
+	spec, err := synth.ParseSpecBytes([]byte(`{"approximation": "elliptic", "passband_hz": 20000, "stopband_hz": 28000, "passband_ripple_db": 0.1, "stopband_atten_db": 80}`))
+	require.NoError(t, err)
+	d, err := synth.Synthesize(context.Background(), spec)
+	require.NoError(t, err)
+	for _, kind := range export.Kinds {
+		t.Run(kind, func(t *testing.T) {
+			t.Parallel()
+			re := regexp.MustCompile(`<a href="(/download/` + regexp.QuoteMeta(kind) + `\?[^"]*)" download="([^"]*)" data-kind="` + regexp.QuoteMeta(kind) + `"`)
+			m := re.FindStringSubmatch(page)
+			require.NotNil(t, m, "the page offers %s", kind)
+			require.Equal(t, export.DesignFileName(d, kind), m[2])
+			rec := do(t, h, "GET", html.UnescapeString(m[1]), "")
+			require.Equal(t, http.StatusOK, rec.Code)
+			require.Equal(t, export.ContentType(kind), rec.Header().Get("Content-Type"))
+		})
+	}
+}
+
+// TestFaviconRoute checks that /favicon.ico serves the embedded icon.
+func TestFaviconRoute(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	for _, method := range []string{"GET", "HEAD"} {
+		rec := do(t, h, method, "/favicon.ico", "")
+		require.Equal(t, http.StatusOK, rec.Code, method)
+		require.Equal(t, "image/x-icon", rec.Header().Get("Content-Type"))
+		require.Equal(t, strconv.Itoa(len(static.FaviconICO())), rec.Header().Get("Content-Length"))
+		if method == "GET" {
+			require.Equal(t, static.FaviconICO(), rec.Body.Bytes())
+		}
+	}
+}
+
+// TestPageCautions checks that the result page shows synth's safety
+// cautions for the workbench issue's case, a 50 Hz mains notch at
+// 100 Vpp, with synth's sentences, and none for a low-voltage lowpass.
+func TestPageCautions(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	const spec = `{"response": "bandstop", "passband_hz": [40, 62], "stopband_hz": [48, 52], "passband_ripple_db": 3, "stopband_atten_db": 30,
+		"gain_db": -20, "converter": {"bits": 16, "sample_rate_hz": 1000, "full_scale_vpp": 10}, "resistor_range_ohm": [1000, 10000000]}`
+	s, err := synth.ParseSpecBytes([]byte(spec))
+	require.NoError(t, err)
+	d, err := synth.Synthesize(context.Background(), s)
+	require.NoError(t, err)
+	page := do(t, h, "GET", "/design?response=bandstop&passband_hz=40,62&stopband_hz=48,52&passband_ripple_db=3&stopband_atten_db=30&gain_db=-20"+
+		"&converter_bits=16&converter_sample_rate_hz=1000&converter_full_scale_vpp=10&resistor_range_ohm=1000,10000000", "").Body.String()
+	found := 0
+	for _, c := range d.Checks {
+		if c.ID == synth.CheckSafetyVoltage || c.ID == synth.CheckSafetyMains {
+			found++
+			require.Contains(t, page, `data-testid="check-`+c.ID+`"`)
+			require.Contains(t, page, html.EscapeString(c.Text))
+		}
+	}
+	require.Equal(t, 2, found, "both cautions apply")
+	plain := do(t, h, "GET", "/design?passband_hz=1000&stopband_hz=4000", "").Body.String()
+	require.NotContains(t, plain, `data-testid="check-safety-`)
 }

@@ -15,6 +15,7 @@ import (
 	"strings"
 
 	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/web/export"
 )
 
 // Exit statuses.
@@ -27,6 +28,13 @@ const (
 // run is the whole program behind main, with its streams passed in so that
 // tests can drive it.
 func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	if len(args) > 0 {
+		switch args[0] {
+		case "help", "-h", "-help", "--help":
+			fmt.Fprint(stdout, usageText())
+			return exitOK
+		}
+	}
 	cmd := "serve"
 	if len(args) > 0 && !strings.HasPrefix(args[0], "-") {
 		cmd, args = args[0], args[1:]
@@ -38,23 +46,25 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 		return design(ctx, args, stdin, stdout, stderr)
 	case "export":
 		return exportCmd(ctx, args, stdin, stdout, stderr)
-	case "help", "-h", "--help":
-		fmt.Fprint(stdout, usage)
-		return exitOK
 	}
-	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export)\n", cmd)
+	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export, help)\n\n%s", clip(cmd), usageText())
 	return exitUsage
 }
 
-const usage = `polewright designs active analog filters.
+// usageText is the help of the command, with the export kinds of
+// package export.
+func usageText() string {
+	return `polewright designs active analog filters.
 
   polewright serve  [-addr 127.0.0.1:8080] [-host NAME]   the workbench in a browser
                    (it answers to localhost, 127.0.0.1, [::1], the -addr host and each -host NAME)
   polewright design -spec FILE [-trials N] [-seed S]   design as JSON on stdout
-  polewright export -spec FILE -as KIND      KIND: spice, bom, json, bode-svg, delay-svg, step-svg
+  polewright export -spec FILE -as KIND [-trials N] [-seed S]
+                   KIND: ` + strings.Join(export.Kinds, ", ") + `
 
 -spec - reads standard input.
 `
+}
 
 // newFlags returns a flag set that reports its errors in one line.
 func newFlags(name string, stderr io.Writer) *flag.FlagSet {
@@ -65,7 +75,7 @@ func newFlags(name string, stderr io.Writer) *flag.FlagSet {
 
 func flagError(stderr io.Writer, cmd string, err error) int {
 	if errors.Is(err, flag.ErrHelp) {
-		fmt.Fprint(stderr, usage)
+		fmt.Fprint(stderr, usageText())
 		return exitOK
 	}
 	fmt.Fprintf(stderr, "polewright %s: %v\n", cmd, err)

@@ -11,6 +11,8 @@ import (
 	"time"
 
 	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/web/export"
 )
 
 func runCLI(t *testing.T, stdin string, args ...string) (int, string, string) {
@@ -98,6 +100,50 @@ func TestNeedsOrderMessage(t *testing.T) {
 	require.Contains(t, errOut, "order 25")
 }
 
+// TestHelp checks the usage: on stdout with status 0 when asked for, on
+// stderr after the error with status 2 for an unknown command or a
+// mistake on serve (what polewright runs without a command); it names
+// every command and every export kind.
+func TestHelp(t *testing.T) {
+	t.Parallel()
+	tests := []struct {
+		name     string
+		args     []string
+		code     int
+		toStdout bool
+		first    string // the first line, for the errors
+	}{
+		{"help", []string{"help"}, exitOK, true, ""},
+		{"-h", []string{"-h"}, exitOK, true, ""},
+		{"--help", []string{"--help"}, exitOK, true, ""},
+		{"-help", []string{"-help"}, exitOK, true, ""},
+		{"unknown command", []string{"frobnicate"}, exitUsage, false, `polewright: unknown command "frobnicate" (commands: serve, design, export, help)`},
+		{"unknown flag", []string{"-frobnicate"}, exitUsage, false, "polewright serve: flag provided but not defined: -frobnicate"},
+		{"serve argument", []string{"serve", "now"}, exitUsage, false, `polewright serve: unexpected argument "now"`},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			code, out, errOut := runCLI(t, "", tc.args...)
+			require.Equal(t, tc.code, code)
+			text := errOut
+			if tc.toStdout {
+				require.Empty(t, errOut)
+				text = out
+			} else {
+				require.Empty(t, out)
+				require.Equal(t, tc.first, strings.SplitN(errOut, "\n", 2)[0])
+			}
+			for _, want := range []string{"polewright serve", "polewright design -spec FILE", "polewright export -spec FILE -as KIND"} {
+				require.Contains(t, text, want)
+			}
+			for _, kind := range export.Kinds {
+				require.Contains(t, text, kind)
+			}
+		})
+	}
+}
+
 func TestUsageErrors(t *testing.T) {
 	t.Parallel()
 	tests := []struct {
@@ -105,7 +151,6 @@ func TestUsageErrors(t *testing.T) {
 		args []string
 		want string
 	}{
-		{"unknown command", []string{"frobnicate"}, "unknown command"},
 		{"no spec", []string{"design"}, "-spec FILE is required"},
 		{"missing file", []string{"design", "-spec", "/nonexistent/spec.json"}, "spec: json: cannot open"},
 		{"bad flag", []string{"design", "-bogus"}, "flag provided but not defined"},

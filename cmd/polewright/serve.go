@@ -34,11 +34,17 @@ func serve(ctx context.Context, args []string, stderr io.Writer) int {
 	addr := fs.String("addr", "127.0.0.1:8080", "address to listen on")
 	var hosts hostList
 	fs.Var(&hosts, "host", "a name the workbench answers to besides the loopback names and the -addr host (repeatable, or comma-separated)")
+	// serve is also what polewright runs with no command, so a mistake
+	// here is answered with the whole usage.
 	if err := fs.Parse(args); err != nil {
-		return flagError(stderr, "serve", err)
+		code := flagError(stderr, "serve", err)
+		if code != exitOK {
+			fmt.Fprint(stderr, "\n"+usageText())
+		}
+		return code
 	}
 	if fs.NArg() > 0 {
-		fmt.Fprintf(stderr, "polewright serve: unexpected argument %q\n", fs.Arg(0))
+		fmt.Fprintf(stderr, "polewright serve: unexpected argument %q\n\n%s", clip(fs.Arg(0)), usageText())
 		return exitUsage
 	}
 	log := slog.New(slog.NewTextHandler(stderr, nil))
@@ -58,7 +64,7 @@ func serve(ctx context.Context, args []string, stderr io.Writer) int {
 		MaxHeaderBytes:    64 << 10,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
-	fmt.Fprintf(stderr, "polewright: serving the workbench at %s (Ctrl-C stops it)\n", serveURL(ln.Addr()))
+	fmt.Fprintf(stderr, "polewright: serving the workbench at %s (Ctrl-C stops it; polewright -h lists the commands)\n", serveURL(ln.Addr()))
 
 	errc := make(chan error, 1)
 	go func() { errc <- srv.Serve(ln) }()

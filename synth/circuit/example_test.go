@@ -54,12 +54,12 @@ func ExampleChain_WriteBOM() {
 		fmt.Println(err)
 	}
 	// Output:
-	// ref,kind,value,unit,series,tolerance,stage
-	// R101,resistor,10200,Ohm,E96,1%,1
-	// R102,resistor,10200,Ohm,E96,1%,1
-	// C101,capacitor,2.2e-08,F,E12,5%,1
-	// C102,capacitor,1e-08,F,E12,5%,1
-	// U101,opamp,1e+06,Hz,,,1
+	// ref,kind,value,unit,series,tolerance,stage,display
+	// R101,resistor,10200,Ohm,E96,1%,1,10.2 kΩ
+	// R102,resistor,10200,Ohm,E96,1%,1,10.2 kΩ
+	// C101,capacitor,0.000000022,F,E12,5%,1,22 nF
+	// C102,capacitor,0.00000001,F,E12,5%,1,10 nF
+	// U101,opamp,1000000,Hz,,,1,1 MHz
 }
 
 func ExampleRational_DominantPair() {

@@ -1,6 +1,7 @@
 // Package export writes a design in each of the forms the outside contract
-// names: the design JSON, the SPICE deck, the bill of materials and the
-// plots as SVG. The command line and the HTTP API both go through [Write],
+// names: the design JSON, the SPICE deck, the bill of materials, the plots
+// and the schematic as SVG (each with a <title> and the spec in a <desc>,
+// [LabelSVG]). The command line and the HTTP API both go through [Write],
 // so the two give byte-identical output for the same spec.
 package export
 
@@ -17,10 +18,17 @@ import (
 )
 
 // Kinds are the export kinds, as the CLI's -as and the API's ?as= take them.
-var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg"}
+var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report", "parts"}
 
 // ErrKind is returned by [Write] for a kind not in [Kinds].
 var ErrKind = errors.New("export: unknown kind")
+
+// ErrNoNoise is returned by [Write] for noise-svg of a design without a
+// noise analysis (Design.Noise nil: it needs the circuit).
+var ErrNoNoise = errors.New("export: the design has no noise analysis (it needs the circuit)")
+
+// IsSVG reports whether kind is one of the SVG drawings.
+func IsSVG(kind string) bool { return strings.HasSuffix(kind, "-svg") }
 
 // Known reports whether kind is one of [Kinds].
 func Known(kind string) bool {
@@ -37,17 +45,21 @@ func ContentType(kind string) string {
 	switch kind {
 	case "spice":
 		return "application/x-spice; charset=utf-8"
-	case "bom":
+	case "bom", "parts":
 		return "text/csv; charset=utf-8"
 	case "json":
 		return "application/json"
-	case "bode-svg", "delay-svg", "step-svg":
+	case "report":
+		return "text/html; charset=utf-8"
+	}
+	if IsSVG(kind) {
 		return "image/svg+xml"
 	}
 	return "application/octet-stream"
 }
 
-// FileName returns the file name a download of kind is offered under.
+// FileName returns a file name for kind that does not depend on the
+// design; downloads use [DesignFileName].
 func FileName(kind string) string {
 	switch kind {
 	case "spice":
@@ -77,15 +89,25 @@ func Write(w io.Writer, d *synth.Design, kind string) error {
 		if ch, err = d.Chain(); err == nil {
 			err = ch.WriteBOM(&buf)
 		}
-	case "bode-svg", "delay-svg", "step-svg":
+	case "bode-svg", "delay-svg", "step-svg", "noise-svg":
 		err = writePlot(&buf, d, kind)
+	case "schematic-svg":
+		err = writeSchematics(&buf, d)
+	case "report":
+		err = writeReport(&buf, d)
+	case "parts":
+		err = writeParts(&buf, d)
 	default:
 		return fmt.Errorf("%w %q (kinds: %s)", ErrKind, kind, strings.Join(Kinds, ", "))
 	}
 	if err != nil {
 		return err
 	}
-	_, err = w.Write(buf.Bytes())
+	out := buf.Bytes()
+	if IsSVG(kind) {
+		out = LabelSVG(out, d, kind)
+	}
+	_, err = w.Write(out)
 	return err
 }
 

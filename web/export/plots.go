@@ -14,6 +14,11 @@ func writePlot(w io.Writer, d *synth.Design, kind string) error {
 		return plotting.Bode(w, d, plotting.Options{})
 	case "delay-svg":
 		return plotting.GroupDelay(w, d, plotting.Options{})
+	case "noise-svg":
+		if d.Noise == nil {
+			return ErrNoNoise
+		}
+		return plotting.Noise(w, d, plotting.Options{})
 	}
 	return plotting.Step(w, d, plotting.Options{})
 }
