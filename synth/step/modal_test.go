@@ -23,7 +23,9 @@ func TestModalResponseMatchesResponse(t *testing.T) {
 	hp2 := func(w, q float64) step.Stage {
 		return step.Stage{Num: []float64{0, 0, 1}, Den: []float64{w * w, w / q, 1}, ScaleRadPerSec: 1}
 	}
-	lp1 := func(w float64) step.Stage { return step.Stage{Num: []float64{w}, Den: []float64{w, 1}, ScaleRadPerSec: 1} }
+	lp1 := func(w float64) step.Stage {
+		return step.Stage{Num: []float64{w}, Den: []float64{w, 1}, ScaleRadPerSec: 1}
+	}
 	for _, tc := range []struct {
 		name   string
 		stages []step.Stage
