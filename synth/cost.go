@@ -21,6 +21,15 @@ const (
 	costPartsBiquad     = 4      // a Sallen-Key or multiple-feedback biquad
 	costPartsSVBiquad   = 8      // a state-variable biquad
 	costPartsNotch      = 12     // a notch stage (state-variable: four op-amps)
+	// costEqualizerMs is the all-pass search of a delay_equalizer (its
+	// evaluations are bounded: equalize.MaxEvaluations; about 0.1 s at
+	// the bound, measured on an order-7 elliptic that needs all 8
+	// sections), and costEqualizerStages the all-pass stages assumed, each
+	// of costPartsAllpass parts (the second-order all-pass: bandpass and
+	// summer).
+	costEqualizerMs     = 60
+	costEqualizerStages = 4
+	costPartsAllpass    = 8
 )
 
 // Cost is the estimate of what designing a spec costs, in CPU-milliseconds.
@@ -73,7 +82,14 @@ func EstimateCostOf(s Spec) Cost {
 			parts = append(parts, costPartsFirstOrder)
 		}
 	}
-	c := Cost{DesignMs: costBaseMs, Order: order, Stages: len(parts)}
+	c := Cost{DesignMs: costBaseMs, Order: order}
+	if s.DelayEqualizer != nil {
+		c.DesignMs += costEqualizerMs
+		for range costEqualizerStages {
+			parts = append(parts, costPartsAllpass)
+		}
+	}
+	c.Stages = len(parts)
 	var cube, square float64
 	for _, p := range parts {
 		fp := float64(p)

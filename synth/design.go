@@ -8,6 +8,7 @@ import (
 	"slices"
 
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/equalize"
 	"github.com/polewright/polewright/synth/proto"
 	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/section"
@@ -404,6 +405,21 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
 
+	if s.DelayEqualizer != nil {
+		eq, err := equalizeDelay(ctx, s, section.Cascade(ordered))
+		if err != nil {
+			return nil, nil, err
+		}
+		last := 0.0 // an all-pass stage passes its input's peak on unchanged
+		if len(peaks) > 0 {
+			last = peaks[len(peaks)-1]
+		}
+		for _, ap := range eq {
+			ordered = append(ordered, ap)
+			peaks = append(peaks, last)
+		}
+	}
+
 	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask}
 	d.tf = section.Cascade(ordered)
 	for i, sec := range ordered {
@@ -418,6 +434,28 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, basePoints(d.tf, len(edges)), edges...))
 	d.checkMask()
 	return d, ordered, nil
+}
+
+// equalizeDelay returns the all-pass sections that bring the spread of
+// h's group delay over the passband within the spec's delay_equalizer
+// (see package equalize), or a field error when none of up to
+// equalize.MaxSections sections can.
+func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, error) {
+	lo, hi := 0.0, s.PassbandHz[0]
+	if s.Response == Bandpass {
+		lo, hi = s.PassbandHz[0], s.PassbandHz[1]
+	}
+	res, err := equalize.Equalize(ctx, h, lo, hi, s.DelayEqualizer.MaxSpreadPct)
+	var le *equalize.LimitError
+	switch {
+	case errors.As(err, &le):
+		return nil, fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
+	case err != nil && ctx.Err() != nil:
+		return nil, err
+	case err != nil:
+		return nil, fieldErr("delay_equalizer", "%v", err)
+	}
+	return res.Sections, nil
 }
 
 // needed returns the order MinOrder found or, for an *proto.OrderError,

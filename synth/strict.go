@@ -62,6 +62,7 @@ var specSchema = []schemaField{
 	}},
 	{name: "gain_tolerance_db", kind: kindNum},
 	{name: "design_margin", kind: kindObject, fields: []schemaField{{name: "passband_db", kind: kindNum}, {name: "stopband_db", kind: kindNum}}},
+	{name: "delay_equalizer", kind: kindObject, fields: []schemaField{{name: "max_spread_pct", kind: kindNum}}},
 }
 
 // errStopStrict ends the pre-pass without a verdict: the input is not
