@@ -50,10 +50,11 @@ import (
 const (
 	// MaxSections is the most all-pass sections Equalize appends.
 	MaxSections = 8
-	// MaxQ is the highest Q of a second-order all-pass section (common
-	// practice: single-amplifier stages above Q ≈ 10 are touchy; here it
-	// also bounds the equaliser's own sensitivity).
-	MaxQ = 10
+	// MaxQ is the highest Q of a second-order all-pass section: its
+	// bandpass (multiple-feedback) needs resistor ratios of 4Q², which
+	// the default window 1 kΩ..220 kΩ holds up to Q ≈ 7.4; 5 leaves room
+	// for rounding and narrower windows (our choice).
+	MaxQ = 5
 	// fitPoints is the number of linear-frequency points the fit uses.
 	fitPoints = 96
 	// checkPoints is the number of linear-frequency points on which the

@@ -120,16 +120,49 @@ const allpassGainBandpass = 2
 // from memory). The magnitude is one at every frequency when
 // (R6/R5)·g = 2 exactly; a ratio error ε gives |H(jω0)| = 1 + 2ε.
 func allpassSecond(tg target, o *options) (design, *Error) {
-	bp := target{order: 2, kind: section.Bandpass, w0: tg.w0, q: tg.q, g: allpassGainBandpass}
-	d, e := mfbBandpass(bp, o)
-	if e != nil {
-		return design{}, fail(Allpass, ErrLimits, "the bandpass inside the all-pass: %s", e.Reason)
+	// The magnitude's flatness rests on (R6/R5)·g = 2, a ratio of two
+	// series values (about 2.4 % apart in E96) against the bandpass's
+	// rounded gain; so the bandpass is designed for gains 2·(1 + δ), δ
+	// within ±2 % in steps of 0.4 %, and the pair with the least error of
+	// ω0, Q and (with weight allpassFlatWeight) of that product wins.
+	// Exact values need only δ = 0.
+	steps := []float64{0}
+	if !o.exact {
+		steps = steps[:0]
+		for j := -5; j <= 5; j++ {
+			steps = append(steps, 0.004*float64(j))
+		}
 	}
-	ratio := d.g / 2 // R5/R6
-	r6, r5, r5x, ok := o.ratioPair(ratio)
-	if !ok {
-		return design{}, fail(Allpass, ErrLimits, "the summer needs R5/R6 = %.4g, which two resistors in %s..%s cannot make", ratio, eng(o.rmin, "Ω"), eng(o.rmax, "Ω"))
+	var best struct {
+		d            design
+		r6, r5, r5x  float64
+		score        float64
+		ok           bool
+		lastBPReason string
 	}
+	for _, dl := range steps {
+		bp := target{order: 2, kind: section.Bandpass, w0: tg.w0, q: tg.q, g: allpassGainBandpass * (1 + dl)}
+		d, e := mfbBandpass(bp, o)
+		if e != nil {
+			best.lastBPReason = e.Reason
+			continue
+		}
+		r6, r5, r5x, ok := o.ratioPair(d.g / 2)
+		if !ok {
+			continue
+		}
+		s := errScore(d.w0, tg.w0) + errScore(d.q, tg.q) + allpassFlatWeight*errScore(r6/r5*d.g, 2)
+		if !best.ok || s < best.score-tieEps {
+			best.d, best.r6, best.r5, best.r5x, best.score, best.ok = d, r6, r5, r5x, s, true
+		}
+	}
+	if !best.ok {
+		if best.lastBPReason != "" {
+			return design{}, fail(Allpass, ErrLimits, "the bandpass inside the all-pass: %s", best.lastBPReason)
+		}
+		return design{}, fail(Allpass, ErrLimits, "the summer needs R5/R6 ≈ 1, which two resistors in %s..%s cannot make", eng(o.rmin, "Ω"), eng(o.rmax, "Ω"))
+	}
+	d, r6, r5, r5x := best.d, best.r6, best.r5, best.r5x
 	st := d.stage
 	st.Topology = Allpass
 	b := &builder{o: o, st: st}
@@ -147,17 +180,20 @@ func allpassSecond(tg target, o *options) (design, *Error) {
 		u.Plus, u.Minus, u.Out = renameNode(u.Plus, "out", "bp"), renameNode(u.Minus, "out", "bp"), renameNode(u.Out, "out", "bp")
 		b.nu++
 	}
-	b.st.Parts = append([]circuit.Part(nil), b.st.Parts...)
-	b.st.OpAmps = append([]circuit.OpAmp(nil), b.st.OpAmps...)
 	b.res(circuit.In, "n", r6, r6)
 	b.res("bp", "n", r5, r5x)
 	b.res("n", "out", r6, r6)
 	b.amp(circuit.Ground, "n", "out")
-	form := fmt.Sprintf("second-order all-pass on two op-amps, 1 − 2·bandpass: %s, then a summer with R4 = R6 and R5/R6 = %.4g (gain/2), inverting", d.form, r5/r6)
-	// |H(jω0)| of the stage as built with ideal op-amps is |1 − (R6/R5)·g|;
-	// the reference gain is its DC gain R6/R4 = 1.
+	form := fmt.Sprintf("second-order all-pass on two op-amps, 1 − 2·bandpass: %s, then a summer with R4 = R6 and R5/R6 = %.4g (gain/2; |H(jω0)| = %.4g), inverting",
+		d.form, r5/r6, math.Abs(1-r6/r5*d.g))
+	// The reference gain is the DC gain R6/R4 = 1.
 	return design{stage: b.done("out"), form: form, inverting: true, w0: d.w0, q: d.q, g: 1}, nil
 }
+
+// allpassFlatWeight weighs the all-pass's flatness, (R6/R5)·g against 2,
+// in the second-order all-pass's part search, beside ω0 and Q: a ratio
+// error ε moves |H(jω0)| by 2ε, while f0 and Q errors only move the delay.
+const allpassFlatWeight = 16
 
 func renameNode(n, from, to string) string {
 	if n == from {
