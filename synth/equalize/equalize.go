@@ -69,9 +69,15 @@ const (
 	jointCandidates = 2
 )
 
+// starts is the number of starts tried for each new section.
+const starts = 11
+
 // MaxEvaluations is the most delay-spread evaluations one [Equalize] call
-// makes (each on fitPoints points): the bound on its cost.
-const MaxEvaluations = MaxSections * (11*newEvals + jointCandidates*2*jointEvalsPerDim*2*MaxSections)
+// makes (each on fitPoints points), the bound on its cost: per section,
+// each start's fit and its final value, and for each joint candidate two
+// refits of at most jointEvalsPerDim evaluations per parameter (two
+// parameters per section at most) and its final value.
+const MaxEvaluations = MaxSections * (starts*(newEvals+1) + jointCandidates*(2*jointEvalsPerDim*2*MaxSections+1))
 
 // Result is an equaliser.
 type Result struct {
@@ -90,12 +96,14 @@ type LimitError struct {
 	// TargetPct is the spread asked for, BestPct the least found (with
 	// MaxSections sections), FilterPct the filter's own.
 	TargetPct, BestPct, FilterPct float64
+	// Evaluations is the number of spread evaluations the search made.
+	Evaluations int
 }
 
 // Error words the failure with its figures and the search's bound.
 func (e *LimitError) Error() string {
-	return fmt.Sprintf("%d all-pass sections bring the passband's group-delay spread from %.3g %% down to %.3g %% at best, not to %g %% (the search fits each added section from 11 starts and refits all jointly, at most %d evaluations)",
-		MaxSections, e.FilterPct, e.BestPct, e.TargetPct, MaxEvaluations)
+	return fmt.Sprintf("%d all-pass sections bring the passband's group-delay spread from %.3g %% down to %.3g %% at best, not to %g %% (the search fits each added section from %d starts and refits all jointly, at most %d evaluations)",
+		MaxSections, e.FilterPct, e.BestPct, e.TargetPct, starts, MaxEvaluations)
 }
 
 // Spread returns (max − min)/mean of delay, the mean taken as the
@@ -207,7 +215,7 @@ func Equalize(ctx context.Context, h zpk.ZPK, loHz, hiHz, maxSpreadPct float64) 
 			return res, nil
 		}
 	}
-	return Result{}, &LimitError{TargetPct: maxSpreadPct, BestPct: best, FilterPct: res.FilterSpreadPct}
+	return Result{}, &LimitError{TargetPct: maxSpreadPct, BestPct: best, FilterPct: res.FilterSpreadPct, Evaluations: p.evals}
 }
 
 // addSection returns params with one more section, every parameter
@@ -218,18 +226,21 @@ func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
 		cost float64
 	}
 	span := hiHz - loHz
-	var starts []param
+	var from []param
 	for _, k := range []float64{0.5, 1, 2} {
-		starts = append(starts, param{x: [2]float64{math.Log(k), 0}})
+		from = append(from, param{x: [2]float64{math.Log(k), 0}})
 	}
 	for _, frac := range []float64{0.1, 0.4, 0.7, 1} {
 		f0 := loHz + frac*span
 		for _, q := range []float64{0.7, 2} {
-			starts = append(starts, param{second: true, x: [2]float64{math.Log(f0 / hiHz), math.Log(q - 0.5)}})
+			from = append(from, param{second: true, x: [2]float64{math.Log(f0 / hiHz), math.Log(q - 0.5)}})
 		}
 	}
+	if len(from) != starts {
+		panic("equalize: the starts and their count disagree")
+	}
 	var cands []cand
-	for _, st := range starts {
+	for _, st := range from {
 		ps := append(slices.Clone(params), st)
 		n := 1
 		if st.second {
@@ -379,7 +390,7 @@ func nelderMead(f func([]float64) float64, x0 []float64, step float64, maxEvals 
 		return f(out)
 	}
 	xr, xe := make([]float64, n), make([]float64, n)
-	for evals < maxEvals {
+	for evals+n+2 <= maxEvals { // an iteration costs at most n + 2
 		// Order: best first.
 		idx := make([]int, n+1)
 		for i := range idx {
