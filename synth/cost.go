@@ -21,13 +21,14 @@ const (
 	costPartsBiquad     = 4      // a Sallen-Key or multiple-feedback biquad
 	costPartsSVBiquad   = 8      // a state-variable biquad
 	costPartsNotch      = 12     // a notch stage (state-variable: four op-amps)
-	// costEqualizerMs is the all-pass search of a delay_equalizer (its
-	// evaluations are bounded: equalize.MaxEvaluations; about 0.1 s at
-	// the bound, measured on an order-7 elliptic that needs all 8
-	// sections), and costEqualizerStages the all-pass stages assumed, each
+	// costEqualizerMs is the all-pass search of a delay_equalizer: its
+	// evaluations are bounded (equalize.MaxEvaluations); measured 20 to
+	// 100 ms when it succeeds with a few sections and about 0.3 s when it
+	// tries all 8 and fails (order-5 to -8 lowpasses), so a middle figure.
+	// costEqualizerStages is the number of all-pass stages assumed, each
 	// of costPartsAllpass parts (the second-order all-pass: bandpass and
 	// summer).
-	costEqualizerMs     = 60
+	costEqualizerMs     = 150
 	costEqualizerStages = 4
 	costPartsAllpass    = 8
 )

@@ -51,10 +51,10 @@ const (
 	// MaxSections is the most all-pass sections Equalize appends.
 	MaxSections = 8
 	// MaxQ is the highest Q of a second-order all-pass section: its
-	// bandpass (multiple-feedback) needs resistor ratios of 4Q², which
-	// the default window 1 kΩ..220 kΩ holds up to Q ≈ 7.4; 5 leaves room
-	// for rounding and narrower windows (our choice).
-	MaxQ = 5
+	// bandpass (multiple-feedback) needs a resistor ratio of 4Q² at equal
+	// capacitors, which the default window 1 kΩ..220 kΩ holds up to
+	// Q ≈ 7.4 (our choice: 7, the last whole Q inside it).
+	MaxQ = 7
 	// fitPoints is the number of linear-frequency points the fit uses.
 	fitPoints = 96
 	// checkPoints is the number of linear-frequency points on which the
@@ -69,6 +69,15 @@ const (
 	jointCandidates = 2
 )
 
+// jointPasses are the joint refits of each candidate: least squares, then
+// the spread itself, restarted twice from the best point with a smaller
+// simplex (Nelder-Mead stalls on a minimax criterion's kinks; a fresh
+// simplex moves it on).
+var jointPasses = []struct {
+	minimax bool
+	step    float64
+}{{false, 0.2}, {true, 0.2}, {true, 0.05}, {true, 0.01}}
+
 // starts is the number of starts tried for each new section.
 const starts = 11
 
@@ -77,7 +86,10 @@ const starts = 11
 // each start's fit and its final value, and for each joint candidate two
 // refits of at most jointEvalsPerDim evaluations per parameter (two
 // parameters per section at most) and its final value.
-const MaxEvaluations = MaxSections * (starts*(newEvals+1) + jointCandidates*(2*jointEvalsPerDim*2*MaxSections+1))
+const MaxEvaluations = MaxSections * (starts*(newEvals+1) + jointCandidates*(nJointPasses*jointEvalsPerDim*2*MaxSections+1))
+
+// nJointPasses is len(jointPasses).
+const nJointPasses = 4
 
 // Result is an equaliser.
 type Result struct {
@@ -236,7 +248,7 @@ func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
 			from = append(from, param{second: true, x: [2]float64{math.Log(f0 / hiHz), math.Log(q - 0.5)}})
 		}
 	}
-	if len(from) != starts {
+	if len(from) != starts || len(jointPasses) != nJointPasses {
 		panic("equalize: the starts and their count disagree")
 	}
 	var cands []cand
@@ -268,11 +280,11 @@ func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
 	bestCost := math.Inf(1)
 	for _, c := range cands[:jointCandidates] {
 		ps := c.ps
-		for _, minimax := range []bool{false, true} {
+		for _, pass := range jointPasses {
 			x := nelderMead(func(x []float64) float64 {
 				unpack(ps, x)
-				return p.cost(ps, minimax)
-			}, pack(ps), 0.2, jointEvalsPerDim*2*len(ps))
+				return p.cost(ps, pass.minimax)
+			}, pack(ps), pass.step, jointEvalsPerDim*2*len(ps))
 			unpack(ps, x)
 		}
 		if c := p.cost(ps, true); c < bestCost {

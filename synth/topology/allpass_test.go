@@ -18,7 +18,7 @@ import (
 
 // allpassCases are all-pass sections over the range a delay equaliser
 // uses: first order at three frequencies (both forms), second order from
-// the double real pole (Q = 0.5) to Q = 5 (equalize.MaxQ).
+// the double real pole (Q = 0.5) to Q = 7 (equalize.MaxQ).
 func allpassCases() []struct {
 	name string
 	sec  section.Section
@@ -38,7 +38,7 @@ func allpassCases() []struct {
 			}{fmt.Sprintf("%s/ap1-%g", top, f), section.FirstOrderAllpass(w(f)), top})
 		}
 	}
-	for _, q := range []float64{0.5, 0.56, 0.7071, 2, 5} {
+	for _, q := range []float64{0.5, 0.56, 0.7071, 2, 5, 7} {
 		for _, f := range []float64{300, 5000} {
 			out = append(out, struct {
 				name string
