@@ -113,7 +113,8 @@ type Section struct {
 	// Order is 1 or 2.
 	Order int `json:"order"`
 	// Kind is the response shape: lowpass, highpass, bandpass,
-	// lowpass-notch, highpass-notch or notch.
+	// lowpass-notch, highpass-notch, notch, or allpass (a delay
+	// equaliser's section, last in the chain).
 	Kind section.Kind `json:"kind"`
 	// F0Hz is the natural frequency of the section's poles.
 	F0Hz float64 `json:"f0_hz"`
