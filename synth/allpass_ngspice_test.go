@@ -5,6 +5,7 @@ import (
 	"context"
 	"math"
 	"math/cmplx"
+	"strings"
 	"testing"
 	"time"
 
@@ -134,6 +135,7 @@ func TestEqualizerCircuitEverywhere(t *testing.T) {
 		parts += len(sec.Components)
 		for _, c := range sec.Components {
 			if sec.Kind == section.Allpass {
+				require.True(t, strings.HasPrefix(sec.TopologyReason, "delay equaliser: "), sec.TopologyReason)
 				require.Contains(t, bom.String(), c.Ref)
 				require.Contains(t, deck.String(), c.Ref)
 			}

@@ -87,6 +87,7 @@ type Design struct {
 	Checks []Check `json:"checks"`
 
 	tf       zpk.ZPK
+	eqNote   string // what the delay equaliser did, said in its sections' reasons
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
 }
@@ -406,11 +407,13 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
 
+	eqNote := ""
 	if s.DelayEqualizer != nil {
-		eq, err := equalizeDelay(ctx, s, section.Cascade(ordered))
+		eq, note, err := equalizeDelay(ctx, s, section.Cascade(ordered))
 		if err != nil {
 			return nil, nil, err
 		}
+		eqNote = note
 		last := 0.0 // an all-pass stage passes its input's peak on unchanged
 		if len(peaks) > 0 {
 			last = peaks[len(peaks)-1]
@@ -421,7 +424,7 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		}
 	}
 
-	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask}
+	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask, eqNote: eqNote}
 	d.tf = section.Cascade(ordered)
 	for i, sec := range ordered {
 		d.Sections = append(d.Sections, newSection(sec, peaks[i]))
@@ -439,9 +442,9 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 
 // equalizeDelay returns the all-pass sections that bring the spread of
 // h's group delay over the passband within the spec's delay_equalizer
-// (see package equalize), or a field error when none of up to
-// equalize.MaxSections sections can.
-func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, error) {
+// (see package equalize), with a sentence that says what they do, or a
+// field error when none of up to equalize.MaxSections sections can.
+func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, string, error) {
 	lo, hi := 0.0, s.PassbandHz[0]
 	if s.Response == Bandpass {
 		lo, hi = s.PassbandHz[0], s.PassbandHz[1]
@@ -450,13 +453,15 @@ func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, e
 	var le *equalize.LimitError
 	switch {
 	case errors.As(err, &le):
-		return nil, fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
+		return nil, "", fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
 	case err != nil && ctx.Err() != nil:
-		return nil, err
+		return nil, "", err
 	case err != nil:
-		return nil, fieldErr("delay_equalizer", "%v", err)
+		return nil, "", fieldErr("delay_equalizer", "%v", err)
 	}
-	return res.Sections, nil
+	note := fmt.Sprintf("delay equaliser: %d all-pass section(s) bring the passband's group-delay spread from %.3g %% to %.3g %% of its mean (asked: at most %g %%)",
+		len(res.Sections), res.FilterSpreadPct, res.SpreadPct, s.DelayEqualizer.MaxSpreadPct)
+	return res.Sections, note, nil
 }
 
 // needed returns the order MinOrder found or, for an *proto.OrderError,

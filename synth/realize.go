@@ -146,6 +146,9 @@ func (d *Design) realize(ordered []section.Section) error {
 		sec := &d.Sections[i]
 		sec.Topology = r.Stage.Topology
 		sec.TopologyReason = r.Reason
+		if sec.Kind == section.Allpass && d.eqNote != "" {
+			sec.TopologyReason = d.eqNote + "; " + r.Reason
+		}
 		if polarity != "" && i == len(results)-1 {
 			sec.TopologyReason += "; " + polarity
 		}

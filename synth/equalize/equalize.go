@@ -27,7 +27,7 @@
 // new section alone with Nelder-Mead (the earlier sections held); the two
 // best then have every section's parameters refitted together, first to
 // the least-squares criterion Σ(τ − mean)²/mean² (smooth) and then to the
-// spread itself (minimax). Parameters are logarithms (a, ω0 and Q − ½),
+// spread itself (minimax), restarted twice with smaller simplexes. Parameters are logarithms (a, ω0 and Q − ½),
 // ω0 and a kept within [hi/100, 20·hi] (for a band, lo/20 upward) and Q
 // within [0.5, [MaxQ]]. Every Nelder-Mead run is bounded (see the
 // constants), so one call costs at most a fixed number of delay
