@@ -23,12 +23,12 @@ const (
 	costPartsNotch      = 12     // a notch stage (state-variable: four op-amps)
 	// costEqualizerMs is the all-pass search of a delay_equalizer: its
 	// evaluations are bounded (equalize.MaxEvaluations); measured 20 to
-	// 100 ms when it succeeds with a few sections and about 0.3 s when it
-	// tries all 8 and fails (order-5 to -8 lowpasses), so a middle figure.
+	// 100 ms when it succeeds with a few sections and 0.3 to 0.5 s when
+	// it tries all 8 (BenchmarkEqualize), so a middle figure.
 	// costEqualizerStages is the number of all-pass stages assumed, each
 	// of costPartsAllpass parts (the second-order all-pass: bandpass and
 	// summer).
-	costEqualizerMs     = 150
+	costEqualizerMs     = 250
 	costEqualizerStages = 4
 	costPartsAllpass    = 8
 )

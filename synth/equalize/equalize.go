@@ -402,9 +402,10 @@ func nelderMead(f func([]float64) float64, x0 []float64, step float64, maxEvals 
 		return f(out)
 	}
 	xr, xe := make([]float64, n), make([]float64, n)
+	idx := make([]int, n+1)
+	np, nv := make([][]float64, n+1), make([]float64, n+1)
 	for evals+n+2 <= maxEvals { // an iteration costs at most n + 2
 		// Order: best first.
-		idx := make([]int, n+1)
 		for i := range idx {
 			idx[i] = i
 		}
@@ -417,11 +418,10 @@ func nelderMead(f func([]float64) float64, x0 []float64, step float64, maxEvals 
 			}
 			return 0
 		})
-		np, nv := make([][]float64, n+1), make([]float64, n+1)
 		for i, k := range idx {
 			np[i], nv[i] = pts[k], vals[k]
 		}
-		pts, vals = np, nv
+		pts, vals, np, nv = np, nv, pts, vals
 		if math.Abs(vals[n]-vals[0]) <= 1e-12*math.Abs(vals[0]) && !math.IsInf(vals[0], 0) {
 			break
 		}
