@@ -20,8 +20,10 @@
 // the passband, (max − min)/mean in linear frequency (a lowpass's from
 // 0 Hz, a bandpass's between its edges), is within max_spread_pct, or
 // refuses the spec naming delay_equalizer.max_spread_pct with the best
-// spread found; asking for that spread then succeeds, because the search
-// is deterministic and adds the same sections whatever the target. A
+// spread found; asking for that spread then succeeds in practice: the
+// search is deterministic and adds the same sections whatever the target,
+// except that it ends early on a first-order section (one op-amp) that
+// meets the target. A
 // highpass or bandstop passband reaches infinite frequency, where every
 // delay falls to zero: refused naming delay_equalizer. The all-pass
 // sections are stages like any other (topology allpass): in the circuit

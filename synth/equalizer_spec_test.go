@@ -71,7 +71,8 @@ func TestDelayEqualizerSpec(t *testing.T) {
 // delay_equalizer; a target that 8 sections cannot reach is refused
 // naming delay_equalizer.max_spread_pct with the best spread found, and
 // asking for that spread then succeeds (the search is deterministic and
-// its sections do not depend on the target).
+// its sections do not depend on the target, but for a first-order
+// section that meets it and ends the search early).
 func TestDelayEqualizerRefusals(t *testing.T) {
 	t.Parallel()
 	for _, resp := range []string{"highpass", "bandstop"} {

@@ -27,7 +27,11 @@
 // new section alone with Nelder-Mead (the earlier sections held); the two
 // best then have every section's parameters refitted together, first to
 // the least-squares criterion Σ(τ − mean)²/mean² (smooth) and then to the
-// spread itself (minimax), restarted twice with smaller simplexes. Parameters are logarithms (a, ω0 and Q − ½),
+// spread itself (minimax), restarted twice with smaller simplexes; the
+// best first-order start is refitted too when it is not among them, and
+// taken when it meets the target (one op-amp instead of two, and the
+// chain's sign kept). Otherwise the sections found do not depend on the
+// target, which only decides when the search stops. Parameters are logarithms (a, ω0 and Q − ½),
 // ω0 and a kept within [hi/100, 20·hi] (for a band, lo/20 upward) and Q
 // within [0.5, [MaxQ]]. Every Nelder-Mead run is bounded (see the
 // constants), so one call costs at most a fixed number of delay
@@ -65,8 +69,13 @@ const (
 	// parameter.
 	newEvals         = 200
 	jointEvalsPerDim = 150
-	// jointCandidates is how many of the best starts are refitted jointly.
-	jointCandidates = 2
+	// jointCandidates is how many starts are refitted jointly at most:
+	// the best two and the best first-order one.
+	jointCandidates = 3
+	// firstOrderShare: a first-order section is preferred when its spread
+	// on the fit grid is within this share of the target (the check grid
+	// is finer, so a little room).
+	firstOrderShare = 0.95
 )
 
 // jointPasses are the joint refits of each candidate: least squares, then
@@ -209,7 +218,7 @@ func Equalize(ctx context.Context, h zpk.ZPK, loHz, hiHz, maxSpreadPct float64) 
 		if err := ctx.Err(); err != nil {
 			return Result{}, err
 		}
-		params = p.addSection(params, loHz, hiHz)
+		params = p.addSection(params, loHz, hiHz, maxSpreadPct)
 		secs := p.sections(params)
 		tot := slices.Clone(baseCheck)
 		for _, s := range secs {
@@ -232,7 +241,7 @@ func Equalize(ctx context.Context, h zpk.ZPK, loHz, hiHz, maxSpreadPct float64) 
 
 // addSection returns params with one more section, every parameter
 // refitted.
-func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
+func (p *problem) addSection(params []param, loHz, hiHz, targetPct float64) []param {
 	type cand struct {
 		ps   []param
 		cost float64
@@ -276,9 +285,19 @@ func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
 		}
 		return 0
 	})
-	var best []param
-	bestCost := math.Inf(1)
-	for _, c := range cands[:jointCandidates] {
+	// The best two, and the best first-order start when it is not among
+	// them: a first-order stage takes one op-amp, not two, and keeps the
+	// chain's sign, so it is taken whenever it meets the target.
+	isFirst := func(c cand) bool { return !c.ps[len(c.ps)-1].second }
+	joint := slices.Clip(cands[:2])
+	if !isFirst(joint[0]) && !isFirst(joint[1]) {
+		if i := slices.IndexFunc(cands, isFirst); i >= 0 {
+			joint = append(joint, cands[i])
+		}
+	}
+	var best, bestFirst []param
+	bestCost, firstCost := math.Inf(1), math.Inf(1)
+	for _, c := range joint {
 		ps := c.ps
 		for _, pass := range jointPasses {
 			x := nelderMead(func(x []float64) float64 {
@@ -287,9 +306,16 @@ func (p *problem) addSection(params []param, loHz, hiHz float64) []param {
 			}, pack(ps), pass.step, jointEvalsPerDim*2*len(ps))
 			unpack(ps, x)
 		}
-		if c := p.cost(ps, true); c < bestCost {
-			best, bestCost = ps, c
+		cost := p.cost(ps, true)
+		if cost < bestCost {
+			best, bestCost = ps, cost
 		}
+		if !ps[len(ps)-1].second && cost < firstCost {
+			bestFirst, firstCost = ps, cost
+		}
+	}
+	if bestFirst != nil && 100*firstCost <= firstOrderShare*targetPct {
+		return bestFirst
 	}
 	return best
 }
