@@ -21,6 +21,16 @@ const (
 	costPartsBiquad     = 4      // a Sallen-Key or multiple-feedback biquad
 	costPartsSVBiquad   = 8      // a state-variable biquad
 	costPartsNotch      = 12     // a notch stage (state-variable: four op-amps)
+	// costEqualizerMs is the all-pass search of a delay_equalizer: its
+	// evaluations are bounded (equalize.MaxEvaluations); measured 20 to
+	// 100 ms when it succeeds with a few sections and 0.3 to 0.5 s when
+	// it tries all 8 (BenchmarkEqualize), so a middle figure.
+	// costEqualizerStages is the number of all-pass stages assumed, each
+	// of costPartsAllpass parts (the second-order all-pass: bandpass and
+	// summer).
+	costEqualizerMs     = 250
+	costEqualizerStages = 4
+	costPartsAllpass    = 8
 )
 
 // Cost is the estimate of what designing a spec costs, in CPU-milliseconds.
@@ -73,7 +83,14 @@ func EstimateCostOf(s Spec) Cost {
 			parts = append(parts, costPartsFirstOrder)
 		}
 	}
-	c := Cost{DesignMs: costBaseMs, Order: order, Stages: len(parts)}
+	c := Cost{DesignMs: costBaseMs, Order: order}
+	if s.DelayEqualizer != nil {
+		c.DesignMs += costEqualizerMs
+		for range costEqualizerStages {
+			parts = append(parts, costPartsAllpass)
+		}
+	}
+	c.Stages = len(parts)
 	var cube, square float64
 	for _, p := range parts {
 		fp := float64(p)

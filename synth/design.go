@@ -8,6 +8,7 @@ import (
 	"slices"
 
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/equalize"
 	"github.com/polewright/polewright/synth/proto"
 	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/section"
@@ -89,6 +90,7 @@ type Design struct {
 	DC *DCReport `json:"dc,omitempty"`
 
 	tf       zpk.ZPK
+	eqNote   string // what the delay equaliser did, said in its sections' reasons
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
 }
@@ -115,7 +117,8 @@ type Section struct {
 	// Order is 1 or 2.
 	Order int `json:"order"`
 	// Kind is the response shape: lowpass, highpass, bandpass,
-	// lowpass-notch, highpass-notch or notch.
+	// lowpass-notch, highpass-notch, notch, or allpass (a delay
+	// equaliser's section, last in the chain).
 	Kind section.Kind `json:"kind"`
 	// F0Hz is the natural frequency of the section's poles.
 	F0Hz float64 `json:"f0_hz"`
@@ -410,7 +413,24 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		return nil, nil, fmt.Errorf("synth: %w", err)
 	}
 
-	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask}
+	eqNote := ""
+	if s.DelayEqualizer != nil {
+		eq, note, err := equalizeDelay(ctx, s, section.Cascade(ordered))
+		if err != nil {
+			return nil, nil, err
+		}
+		eqNote = note
+		last := 0.0 // an all-pass stage passes its input's peak on unchanged
+		if len(peaks) > 0 {
+			last = peaks[len(peaks)-1]
+		}
+		for _, ap := range eq {
+			ordered = append(ordered, ap)
+			peaks = append(peaks, last)
+		}
+	}
+
+	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask, eqNote: eqNote}
 	d.tf = section.Cascade(ordered)
 	for i, sec := range ordered {
 		d.Sections = append(d.Sections, newSection(sec, peaks[i]))
@@ -424,6 +444,30 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	d.Response = curves(d.tf, response.Grid(d.tf, loHz, hiHz, basePoints(d.tf, len(edges)), edges...))
 	d.checkMask()
 	return d, ordered, nil
+}
+
+// equalizeDelay returns the all-pass sections that bring the spread of
+// h's group delay over the passband within the spec's delay_equalizer
+// (see package equalize), with a sentence that says what they do, or a
+// field error when none of up to equalize.MaxSections sections can.
+func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, string, error) {
+	lo, hi := 0.0, s.PassbandHz[0]
+	if s.Response == Bandpass {
+		lo, hi = s.PassbandHz[0], s.PassbandHz[1]
+	}
+	res, err := equalize.Equalize(ctx, h, lo, hi, s.DelayEqualizer.MaxSpreadPct)
+	var le *equalize.LimitError
+	switch {
+	case errors.As(err, &le):
+		return nil, "", fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
+	case err != nil && ctx.Err() != nil:
+		return nil, "", err
+	case err != nil:
+		return nil, "", fieldErr("delay_equalizer", "%v", err)
+	}
+	note := fmt.Sprintf("delay equaliser: %d all-pass section(s) bring the passband's group-delay spread from %.3g %% to %.3g %% of its mean (asked: at most %g %%)",
+		len(res.Sections), res.FilterSpreadPct, res.SpreadPct, s.DelayEqualizer.MaxSpreadPct)
+	return res.Sections, note, nil
 }
 
 // needed returns the order MinOrder found or, for an *proto.OrderError,

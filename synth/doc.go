@@ -13,6 +13,23 @@
 // stay in pole/zero and section form; no high-order polynomial is ever
 // expanded.
 //
+// # Delay equaliser
+//
+// With delay_equalizer, package equalize appends all-pass sections to the
+// ordered, gain-distributed chain until the spread of the group delay over
+// the passband, (max − min)/mean in linear frequency (a lowpass's from
+// 0 Hz, a bandpass's between its edges), is within max_spread_pct, or
+// refuses the spec naming delay_equalizer.max_spread_pct with the best
+// spread found; asking for that spread then succeeds in practice: the
+// search is deterministic and adds the same sections whatever the target,
+// except that it ends early on a first-order section (one op-amp) that
+// meets the target. A
+// highpass or bandstop passband reaches infinite frequency, where every
+// delay falls to zero: refused naming delay_equalizer. The all-pass
+// sections are stages like any other (topology allpass): in the circuit
+// model, the deck, the BOM, the noise, the Monte Carlo and the plots; the
+// order stays the filter's.
+//
 // # Band edges
 //
 // The lowpass prototype has its passband edge at 1 rad/s, where the loss is

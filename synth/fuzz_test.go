@@ -36,6 +36,10 @@ func FuzzSynthesize(f *testing.F) {
 		`{"passband_hz": 1000, "stopband_hz": 1000.0000001, "approximation": "elliptic", "stopband_atten_db": 3}`,
 		`{"passband_hz": 1000, "order": 20, "approximation": "chebyshev2", "passband_ripple_db": 199, "stopband_atten_db": 200}`,
 		`{"passband_hz": 1e-3, "stopband_hz": 1.0001e-3, "approximation": "elliptic"}`,
+		`{"response": "bandpass", "passband_hz": [1e7, 1.00001e7], "order": 20, "approximation": "elliptic", "delay_equalizer": {"max_spread_pct": 0.01}}`,
+		`{"passband_hz": 1e8, "order": 20, "approximation": "chebyshev1", "delay_equalizer": {"max_spread_pct": 100}}`,
+		`{"passband_hz": 1e-3, "order": 1, "delay_equalizer": {"max_spread_pct": 0.01}}`,
+		`{"response": "bandpass", "passband_hz": [0.001, 1e8], "order": 3, "delay_equalizer": {"max_spread_pct": 1}}`,
 	} {
 		f.Add([]byte(s))
 	}

@@ -76,9 +76,16 @@ func (d *Design) realize(ordered []section.Section) error {
 
 	results := make([]topology.Result, len(ordered))
 	inverting, firstOrder := 0, -1
+	allpassFirst := -1 // a first-order all-pass section, which can invert instead
 	for i, sec := range ordered {
 		top := s.Topology
-		if sec.Order() == 1 {
+		switch {
+		case sec.IsAllpass():
+			top = topology.Allpass
+			if sec.Order() == 1 && allpassFirst < 0 {
+				allpassFirst = i
+			}
+		case sec.Order() == 1:
 			top, firstOrder = topology.RCBuffer, i
 		}
 		r, err := topology.Realize(sec, top, opt)
@@ -99,6 +106,14 @@ func (d *Design) realize(ordered []section.Section) error {
 		if err == nil && r.Inverting {
 			results[firstOrder] = r
 			results[firstOrder].Reason = "inverting first-order form, so that the chain as a whole does not invert; " + r.Reason
+			inverting++
+		}
+	}
+	if inverting%2 == 1 && allpassFirst >= 0 {
+		r, err := topology.Realize(ordered[allpassFirst], topology.AllpassInverted, opt)
+		if err == nil && r.Inverting {
+			results[allpassFirst] = r
+			results[allpassFirst].Reason = "inverting form, so that the chain as a whole does not invert; " + r.Reason
 			inverting++
 		}
 	}
@@ -131,6 +146,9 @@ func (d *Design) realize(ordered []section.Section) error {
 		sec := &d.Sections[i]
 		sec.Topology = r.Stage.Topology
 		sec.TopologyReason = r.Reason
+		if sec.Kind == section.Allpass && d.eqNote != "" {
+			sec.TopologyReason = d.eqNote + "; " + r.Reason
+		}
 		if polarity != "" && i == len(results)-1 {
 			sec.TopologyReason += "; " + polarity
 		}

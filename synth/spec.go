@@ -175,6 +175,19 @@ type DesignMargin struct {
 	StopbandDB float64 `json:"stopband_db"`
 }
 
+// DelayEqualizer asks for all-pass sections appended until the spread of
+// the group delay over the passband, (max − min)/mean in linear frequency
+// (a lowpass's from 0 Hz), is at most MaxSpreadPct percent.
+type DelayEqualizer struct {
+	MaxSpreadPct float64 `json:"max_spread_pct"`
+}
+
+// Bounds of delay_equalizer.max_spread_pct.
+const (
+	MinDelaySpreadPct = 0.01
+	MaxDelaySpreadPct = 100
+)
+
 // Verification limits and defaults.
 const (
 	MaxTrials            = 100000
@@ -222,6 +235,9 @@ type Spec struct {
 	// SignalVpp is the largest input, peak to peak; nil: the default
 	// ([Spec.SignalVppV]).
 	SignalVpp *float64 `json:"signal_vpp,omitempty"`
+	// DelayEqualizer, when set, asks for all-pass sections that flatten
+	// the passband's group delay; nil: none.
+	DelayEqualizer *DelayEqualizer `json:"delay_equalizer,omitempty"`
 
 	// stopbandFromConverter records that ParseSpec derived the stopband
 	// from the converter.
@@ -316,6 +332,11 @@ type rawSpec struct {
 	SignalVpp        *float64         `json:"signal_vpp"`
 	GainToleranceDB  *float64         `json:"gain_tolerance_db"`
 	DesignMargin     *json.RawMessage `json:"design_margin"`
+	DelayEqualizer   *json.RawMessage `json:"delay_equalizer"`
+}
+
+type rawDelayEqualizer struct {
+	MaxSpreadPct *float64 `json:"max_spread_pct"`
 }
 
 type rawDesignMargin struct {
@@ -463,7 +484,7 @@ func jsonError(err error) error {
 	if rest, ok := strings.CutPrefix(msg, "json: unknown field "); ok {
 		name, _ := strconv.Unquote(rest)
 		name = fieldName(name) // cut, and an empty key still needs a visible name
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin, delay_equalizer)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
@@ -746,6 +767,15 @@ func (raw rawSpec) build() (Spec, error) {
 			s.DesignMargin.StopbandDB = *dm.StopbandDB
 		}
 	}
+	var de rawDelayEqualizer
+	if ok, err := decodeObject("delay_equalizer", raw.DelayEqualizer, &de, `{"max_spread_pct": 2}`, "max_spread_pct"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if de.MaxSpreadPct == nil {
+			return Spec{}, fieldErr("delay_equalizer.max_spread_pct", "is required in delay_equalizer (the group delay's largest spread over the passband, in %% of its mean)")
+		}
+		s.DelayEqualizer = &DelayEqualizer{MaxSpreadPct: *de.MaxSpreadPct}
+	}
 	if raw.Values != nil {
 		if s.Values, err = oneOf("values", *raw.Values, ValueModes); err != nil {
 			return Spec{}, err
@@ -835,6 +865,9 @@ func (s Spec) Validate() error {
 	if err := s.validateVerification(); err != nil {
 		return err
 	}
+	if err := s.validateDelayEqualizer(); err != nil {
+		return err
+	}
 	if err := s.OpAmp.validate(); err != nil {
 		return err
 	}
@@ -901,6 +934,23 @@ func (s Spec) validateBoard() error {
 	}
 	if span := p.PositiveV - p.NegativeV; !(2*s.OpAmp.InputHeadroomV < span) {
 		return fieldErr("opamp.input_headroom_v", "leaves no input range between rails %g V apart (got %g V from each rail)", span, s.OpAmp.InputHeadroomV)
+	}
+	return nil
+}
+
+func (s Spec) validateDelayEqualizer() error {
+	de := s.DelayEqualizer
+	if de == nil {
+		return nil
+	}
+	if err := finite("delay_equalizer.max_spread_pct", de.MaxSpreadPct); err != nil {
+		return err
+	}
+	if de.MaxSpreadPct < MinDelaySpreadPct || de.MaxSpreadPct > MaxDelaySpreadPct {
+		return fieldErr("delay_equalizer.max_spread_pct", "must be from %g to %g %% (got %g)", MinDelaySpreadPct, float64(MaxDelaySpreadPct), de.MaxSpreadPct)
+	}
+	if s.Response == Highpass || s.Response == Bandstop {
+		return fieldErr("delay_equalizer", "equalises a lowpass or bandpass passband; a %s's passband reaches infinite frequency, where every delay falls to zero, so its spread has no finite mean", s.Response)
 	}
 	return nil
 }

@@ -25,7 +25,7 @@ type kindStage struct {
 // tool builds: the first-order forms, Sallen-Key and multiple-feedback
 // lowpass, highpass and bandpass, the state-variable forms with and
 // without the notch summer and its T-network, and stages that carry the
-// polarity inverter.
+// polarity inverter, and the all-pass stages of a delay equaliser.
 var everyStageKind = []string{
 	"rc-buffer/lowpass", "rc-buffer/highpass", "rc-buffer/lowpass+gain",
 	"inverting-rc/lowpass", "inverting-rc/highpass",
@@ -35,6 +35,7 @@ var everyStageKind = []string{
 	"state-variable/bandpass", "state-variable/lowpass+inverter", "state-variable/highpass+inverter",
 	"state-variable/lowpass-notch", "state-variable/highpass-notch", "state-variable/notch",
 	"state-variable/lowpass-notch+tee",
+	"allpass/allpass1", "allpass/allpass1+inverted", "allpass/allpass2", "allpass/allpass2+inverter",
 }
 
 // stageKindSpecs are designs (our own choice of specs) whose stages
@@ -53,6 +54,9 @@ func stageKindSpecs() []struct {
 		return s
 	}
 	top := func(t string) func(*synth.Spec) { return func(s *synth.Spec) { s.Topology = t } }
+	equalise := func(pct float64) func(*synth.Spec) {
+		return func(s *synth.Spec) { s.DelayEqualizer = &synth.DelayEqualizer{MaxSpreadPct: pct} }
+	}
 	return []struct {
 		name string
 		spec synth.Spec
@@ -76,13 +80,25 @@ func stageKindSpecs() []struct {
 			s.PassbandRippleDB, s.StopbandAttenDB = 0.1, 60
 		})},
 		{"chebyshev1-lowpass-8", spec(synth.Lowpass, "chebyshev1", 8, []float64{1000}, nil)},
+		// Delay equalisers (the search's choice, checked by the kinds):
+		// a first-order all-pass; an inverted one that puts the
+		// multiple-feedback stage's sign right; two second-order ones;
+		// one second-order one followed by the polarity inverter.
+		{"lowpass-3-equalised", spec(synth.Lowpass, "butterworth", 3, []float64{1000}, equalise(2))},
+		{"lowpass-2-mfb-equalised", spec(synth.Lowpass, "butterworth", 2, []float64{1000}, func(s *synth.Spec) {
+			s.Topology = "multiple-feedback"
+			equalise(5)(s)
+		})},
+		{"lowpass-2-equalised", spec(synth.Lowpass, "butterworth", 2, []float64{1000}, equalise(1))},
+		{"lowpass-4-equalised", spec(synth.Lowpass, "butterworth", 4, []float64{1000}, equalise(2))},
 	}
 }
 
 // stageKind labels a stage: topology/section kind, with "+inverter" when
 // the polarity inverter follows it, "+tee" for a state-variable notch
 // summer with a T-network and "+gain" for a first-order or Sallen-Key
-// stage with a gain-setting divider.
+// stage with a gain-setting divider; an all-pass stage carries its order
+// and "+inverted" for the first-order inverting form.
 func stageKind(st circuit.Stage, sec synth.Section) string {
 	k := fmt.Sprintf("%s/%s", st.Topology, sec.Kind)
 	parts := len(st.Parts)
@@ -95,6 +111,12 @@ func stageKind(st circuit.Stage, sec synth.Section) string {
 		k += "+tee"
 	case st.Topology == "rc-buffer" && parts > 2, st.Topology == "sallen-key" && parts > 4:
 		k += "+gain"
+	}
+	if st.Topology == "allpass" {
+		k += fmt.Sprint(sec.Order)
+		if sec.Order == 1 && sec.Inverting {
+			k += "+inverted"
+		}
 	}
 	if inverter {
 		k += "+inverter"

@@ -243,6 +243,10 @@ func placeError(vals formValues, err error) map[string]string {
 	if f, ok := fieldByJSON(fe.Field); ok {
 		return map[string]string{f.Name: practitionerReason(fe.Reason)}
 	}
+	if fe.Field == "delay_equalizer" {
+		// The equaliser's one control carries what is said of it whole.
+		return map[string]string{"delay_equalizer_max_spread_pct": practitionerReason(fe.Reason)}
+	}
 	if fe.Field == "converter" {
 		// Synth takes the converter whole: the message goes beside the
 		// first of its controls left empty.

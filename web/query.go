@@ -92,6 +92,8 @@ var specFields = []field{
 		Placeholder: "0", Hint: "design to Amax less this, judge against Amax: room for part tolerances", Group: groupBands},
 	{Name: "design_margin_stopband_db", Path: []string{"design_margin", "stopband_db"}, Label: "Design margin, stopband (dB)", Noun: "the stopband design margin", Kind: kindNumber,
 		Placeholder: "0", Hint: "design to Amin plus this, judge against Amin", Group: groupBands},
+	{Name: "delay_equalizer_max_spread_pct", Path: []string{"delay_equalizer", "max_spread_pct"}, Label: "Delay equaliser, spread (%)", Noun: "the group-delay spread", Kind: kindNumber,
+		Placeholder: "none", Hint: fmt.Sprintf("append all-pass stages until the passband's group delay varies by at most this %% of its mean (lowpass, bandpass; %g to %g)", synth.MinDelaySpreadPct, float64(synth.MaxDelaySpreadPct)), Group: groupBands},
 	{Name: "topology", Path: []string{"topology"}, Label: "Stage circuit", Noun: "the stage circuit", Kind: kindChoice,
 		Choices: synth.Topologies, Default: "auto", Hint: "auto picks per stage and says why", Group: groupCircuit},
 	{Name: "resistor_series", Path: []string{"resistor_series"}, Label: "Resistor series", Noun: "the resistor series", Kind: kindChoice,
@@ -402,11 +404,11 @@ func canonicalQuery(vals formValues) string {
 // specWord matches the spec's JSON field names inside a reason text: a
 // snake_case name, or a dotted nested one ("opamp.gbw_hz",
 // "montecarlo.trials").
-var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter|design_margin|supply)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
+var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter|design_margin|supply|delay_equalizer)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
 
 // nestedObjects are the spec's objects whose fields are named bare inside
 // their own messages ("needs bits, sample_rate_hz and full_scale_vpp").
-var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo", "design_margin", "supply"}
+var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo", "design_margin", "supply", "delay_equalizer"}
 
 // practitionerReason rewrites the JSON field names in a synth reason as
 // the nouns of the form ("must be above the passband edge for a lowpass").

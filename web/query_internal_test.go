@@ -32,6 +32,8 @@ func TestSpecJSON(t *testing.T) {
 			"&converter_bits=16&converter_sample_rate_hz=48k&converter_full_scale_vpp=4&opamp_noise_v_per_rthz=4n&opamp_noise_a_per_rthz=1p&opamp_slew_v_per_s=20M",
 			want: `{"tolerance":{"resistor_pct":0.1,"capacitor_pct":1,"distribution":"gaussian"},"montecarlo":{"trials":1000,"seed":7},` +
 				`"converter":{"bits":16,"sample_rate_hz":48000,"full_scale_vpp":4},"opamp":{"noise_v_per_rthz":4e-9,"noise_a_per_rthz":1e-12,"slew_v_per_s":20000000}}`},
+		{name: "delay equaliser flattens with _", query: "delay_equalizer_max_spread_pct=2", want: `{"delay_equalizer":{"max_spread_pct":2}}`},
+		{name: "delay equaliser not a number", query: "delay_equalizer_max_spread_pct=flat", field: "delay_equalizer.max_spread_pct"},
 		{name: "trials not a number", query: "montecarlo_trials=many", field: "montecarlo.trials"},
 		{name: "not a number", query: "passband_hz=fast", field: "passband_hz"},
 		{name: "infinity", query: "stopband_atten_db=Inf", field: "stopband_atten_db"},
@@ -121,6 +123,7 @@ func TestPractitionerReason(t *testing.T) {
 		{"must be below montecarlo.trials", "must be below the number of trials"},
 		{"needs bits, sample_rate_hz and full_scale_vpp", "needs bits, the converter's sample rate and the converter's full scale"},
 		{"more than opamp.slew_v_per_s", "more than the op-amp's slew rate"},
+		{"delay_equalizer.max_spread_pct: must be from 0.01 to 100 %", "the group-delay spread: must be from 0.01 to 100 %"},
 	}
 	for _, tc := range tests {
 		require.Equal(t, tc.want, practitionerReason(tc.in))

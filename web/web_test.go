@@ -89,6 +89,12 @@ func TestRoutes(t *testing.T) {
 			wantStatus: 400, wantType: "application/json", wantField: "wobble"},
 		{name: "api design nested field", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": 2, "opamp": {"gbw_hz": 1}}`,
 			wantStatus: 400, wantType: "application/json", wantField: "opamp.gbw_hz"},
+		{name: "api design equaliser out of reach", method: "POST", target: "/api/v1/design",
+			body:       `{"approximation": "elliptic", "passband_hz": 1000, "order": 7, "stopband_atten_db": 60, "delay_equalizer": {"max_spread_pct": 0.1}}`,
+			wantStatus: 400, wantType: "application/json", wantField: "delay_equalizer.max_spread_pct"},
+		{name: "api design equaliser", method: "POST", target: "/api/v1/design",
+			body:       `{"passband_hz": 1000, "order": 4, "delay_equalizer": {"max_spread_pct": 2}}`,
+			wantStatus: 200, wantType: "application/json", contains: []string{`"kind":"allpass"`, `"topology":"allpass"`}},
 		// Issue 9: strict input.
 		{name: "api design duplicate key", method: "POST", target: "/api/v1/design", body: `{"passband_hz": 1000, "order": 2, "order": 3}`,
 			wantStatus: 400, wantType: "application/json", wantField: "order", contains: []string{"given twice"}},
@@ -401,6 +407,8 @@ func TestErrorBesideField(t *testing.T) {
 		{"gain out of range", "passband_hz=1000&stopband_hz=4000&gain_db=90", "gain_db", "must be from"},
 		{"dc gain out of range", "passband_hz=1000&stopband_hz=4000&opamp_dc_gain_db=5", "opamp_dc_gain_db", "20 to 200 dB"},
 		{"checkbox value", "passband_hz=1000&stopband_hz=4000&opamp_ideal=maybe", "opamp_ideal", "must be 1"},
+		{"equaliser on a highpass", "response=highpass&passband_hz=1000&order=3&delay_equalizer_max_spread_pct=2", "delay_equalizer_max_spread_pct", "equalises a lowpass or bandpass"},
+		{"equaliser out of reach", "approximation=elliptic&passband_hz=1000&order=7&stopband_atten_db=60&delay_equalizer_max_spread_pct=0.1", "delay_equalizer_max_spread_pct", "8 all-pass sections"},
 	}
 	block := func(page, control string) string {
 		i := strings.Index(page, `data-field="`+control+`"`)

@@ -75,6 +75,17 @@ func stages() []namedStage {
 		{"state-variable highpass", stateVariable("hp", false)},
 		{"state-variable bandpass", stateVariable("bp", false)},
 		{"state-variable notch", stateVariable("out", true)},
+		{"allpass first order", circuit.Stage{Topology: "allpass",
+			Parts:  []circuit.Part{res("R1", "in", "m", 15e3), res("R2", "m", "out", 15e3), res("R3", "in", "p", 10.5e3), capa("C1", "p", gnd, 15e-9)},
+			OpAmps: []circuit.OpAmp{amp("U1", "p", "m", "out")}, Out: "out"}},
+		{"allpass first order inverted", circuit.Stage{Topology: "allpass",
+			Parts:  []circuit.Part{res("R1", "in", "m", 15e3), res("R2", "m", "out", 15e3), capa("C1", "in", "p", 15e-9), res("R3", "p", gnd, 10.5e3)},
+			OpAmps: []circuit.OpAmp{amp("U1", "p", "m", "out")}, Out: "out"}},
+		{"allpass second order", circuit.Stage{Topology: "allpass",
+			Parts: []circuit.Part{res("R1", "in", "a", 1.58e3), res("R2", "a", gnd, 31.6e3), res("R3", "m", "bp", 3.65e3),
+				capa("C1", "a", "m", 150e-9), capa("C2", "a", "bp", 27e-9),
+				res("R4", "in", "n", 14.3e3), res("R5", "bp", "n", 14e3), res("R6", "n", "out", 14.3e3)},
+			OpAmps: []circuit.OpAmp{amp("U1", gnd, "m", "bp"), amp("U2", gnd, "n", "out")}, Out: "out"}},
 	}
 }
 

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
 
 	"github.com/polewright/polewright/synth/circuit"
 )
@@ -58,7 +59,11 @@ func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 	b.Grow(4096 + 600*len(st.Parts))
 	name := opt.Title
 	if name == "" {
-		name = "schematic of a " + st.Topology + " stage"
+		article := "a "
+		if st.Topology != "" && strings.ContainsRune("aeiou", rune(st.Topology[0])) {
+			article = "an " // an allpass stage
+		}
+		name = "schematic of " + article + st.Topology + " stage"
 		if st.Topology == "" {
 			name = "schematic of a filter stage"
 		}

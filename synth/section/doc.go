@@ -21,6 +21,14 @@
 // highpass-notch sections, at f0 for bandpass sections, and at DC for a
 // symmetric notch.
 //
+// # All-pass sections
+//
+// [FirstOrderAllpass] and [SecondOrderAllpass] make the sections of a delay
+// equaliser: zeros the mirror images of the poles ([Section.IsAllpass]),
+// kind [Allpass], unit gain at every frequency and +1 at DC. [Factor]
+// never makes them; the pipeline appends them after ordering and gain
+// distribution, last in the chain, where they change no node's peak.
+//
 // # Ordering
 //
 // The node after the first j sections carries the product of those j

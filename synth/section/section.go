@@ -22,6 +22,7 @@ const (
 	LowpassNotch  Kind = "lowpass-notch"  // jω-axis zeros above the poles' f0
 	HighpassNotch Kind = "highpass-notch" // jω-axis zeros below the poles' f0
 	Notch         Kind = "notch"          // jω-axis zeros at the poles' f0
+	Allpass       Kind = "allpass"        // zeros the mirror images of the poles: |H| constant
 )
 
 // Section is a first- or second-order factor of a transfer function.
@@ -65,6 +66,9 @@ func (s Section) Q() float64 {
 // ZeroOmegaRadPerSec returns the frequency of the section's jω-axis zero pair,
 // and false when it has none.
 func (s Section) ZeroOmegaRadPerSec() (float64, bool) {
+	if s.IsAllpass() {
+		return 0, false
+	}
 	for _, z := range s.Zeros {
 		if z != 0 {
 			return math.Abs(imag(z)), true
@@ -75,6 +79,9 @@ func (s Section) ZeroOmegaRadPerSec() (float64, bool) {
 
 // Kind returns the section's response shape.
 func (s Section) Kind() Kind {
+	if s.IsAllpass() {
+		return Allpass
+	}
 	origin := 0
 	for _, z := range s.Zeros {
 		if z == 0 {
@@ -114,6 +121,53 @@ func (s Section) ReferenceGain() float64 {
 	default:
 		return cmplx.Abs(h.At(0))
 	}
+}
+
+// IsAllpass reports whether the section is an all-pass: as many zeros as
+// poles, each zero the mirror image −p̄ of a pole p in the jω axis, so
+// that |H(jω)| = |K| at every frequency.
+func (s Section) IsAllpass() bool {
+	if len(s.Zeros) != len(s.Poles) || len(s.Poles) == 0 {
+		return false
+	}
+	scale := 0.0
+	for _, p := range s.Poles {
+		scale = math.Max(scale, cmplx.Abs(p))
+	}
+	used := make([]bool, len(s.Zeros))
+	for _, p := range s.Poles {
+		found := false
+		for k, z := range s.Zeros {
+			if !used[k] && cmplx.Abs(z+cmplx.Conj(p)) <= 1e-9*scale {
+				used[k], found = true, true
+				break
+			}
+		}
+		if !found || real(p) >= 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// FirstOrderAllpass returns the first-order all-pass section
+// (a − s)/(a + s) with a = omegaRadPerSec: unit gain at every frequency,
+// +1 at DC, group delay 2a/(a² + ω²).
+func FirstOrderAllpass(omegaRadPerSec float64) Section {
+	a := omegaRadPerSec
+	return Section{Poles: []complex128{complex(-a, 0)}, Zeros: []complex128{complex(a, 0)}, Gain: -1}
+}
+
+// SecondOrderAllpass returns the second-order all-pass section
+// (s² − s·ω0/Q + ω0²)/(s² + s·ω0/Q + ω0²): unit gain at every frequency,
+// +1 at DC. q must be at least 0.5 (a conjugate pole pair; q = 0.5 gives
+// a double real pole).
+func SecondOrderAllpass(omegaRadPerSec, q float64) Section {
+	w := omegaRadPerSec
+	re := -w / (2 * q)
+	im := w * math.Sqrt(math.Max(0, 1-1/(4*q*q)))
+	p := complex(re, im)
+	return Section{Poles: []complex128{p, cmplx.Conj(p)}, Zeros: []complex128{-cmplx.Conj(p), -p}, Gain: 1}
 }
 
 // ErrFactor reports a transfer function that does not split into sections

@@ -19,6 +19,11 @@
 //     highpass and bandpass, a fourth that sums highpass and lowpass for
 //     the lowpass-notch, highpass-notch and notch kinds (through a
 //     T-network on the weaker path when the zeros are far from f0).
+//   - allpass (and allpass-inverted): all-pass sections only, which a
+//     delay equaliser appends (package equalize); not a spec topology.
+//     First order on one op-amp (RC lowpass or, inverted, CR highpass into
+//     the + input, equal R1 and R2); second order on two, a
+//     multiple-feedback bandpass and a summer, A = 1 − 2·bandpass.
 //
 // A stage realises the section's transfer function with a positive
 // reference gain (the section's own gain, whether above or below one: gain

@@ -14,6 +14,7 @@ import (
 //	highpass        g·s²/D(s)             first order: g·s/(s + ω0)
 //	bandpass        g·(ω0/Q)·s/D(s)
 //	notch kinds     k·(s² + ωz²)/D(s),    k = g·ω0²/ωz² (lowpass-notch, notch), g (highpass-notch)
+//	allpass         g·(s² − s·ω0/Q + ω0²)/D(s)   first order: g·(ω0 − s)/(s + ω0)
 //
 // with D(s) = s² + s·ω0/Q + ω0² and g the reference gain (positive).
 type target struct {
@@ -77,6 +78,13 @@ func newTarget(sec section.Section) (target, error) {
 		return target{}, fmt.Errorf("pole frequency %v rad/s is not finite and > 0", tg.w0)
 	}
 
+	if sec.IsAllpass() {
+		// All-pass: the zeros mirror the poles; the reference gain is
+		// |H(0)| = |K|, the gain at every frequency.
+		tg.kind = section.Allpass
+		tg.g = math.Abs(sec.Gain)
+		return tg, nil
+	}
 	// Zeros: at the origin, or one conjugate jω-axis pair.
 	if len(sec.Zeros) > n {
 		return target{}, fmt.Errorf("%d zeros for %d poles", len(sec.Zeros), n)

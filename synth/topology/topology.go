@@ -173,6 +173,18 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 	if err != nil {
 		return Result{}, fail(topology, ErrSection, "%v", err)
 	}
+	if tg.kind == section.Allpass {
+		switch topology {
+		case Auto, Allpass, AllpassInverted:
+		default:
+			return Result{}, fail(topology, ErrNoForm, "an all-pass section is built as %s or %s", Allpass, AllpassInverted)
+		}
+		d, e := realizeAllpass(tg, topology == AllpassInverted, o)
+		if e != nil {
+			return Result{}, e
+		}
+		return d.result(tg), nil
+	}
 	switch topology {
 	case Auto:
 		return realizeAuto(tg, o)
@@ -183,6 +195,9 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 		}
 		r.Reason = topology + " as asked: " + r.Reason
 		return r, nil
+	}
+	if topology == Allpass || topology == AllpassInverted {
+		return Result{}, fail(topology, ErrNoForm, "the %s stage builds all-pass sections only, not a %s section", topology, tg.kind)
 	}
 	return Result{}, fail(topology, ErrUnknownTopology, "unknown topology %q (valid: %s)", topology, strings.Join(Names(), ", "))
 }
