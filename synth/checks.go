@@ -162,7 +162,7 @@ func (d *Design) swingCheck(pin string) (Check, bool) {
 	vpp := d.Spec.SignalVppV()
 	cause := "a full-scale sine"
 	if worst.StepV != nil && (worst.StepV[1] > worst.SineV[1] || worst.StepV[0] < worst.SineV[0]) {
-		cause = "the step's overshoot"
+		cause = "the full-scale step"
 	}
 	room := *worst.HeadroomV
 	var text string
@@ -191,11 +191,11 @@ func (d *Design) dcErrorCheck() (Check, bool) {
 	top := ""
 	if len(dc.Contributors) > 0 {
 		c := dc.Contributors[0]
-		src := "offset voltage"
+		src := "offset voltage gives"
 		if math.Abs(c.BiasV) > math.Abs(c.OffsetV) {
-			src = "bias currents"
+			src = "bias currents give"
 		}
-		top = fmt.Sprintf(" %s's %s give %.0f %% of it.", c.Ref, src, 100*c.Share)
+		top = fmt.Sprintf(" %s's %s %.0f %% of it.", c.Ref, src, 100*c.Share)
 	}
 	text := fmt.Sprintf("The output sits %s from the reference at DC (%.3g LSB), within the ½ LSB budget.", si.Format(dc.OutputOffsetV, "V", 3), *dc.OutputOffsetLSB) + top
 	if !ok {
