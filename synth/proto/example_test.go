@@ -74,6 +74,8 @@ func ExampleMinOrder() {
 	// chebyshev2  3
 	// bessel      4
 	// elliptic    2
+	// legendre    3
+	// gaussian    5
 	// 27 needs order 27, more than the limit of 20
 	// true cannot be met by any order: at this frequency no order gives more than 4.444 dB (the limit is 20)
 }

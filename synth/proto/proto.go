@@ -29,17 +29,23 @@ const (
 	// Elliptic is the elliptic (Cauer) approximation: equiripple passband
 	// and stopband.
 	Elliptic Approximation = "elliptic"
+	// Legendre is the optimum-L (Legendre–Papoulis) approximation: the
+	// steepest cutoff of any all-pole monotonic passband.
+	Legendre Approximation = "legendre"
+	// Gaussian is the Gaussian magnitude approximation (truncated series
+	// of e^(a·ω²)): all-pole, monotonic loss, step with almost no overshoot.
+	Gaussian Approximation = "gaussian"
 )
 
 // Approximations returns every supported approximation, in a fixed order.
 func Approximations() []Approximation {
-	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic}
+	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian}
 }
 
 // Valid reports whether a is one of the supported approximations.
 func (a Approximation) Valid() bool {
 	switch a {
-	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic:
+	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian:
 		return true
 	}
 	return false
@@ -79,11 +85,11 @@ type OrderError struct {
 	Needed int
 	// Max is the highest order allowed, [MaxOrder].
 	Max int
-	// Unreachable reports that no order at all meets the mask. Only a
-	// Bessel mask can be unreachable: at a fixed normalised frequency
-	// ratio its loss rises with the order to a maximum and then falls back
-	// toward the Gaussian limit rippleDB·ratio², so an attenDB above that
-	// maximum is met by no order.
+	// Unreachable reports that no order at all meets the mask. Only
+	// Bessel and Gaussian masks can be unreachable: at a fixed normalised
+	// frequency ratio their loss rises with the order toward (Bessel: to a
+	// maximum and then back toward) the Gaussian limit rippleDB·ratio², so
+	// an attenDB above the most loss any order gives is met by no order.
 	Unreachable bool
 
 	atLeast bool    // Needed is a lower bound
@@ -200,11 +206,27 @@ func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error)
 		h = bessel(n, rippleDB)
 	case Elliptic:
 		h = elliptic(n, rippleDB, attenDB)
+	case Legendre:
+		h = legendre(n, rippleDB)
+	case Gaussian:
+		h = gaussian(n, rippleDB)
 	}
-	if !representable(h) {
+	if !representable(h) || (computedRoots(a) && !edgeLossHolds(h, rippleDB)) {
 		return zpk.ZPK{}, fmt.Errorf("%w: %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
 	}
 	return h, nil
+}
+
+// computedRoots reports whether a's poles come from an iterative root
+// finder on a defining function that loses accuracy at extreme losses, so
+// that Lowpass checks the normalisation of the result.
+func computedRoots(a Approximation) bool { return a == Legendre || a == Gaussian }
+
+// edgeLossHolds reports whether the loss of h at 1 rad/s is rippleDB to
+// 1e-9 dB (relative above 1 dB), the accuracy Lowpass promises.
+func edgeLossHolds(h zpk.ZPK, rippleDB float64) bool {
+	l := -20 * math.Log10(h.MagnitudeAt(1))
+	return math.Abs(l-rippleDB) <= 1e-9*math.Max(1, rippleDB)
 }
 
 // representable reports whether every pole is finite and in the open left
@@ -257,6 +279,10 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 		k1, k1p := discrimination(rippleDB, attenDB)
 		k, _ := ellipdeg(n, k1, k1p)
 		w = 1 / k
+	case Legendre:
+		w = legendreEdge(n, rippleDB, attenDB)
+	case Gaussian:
+		w = gaussianEdge(n, rippleDB, attenDB)
 	}
 	if !finite(w) || !(w > 1) {
 		return 0, fmt.Errorf("%w: stopband edge of %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
@@ -306,8 +332,13 @@ func MinOrder(a Approximation, rippleDB, attenDB, ratio float64) (int, error) {
 	if err := checkRatio(ratio); err != nil {
 		return 0, err
 	}
-	if a == Bessel {
+	switch a {
+	case Bessel:
 		return besselMinOrder(rippleDB, attenDB, ratio)
+	case Legendre:
+		return legendreMinOrder(rippleDB, attenDB, ratio)
+	case Gaussian:
+		return gaussianMinOrder(rippleDB, attenDB, ratio)
 	}
 	var x float64
 	switch a {

@@ -1,0 +1,257 @@
+package proto
+
+import (
+	"math"
+	"math/cmplx"
+
+	"github.com/polewright/polewright/synth/zpk"
+)
+
+// The optimum-L (Legendre–Papoulis) prototype has
+//
+//	|H(jω)|² = 1/(1 + ε²·L_n(ω²)),   ε² = 10^(rippleDB/10) − 1,
+//
+// where L_n is Papoulis's polynomial: L_n(0) = 0, L_n(1) = 1, L_n′ ≥ 0 on
+// [0, 1] and L_n′(1) as large as possible. In the variable x = 2ω² − 1,
+//
+//	n = 2k+1:  L_n = ∫_{−1}^{x} q(t)² dt,          a_i = (2i+1)/(√2·(k+1)),        i = 0…k
+//	n = 2k+2:  L_n = ∫_{−1}^{x} (1+t)·q(t)² dt,   a_i = (2i+1)/√((k+1)(k+2)), i ≡ k (mod 2), else 0
+//
+// with q = Σ a_i·P_i and P_i the Legendre polynomials. Everything here
+// stays in the Legendre basis: q² by the recurrence for P_i·q, the factor
+// (1+t) and the integral by the three-term relations, and the zeros of
+// 1 + ε²·L_n (a polynomial of degree n in x) by the Aberth–Ehrlich
+// iteration on a forward-recurrence evaluation. No power-basis
+// coefficient is ever formed.
+
+// legendreTimesX returns the Legendre coefficients of x·f for the
+// Legendre coefficients c of f: x·P_j = ((j+1)·P_{j+1} + j·P_{j−1})/(2j+1).
+func legendreTimesX(c []float64) []float64 {
+	out := make([]float64, len(c)+1)
+	for j, v := range c {
+		out[j+1] += v * float64(j+1) / float64(2*j+1)
+		if j > 0 {
+			out[j-1] += v * float64(j) / float64(2*j+1)
+		}
+	}
+	return out
+}
+
+// legendreL returns the Legendre coefficients (in x = 2ω²−1) of Papoulis's
+// L_n, n ≥ 1; len n+1.
+func legendreL(n int) []float64 {
+	k := (n - 1) / 2
+	if n%2 == 0 {
+		k = (n - 2) / 2
+	}
+	a := make([]float64, k+1)
+	for i := range a {
+		switch {
+		case n%2 == 1:
+			a[i] = float64(2*i+1) / (math.Sqrt2 * float64(k+1))
+		case i%2 == k%2:
+			a[i] = float64(2*i+1) / math.Sqrt(float64((k+1)*(k+2)))
+		}
+	}
+	// q² = Σ_i a_i·(P_i·q), with P_{i+1}·q = ((2i+1)·x·(P_i·q) − i·(P_{i−1}·q))/(i+1).
+	sq := make([]float64, 2*k+1)
+	prev, cur := []float64(nil), a
+	for i := 0; i <= k; i++ {
+		if i > 0 {
+			xc := legendreTimesX(cur)
+			next := make([]float64, len(xc))
+			for j, v := range xc {
+				next[j] = v * float64(2*i-1) / float64(i)
+			}
+			for j, v := range prev {
+				next[j] -= v * float64(i-1) / float64(i)
+			}
+			prev, cur = cur, next
+		}
+		for j, v := range cur {
+			if j < len(sq) {
+				sq[j] += a[i] * v
+			}
+		}
+	}
+	w := sq
+	if n%2 == 0 {
+		xw := legendreTimesX(sq)
+		for j, v := range sq {
+			xw[j] += v
+		}
+		w = xw
+	}
+	// ∫_{−1}^{x} P_0 = P_0 + P_1; ∫_{−1}^{x} P_j = (P_{j+1} − P_{j−1})/(2j+1).
+	out := make([]float64, len(w)+1)
+	for j, v := range w {
+		if j == 0 {
+			out[0] += v
+			out[1] += v
+			continue
+		}
+		out[j+1] += v / float64(2*j+1)
+		out[j-1] -= v / float64(2*j+1)
+	}
+	return out[:n+1]
+}
+
+// legendreSeries evaluates Σ c_j·P_j(x) and its derivative by the forward
+// recurrences of P_j and P_j′.
+func legendreSeries(c []complex128, x complex128) (v, dv complex128) {
+	p0, p1 := complex128(1), x
+	d0, d1 := complex128(0), complex128(1)
+	v = c[0]
+	if len(c) > 1 {
+		v += c[1] * x
+		dv = c[1]
+	}
+	for j := 1; j+1 < len(c); j++ {
+		a, b := complex(float64(2*j+1)/float64(j+1), 0), complex(float64(j)/float64(j+1), 0)
+		p0, p1 = p1, a*x*p1-b*p0
+		d0, d1 = d1, a*(p0+x*d1)-b*d0
+		v += c[j+1] * p1
+		dv += c[j+1] * d1
+	}
+	return v, dv
+}
+
+// legendreLnL returns ln L_n at x ≥ 1 (ω ≥ 1) from the Legendre
+// coefficients c, by the forward recurrence rescaled whenever the values
+// pass 1e150, so that it cannot overflow. Every P_j is positive and
+// increasing for x ≥ 1, and so is L_n.
+func legendreLnL(c []float64, x float64) float64 {
+	p0, p1 := 1.0, x
+	sum := c[0] + c[1]*x
+	lnScale := 0.0
+	for j := 1; j+1 < len(c); j++ {
+		p0, p1 = p1, (float64(2*j+1)*x*p1-float64(j)*p0)/float64(j+1)
+		sum += c[j+1] * p1
+		if p1 > 1e150 {
+			const f = 1e-150
+			p0, p1, sum = p0*f, p1*f, sum*f
+			lnScale += 150 * math.Ln10
+		}
+	}
+	return lnScale + math.Log(sum)
+}
+
+// legendreLossAt returns the loss in dB at ratio ≥ 1 of the order-n
+// optimum-L prototype normalised to rippleDB at 1 rad/s:
+// 10·log10(1 + ε²·L_n(ratio²)).
+func legendreLossAt(n int, rippleDB, ratio float64) float64 {
+	lnE2 := lnPow10m1(rippleDB)
+	lnL := legendreLnL(legendreL(n), 2*ratio*ratio-1)
+	return lnOnePlusExp(lnE2+lnL) * (10 / math.Ln10)
+}
+
+// lnOnePlusExp returns ln(1 + e^y) without overflow.
+func lnOnePlusExp(y float64) float64 {
+	if y > 30 {
+		return y + math.Log1p(math.Exp(-y))
+	}
+	return math.Log1p(math.Exp(y))
+}
+
+// legendreRoots returns the left-half-plane poles of the order-n
+// optimum-L prototype with ε² = e^lnE2 as conjugate-pair upper members
+// and real poles, or ok false if the iteration did not settle.
+func legendreRoots(n int, lnE2 float64) (upper []complex128, reals []float64, ok bool) {
+	c := legendreL(n)
+	e2 := math.Exp(lnE2)
+	d := make([]complex128, len(c))
+	for j, v := range c {
+		d[j] = complex(e2*v, 0)
+	}
+	d[0]++
+	// Start from the Butterworth poles of the same ε, mapped to
+	// x = 2ω² − 1 = −2s² − 1: the optimum-L poles lie close to them.
+	r := math.Exp(-lnE2 / (2 * float64(n)))
+	x := make([]complex128, n)
+	for i := range x {
+		phi := math.Pi/2 + float64(2*i+1)*math.Pi/float64(2*n)
+		s := cmplx.Rect(r, phi)
+		x[i] = -2*s*s - 1
+		// Nudge off the conjugate-symmetric start so that coincident
+		// starting values cannot occur.
+		x[i] += complex(0, 1e-3*r*r*float64(i+1)/float64(n))
+	}
+	step := func(z complex128) complex128 {
+		v, dv := legendreSeries(d, z)
+		return v / dv
+	}
+	if !aberthAll(x, step, 1e-14, 1e-9, 200) {
+		return nil, nil, false
+	}
+	// One more Newton step each at full accuracy.
+	for i, z := range x {
+		x[i] = z - step(z)
+	}
+	for i, z := range x {
+		x[i] = leftRoot(-(z + 1) / 2)
+	}
+	return splitConjugates(x)
+}
+
+// legendre returns the optimum-L prototype normalised to rippleDB at
+// 1 rad/s.
+func legendre(n int, rippleDB float64) zpk.ZPK {
+	upper, reals, ok := legendreRoots(n, lnPow10m1(rippleDB))
+	if !ok || 2*len(upper)+len(reals) != n {
+		return zpk.ZPK{Gain: math.NaN()}
+	}
+	return zpk.ZPK{Poles: assemble(upper, reals...), Gain: dcGain(1, upper, reals, nil)}
+}
+
+// LegendreSearchCap is the highest optimum-L order that [MinOrder]
+// evaluates when looking for the order a mask would need beyond
+// [MaxOrder].
+const LegendreSearchCap = 40
+
+// legendreMinOrder searches n = 1, 2, … for the first order whose loss at
+// ratio reaches attenDB; the loss at a fixed ratio > 1 rises with n.
+func legendreMinOrder(rippleDB, attenDB, ratio float64) (int, error) {
+	for n := 1; n <= LegendreSearchCap; n++ {
+		if legendreLossAt(n, rippleDB, ratio) >= attenDB {
+			if n <= MaxOrder {
+				return n, nil
+			}
+			return 0, &OrderError{Needed: n, Max: MaxOrder}
+		}
+	}
+	return 0, &OrderError{Needed: LegendreSearchCap + 1, Max: MaxOrder, atLeast: true}
+}
+
+// legendreEdge returns the normalised frequency where the order-n
+// optimum-L prototype's loss reaches attenDB: L_n(ω²) = ε_A²/ε², solved by
+// bisection on ln ω (L_n increases for ω ≥ 1).
+func legendreEdge(n int, rippleDB, attenDB float64) float64 {
+	c := legendreL(n)
+	target := lnPow10m1(attenDB) - lnPow10m1(rippleDB) // ln L_n at the edge
+	f := func(lw float64) float64 {
+		w := math.Exp(lw)
+		return legendreLnL(c, 2*w*w-1) - target
+	}
+	lo, hi := 0.0, 1.0
+	for f(hi) < 0 && hi < 1e4 {
+		lo, hi = hi, 2*hi
+	}
+	return math.Exp(bisect(f, lo, hi))
+}
+
+// bisect returns the root of the increasing f in [lo, hi] by bisection to
+// rounding level.
+func bisect(f func(float64) float64, lo, hi float64) float64 {
+	for range 200 {
+		mid := (lo + hi) / 2
+		if mid <= lo || mid >= hi {
+			break
+		}
+		if f(mid) < 0 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
+}
