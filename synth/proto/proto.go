@@ -35,17 +35,45 @@ const (
 	// Gaussian is the Gaussian magnitude approximation (truncated series
 	// of e^(a·ω²)): all-pole, monotonic loss, step with almost no overshoot.
 	Gaussian Approximation = "gaussian"
+	// LinearPhase is the linear-phase approximation with equiripple phase
+	// error: all-pole, its phase follows a pure delay to within ±δ
+	// ([PhaseErrorDeg], default [DefaultPhaseErrorDeg]) over a band about
+	// twice as wide as Bessel's.
+	LinearPhase Approximation = "linear-phase"
 )
+
+// Option adjusts a prototype beyond its order and losses.
+type Option func(*options)
+
+type options struct {
+	phaseErrorDeg float64
+}
+
+// PhaseErrorDeg sets the phase ripple δ of the [LinearPhase] prototype, in
+// degrees, from [MinPhaseErrorDeg] to [MaxPhaseErrorDeg]. Other
+// approximations ignore it.
+func PhaseErrorDeg(deg float64) Option { return func(o *options) { o.phaseErrorDeg = deg } }
+
+func collect(a Approximation, opts []Option) (options, error) {
+	o := options{phaseErrorDeg: DefaultPhaseErrorDeg}
+	for _, f := range opts {
+		f(&o)
+	}
+	if a == LinearPhase && !(o.phaseErrorDeg >= MinPhaseErrorDeg && o.phaseErrorDeg <= MaxPhaseErrorDeg) {
+		return o, badArg("phase error %g° not in [%g, %g]", o.phaseErrorDeg, float64(MinPhaseErrorDeg), float64(MaxPhaseErrorDeg))
+	}
+	return o, nil
+}
 
 // Approximations returns every supported approximation, in a fixed order.
 func Approximations() []Approximation {
-	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian}
+	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian, LinearPhase}
 }
 
 // Valid reports whether a is one of the supported approximations.
 func (a Approximation) Valid() bool {
 	switch a {
-	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian:
+	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian, LinearPhase:
 		return true
 	}
 	return false
@@ -86,10 +114,11 @@ type OrderError struct {
 	// Max is the highest order allowed, [MaxOrder].
 	Max int
 	// Unreachable reports that no order at all meets the mask. Only
-	// Bessel and Gaussian masks can be unreachable: at a fixed normalised
-	// frequency ratio their loss rises with the order toward (Bessel: to a
-	// maximum and then back toward) the Gaussian limit rippleDB·ratio², so
-	// an attenDB above the most loss any order gives is met by no order.
+	// Bessel, linear-phase and Gaussian masks can be unreachable: at a
+	// fixed normalised frequency ratio their loss rises with the order to
+	// a maximum (Gaussian: toward its limit rippleDB·ratio²; Bessel and
+	// linear-phase: then falling back toward it), so an attenDB above the
+	// most loss any order gives is met by no order.
 	Unreachable bool
 
 	atLeast bool    // Needed is a lower bound
@@ -179,8 +208,12 @@ func usesAtten(a Approximation) bool { return a == Chebyshev2 || a == Elliptic }
 // Errors wrap [ErrBadArgument] for invalid arguments and
 // [ErrNotRepresentable] when extreme arguments overflow float64 or, for
 // Elliptic, when ωs − 1 < 1e-9.
-func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error) {
+func Lowpass(a Approximation, n int, rippleDB, attenDB float64, opts ...Option) (zpk.ZPK, error) {
 	if err := checkApprox(a); err != nil {
+		return zpk.ZPK{}, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return zpk.ZPK{}, err
 	}
 	if err := checkOrder(n); err != nil {
@@ -210,6 +243,8 @@ func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error)
 		h = legendre(n, rippleDB)
 	case Gaussian:
 		h = gaussian(n, rippleDB)
+	case LinearPhase:
+		h, _, _ = linearPhase(n, rippleDB, o.phaseErrorDeg)
 	}
 	if !representable(h) || (computedRoots(a) && !edgeLossHolds(h, rippleDB)) {
 		return zpk.ZPK{}, fmt.Errorf("%w: %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
@@ -220,7 +255,7 @@ func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error)
 // computedRoots reports whether a's poles come from an iterative root
 // finder on a defining function that loses accuracy at extreme losses, so
 // that Lowpass checks the normalisation of the result.
-func computedRoots(a Approximation) bool { return a == Legendre || a == Gaussian }
+func computedRoots(a Approximation) bool { return a == Legendre || a == Gaussian || a == LinearPhase }
 
 // edgeLossHolds reports whether the loss of h at 1 rad/s is rippleDB to
 // 1e-9 dB (relative above 1 dB), the accuracy Lowpass promises.
@@ -254,8 +289,12 @@ func representable(h zpk.ZPK) bool {
 // the loss never falls below attenDB; for the monotonic approximations the
 // frequency where the loss equals attenDB. Arguments are validated as for
 // [Lowpass], with attenDB required for every approximation.
-func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, error) {
+func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64, opts ...Option) (float64, error) {
 	if err := checkApprox(a); err != nil {
+		return 0, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return 0, err
 	}
 	if err := checkOrder(n); err != nil {
@@ -283,6 +322,8 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 		w = legendreEdge(n, rippleDB, attenDB)
 	case Gaussian:
 		w = gaussianEdge(n, rippleDB, attenDB)
+	case LinearPhase:
+		w = linearPhaseEdge(n, rippleDB, attenDB, o.phaseErrorDeg)
 	}
 	if !finite(w) || !(w > 1) {
 		return 0, fmt.Errorf("%w: stopband edge of %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
@@ -319,8 +360,12 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 // mask: the error is then Unreachable and quotes the maximum. Other errors
 // wrap [ErrBadArgument] (or [ErrNotRepresentable] for a bound that is not
 // a number).
-func MinOrder(a Approximation, rippleDB, attenDB, ratio float64) (int, error) {
+func MinOrder(a Approximation, rippleDB, attenDB, ratio float64, opts ...Option) (int, error) {
 	if err := checkApprox(a); err != nil {
+		return 0, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return 0, err
 	}
 	if err := checkRipple(rippleDB); err != nil {
@@ -339,6 +384,8 @@ func MinOrder(a Approximation, rippleDB, attenDB, ratio float64) (int, error) {
 		return legendreMinOrder(rippleDB, attenDB, ratio)
 	case Gaussian:
 		return gaussianMinOrder(rippleDB, attenDB, ratio)
+	case LinearPhase:
+		return linearPhaseMinOrder(rippleDB, attenDB, ratio, o.phaseErrorDeg)
 	}
 	var x float64
 	switch a {
