@@ -73,11 +73,14 @@
 // and ellipord and evaluates Bessel, optimum-L, Gaussian and linear-phase
 // prototypes order by order.
 //
-// The optimum-L and Gaussian poles come from an iteration whose
-// evaluation loses accuracy for extreme losses (the optimum-L beyond some
-// 60 dB of passband ripple, where its poles crowd toward s = 0): [Lowpass]
-// checks that the loss at 1 rad/s is rippleDB to 1e-9 dB and otherwise
-// returns [ErrNotRepresentable].
+// The optimum-L, Gaussian and linear-phase poles come from iterations
+// whose evaluation loses accuracy at extreme losses: [Lowpass] checks that
+// the loss at 1 rad/s is rippleDB to 1e-9 dB and otherwise returns
+// [ErrNotRepresentable]. Measured over orders 1–20: optimum-L holds from
+// 1e-12 dB to 80 dB of passband ripple (at 100 dB most orders are refused:
+// the poles crowd toward s = 0 where the Legendre-basis evaluation
+// cancels), Gaussian from 1e-12 dB to 200 dB; at 1e-300 dB the gains of
+// the higher orders overflow.
 //
 // References:
 //

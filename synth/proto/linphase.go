@@ -498,7 +498,7 @@ func allPoleDipDB(poles []complex128) float64 {
 // (1 rad/s of the prototype is w0 on the unit-delay scale, so its delay
 // is w0 seconds at 1 rad/s) and the dip d ≤ 0 of its loss below DC in dB
 // (|H(0)| = 10^(d/20)). w0 is 0 if the prototype cannot be computed or
-// rippleDB is not above −d.
+// rippleDB is not above −d (dip is then still reported).
 func linearPhase(n int, rippleDB, phaseErrorDeg float64) (h zpk.ZPK, w0, dip float64) {
 	bad := zpk.ZPK{Gain: math.NaN()}
 	l := linPhaseUnit(n, phaseErrorDeg)
@@ -512,7 +512,7 @@ func linearPhase(n int, rippleDB, phaseErrorDeg float64) (h zpk.ZPK, w0, dip flo
 	poles := assemble(upper, reals...)
 	dip = allPoleDipDB(poles)
 	if !(rippleDB+dip > 0) {
-		return bad, 0, 0
+		return bad, 0, dip
 	}
 	w0 = allPoleOmega(poles, rippleDB+dip)
 	lg := dip * (math.Ln10 / 20)

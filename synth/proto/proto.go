@@ -244,7 +244,11 @@ func Lowpass(a Approximation, n int, rippleDB, attenDB float64, opts ...Option) 
 	case Gaussian:
 		h = gaussian(n, rippleDB)
 	case LinearPhase:
-		h, _, _ = linearPhase(n, rippleDB, o.phaseErrorDeg)
+		var dip float64
+		h, _, dip = linearPhase(n, rippleDB, o.phaseErrorDeg)
+		if !(rippleDB+dip > 0) {
+			return zpk.ZPK{}, badArg("rippleDB %g is not above the %.3g dB by which the linear-phase prototype of order %d with phase error %g° rises above its DC gain", rippleDB, -dip, n, o.phaseErrorDeg)
+		}
 	}
 	if !representable(h) || (computedRoots(a) && !edgeLossHolds(h, rippleDB)) {
 		return zpk.ZPK{}, fmt.Errorf("%w: %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
