@@ -2,6 +2,7 @@ package proto
 
 import (
 	"math"
+	"sync"
 
 	"github.com/polewright/polewright/synth/zpk"
 )
@@ -51,6 +52,39 @@ func gaussLnSum(n, k0 int, lny float64) (v, dv float64) {
 // so the iteration falls monotonically onto the root.
 func gaussLnA(n int, rippleDB float64) float64 {
 	target := lnPow10m1(rippleDB)
+	if target < 300 && target > -300 {
+		// Plain arithmetic while nothing can overflow: Newton on
+		// f(a) = Σ_{k=1..n} a^k/k! − (10^(rippleDB/10) − 1), convex and
+		// increasing, from the smaller of 10^(rippleDB/10) − 1 and
+		// (n!·(10^(rippleDB/10) − 1))^(1/n), where f ≥ 0 (the first and the
+		// last term alone reach the right side).
+		rhs := math.Exp(target)
+		lnFact := 0.0
+		for k := 2; k <= n; k++ {
+			lnFact += math.Log(float64(k))
+		}
+		a := math.Min(rhs, math.Exp((lnFact+target)/float64(n)))
+		for range 200 {
+			// f and f′ = e_{n−1}(a) by Horner, the k = 0 term left out.
+			f, df := 0.0, 1.0
+			term := 1.0
+			for k := 1; k <= n; k++ {
+				term *= a / float64(k)
+				f += term
+				if k < n {
+					df += term
+				}
+			}
+			step := (f - rhs) / df
+			a -= step
+			if math.Abs(step) <= 1e-16*a {
+				break
+			}
+		}
+		if a > 0 && !math.IsInf(a, 0) {
+			return math.Log(a)
+		}
+	}
 	t := target
 	for range 200 {
 		g, dg := gaussLnSum(n, 1, t)
@@ -75,19 +109,37 @@ func gaussianLossAt(n int, rippleDB, ratio float64) float64 {
 // e_n is evaluated in nested form, 1 + z(1 + z/2(1 + … (1 + z/n))).
 func expSeriesStep(n int, z complex128) complex128 {
 	b := complex128(1)
-	for k := n; k >= 1; k-- {
-		b = 1 + z*b/complex(float64(k), 0)
-	}
 	t := complex128(1)
-	for k := 1; k <= n; k++ {
-		t *= z / complex(float64(k), 0)
+	for k := n; k >= 1; k-- {
+		r := 1 / float64(k)
+		zb := z * b
+		b = 1 + complex(real(zb)*r, imag(zb)*r)
+		zt := z * t
+		t = complex(real(zt)*r, imag(zt)*r)
 	}
 	return b / (b - t)
 }
 
-// gaussianRoots returns the left-half-plane poles of the order-n Gaussian
-// prototype with a = e^lnA.
-func gaussianRoots(n int, lnA float64) (upper []complex128, reals []float64, ok bool) {
+// expSeriesZeros returns the n zeros of e_n, or nil if the iteration did
+// not settle. They depend on n alone, so those of orders up to MaxOrder
+// are computed once and kept.
+func expSeriesZeros(n int) []complex128 {
+	if n <= MaxOrder {
+		expZeros.once[n].Do(func() { expZeros.z[n] = findExpSeriesZeros(n) })
+		return expZeros.z[n]
+	}
+	return findExpSeriesZeros(n)
+}
+
+var expZeros struct {
+	once [MaxOrder + 1]sync.Once
+	z    [MaxOrder + 1][]complex128
+}
+
+func findExpSeriesZeros(n int) []complex128 {
+	if n == 1 {
+		return []complex128{-1}
+	}
 	// The zeros of e_n lie in 1 ≤ |z| ≤ n (Eneström–Kakeya: the ratios
 	// of consecutive coefficients are 1…n), near n times the curve
 	// |w·e^(1−w)| = 1 (Szegő). Start on a circle through that region.
@@ -97,15 +149,23 @@ func gaussianRoots(n int, lnA float64) (upper []complex128, reals []float64, ok 
 		z[i] = complex(0.3*float64(n), 0) + complex(0.7*float64(n)+0.5, 0)*complex(math.Cos(phi), math.Sin(phi))
 	}
 	step := func(u complex128) complex128 { return expSeriesStep(n, u) }
-	if n > 1 && !aberthAll(z, step, 1e-14, 1e-9, 300) {
+	if !aberthAll(z, step, 1e-14, 1e-9, 300) {
+		return nil
+	}
+	return z
+}
+
+// gaussianRoots returns the left-half-plane poles of the order-n Gaussian
+// prototype with a = e^lnA.
+func gaussianRoots(n int, lnA float64) (upper []complex128, reals []float64, ok bool) {
+	zeros := expSeriesZeros(n)
+	if zeros == nil {
 		return nil, nil, false
 	}
-	if n == 1 {
-		z[0] = -1
-	}
-	a := math.Exp(lnA)
-	for i, u := range z {
-		z[i] = leftRoot(-u / complex(a, 0))
+	z := make([]complex128, n)
+	r := math.Exp(-lnA / 2)
+	for i, u := range zeros {
+		z[i] = leftRoot(-u) * complex(r, 0)
 	}
 	return splitConjugates(z)
 }

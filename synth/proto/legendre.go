@@ -3,6 +3,7 @@ package proto
 import (
 	"math"
 	"math/cmplx"
+	"sync"
 
 	"github.com/polewright/polewright/synth/zpk"
 )
@@ -38,8 +39,22 @@ func legendreTimesX(c []float64) []float64 {
 }
 
 // legendreL returns the Legendre coefficients (in x = 2ω²−1) of Papoulis's
-// L_n, n ≥ 1; len n+1.
+// L_n, n ≥ 1; len n+1. Those of orders up to LegendreSearchCap are
+// computed once and kept; the caller must not modify them.
 func legendreL(n int) []float64 {
+	if n <= LegendreSearchCap {
+		legendreCoef.once[n].Do(func() { legendreCoef.c[n] = buildLegendreL(n) })
+		return legendreCoef.c[n]
+	}
+	return buildLegendreL(n)
+}
+
+var legendreCoef struct {
+	once [LegendreSearchCap + 1]sync.Once
+	c    [LegendreSearchCap + 1][]float64
+}
+
+func buildLegendreL(n int) []float64 {
 	k := (n - 1) / 2
 	if n%2 == 0 {
 		k = (n - 2) / 2
@@ -96,24 +111,31 @@ func legendreL(n int) []float64 {
 	return out[:n+1]
 }
 
-// legendreSeries evaluates Σ c_j·P_j(x) and its derivative by the forward
-// recurrences of P_j and P_j′.
-func legendreSeries(c []complex128, x complex128) (v, dv complex128) {
+// legendreSeries evaluates Σ c_j·P_j(x) and its derivative for real
+// coefficients c by the forward recurrences of P_j and P_j′.
+func legendreSeries(c []float64, x complex128) (v, dv complex128) {
 	p0, p1 := complex128(1), x
 	d0, d1 := complex128(0), complex128(1)
-	v = c[0]
+	vr, vi := c[0], 0.0
+	dr, di := 0.0, 0.0
 	if len(c) > 1 {
-		v += c[1] * x
-		dv = c[1]
+		vr += c[1] * real(x)
+		vi += c[1] * imag(x)
+		dr = c[1]
 	}
 	for j := 1; j+1 < len(c); j++ {
-		a, b := complex(float64(2*j+1)/float64(j+1), 0), complex(float64(j)/float64(j+1), 0)
-		p0, p1 = p1, a*x*p1-b*p0
-		d0, d1 = d1, a*(p0+x*d1)-b*d0
-		v += c[j+1] * p1
-		dv += c[j+1] * d1
+		a, b := float64(2*j+1)/float64(j+1), float64(j)/float64(j+1)
+		xp := x * p1
+		p0, p1 = p1, complex(a*real(xp)-b*real(p0), a*imag(xp)-b*imag(p0))
+		q := p0 + x*d1
+		d0, d1 = d1, complex(a*real(q)-b*real(d0), a*imag(q)-b*imag(d0))
+		cj := c[j+1]
+		vr += cj * real(p1)
+		vi += cj * imag(p1)
+		dr += cj * real(d1)
+		di += cj * imag(d1)
 	}
-	return v, dv
+	return complex(vr, vi), complex(dr, di)
 }
 
 // legendreLnL returns ln L_n at x ≥ 1 (ω ≥ 1) from the Legendre
@@ -159,9 +181,9 @@ func lnOnePlusExp(y float64) float64 {
 func legendreRoots(n int, lnE2 float64) (upper []complex128, reals []float64, ok bool) {
 	c := legendreL(n)
 	e2 := math.Exp(lnE2)
-	d := make([]complex128, len(c))
+	d := make([]float64, len(c))
 	for j, v := range c {
-		d[j] = complex(e2*v, 0)
+		d[j] = e2 * v
 	}
 	d[0]++
 	// Start from the Butterworth poles of the same ε, mapped to

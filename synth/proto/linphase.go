@@ -56,6 +56,27 @@ type linPhase struct {
 	om   float64
 	ext  []float64
 	band float64
+
+	// poles (canonical order, unit-delay scale) and dip, the lowest loss
+	// below DC (allPoleDipDB), filled once by unitPolesDip.
+	once  sync.Once
+	poles []complex128
+	dip   float64
+}
+
+// unitPolesDip returns the member's poles on the unit-delay scale and its
+// dip, computing them on first use; poles is nil if the zeros of D could
+// not be found in the left half plane. The caller must not modify poles.
+func (l *linPhase) unitPolesDip(n int) ([]complex128, float64) {
+	l.once.Do(func() {
+		upper, reals, ok := l.unitPoles(n)
+		if !ok || 2*len(upper)+len(reals) != n {
+			return
+		}
+		l.poles = assemble(upper, reals...)
+		l.dip = allPoleDipDB(l.poles)
+	})
+	return l.poles, l.dip
 }
 
 // eo returns E(ω) and O(ω) with D(jω) = E + j·O.
@@ -249,7 +270,9 @@ func goldenExtremum(f func(float64) float64, a, b float64, max bool) (float64, f
 	x1, x2 := b-g*(b-a), a+g*(b-a)
 	f1, f2 := sign*f(x1), sign*f(x2)
 	for range 80 {
-		if b-a <= 1e-13*b {
+		// The value at an extremum is quadratic in the location: 1e-7
+		// relative in ω leaves about 1e-13 of δ.
+		if b-a <= 1e-7*b {
 			break
 		}
 		if f1 > f2 {
@@ -505,12 +528,11 @@ func linearPhase(n int, rippleDB, phaseErrorDeg float64) (h zpk.ZPK, w0, dip flo
 	if l == nil {
 		return bad, 0, 0
 	}
-	upper, reals, ok := l.unitPoles(n)
-	if !ok || 2*len(upper)+len(reals) != n {
+	unit, dip := l.unitPolesDip(n)
+	if unit == nil {
 		return bad, 0, 0
 	}
-	poles := assemble(upper, reals...)
-	dip = allPoleDipDB(poles)
+	poles := append([]complex128(nil), unit...)
 	if !(rippleDB+dip > 0) {
 		return bad, 0, dip
 	}
