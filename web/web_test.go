@@ -396,6 +396,8 @@ func TestErrorBesideField(t *testing.T) {
 		{"gain out of range", "passband_hz=1000&stopband_hz=4000&gain_db=90", "gain_db", "must be from"},
 		{"dc gain out of range", "passband_hz=1000&stopband_hz=4000&opamp_dc_gain_db=5", "opamp_dc_gain_db", "20 to 200 dB"},
 		{"checkbox value", "passband_hz=1000&stopband_hz=4000&opamp_ideal=maybe", "opamp_ideal", "must be 1"},
+		{"phase ripple out of range", "approximation=linear-phase&passband_hz=1000&order=4&phase_error_deg=5", "phase_error_deg", "0.01 to 2 degrees"},
+		{"gaussian beyond its limit", "approximation=gaussian&passband_hz=1000&stopband_hz=2000&stopband_atten_db=30", "stopband_hz", "cannot be met by any order"},
 	}
 	block := func(page, control string) string {
 		i := strings.Index(page, `data-field="`+control+`"`)
