@@ -88,3 +88,45 @@ func TestLinearPhaseEquiripple(t *testing.T) {
 		}
 	}
 }
+
+// TestLinearPhaseRange designs order 20 (and so, by the continuation, every
+// lower order) across the accepted phase ripple, log-spaced, and checks
+// the normalisation of each order: the exchange settles everywhere in
+// [MinPhaseErrorDeg, MaxPhaseErrorDeg], and just outside it the argument
+// is refused.
+func TestLinearPhaseRange(t *testing.T) {
+	t.Parallel()
+	const steps = 24
+	lo, hi := math.Log(proto.MinPhaseErrorDeg), math.Log(proto.MaxPhaseErrorDeg)
+	for i := 0; i <= steps; i++ {
+		deg := math.Exp(lo + (hi-lo)*float64(i)/steps)
+		switch i { // exactly the ends, not their rounded logarithms
+		case 0:
+			deg = proto.MinPhaseErrorDeg
+		case steps:
+			deg = proto.MaxPhaseErrorDeg
+		}
+		t.Run(fmt.Sprintf("deg=%.4g", deg), func(t *testing.T) {
+			t.Parallel()
+			for n := 1; n <= proto.LinearPhaseMaxOrder; n++ {
+				h, err := proto.Lowpass(proto.LinearPhase, n, 3.0102999566398121, 0, proto.PhaseErrorDeg(deg))
+				require.NoError(t, err, "n=%d", n)
+				require.InDelta(t, 3.0102999566398121, lossDB(h, 1), 1e-9, "n=%d", n)
+				// The passband maximum is 1 (the gain is set at the
+				// peak when the magnitude rises before it falls).
+				top, at := 0.0, 0.0
+				for k := 0; k <= 400; k++ {
+					if m := h.MagnitudeAt(float64(k) / 400); m > top {
+						top, at = m, float64(k)/400
+					}
+				}
+				top = refineExtremum(h.MagnitudeAt, math.Max(0, at-1.0/400), math.Min(1, at+1.0/400), true)
+				require.InDelta(t, 1, top, 1e-9, "n=%d", n)
+			}
+		})
+	}
+	for _, deg := range []float64{proto.MinPhaseErrorDeg * 0.999, proto.MaxPhaseErrorDeg * 1.001, 0, math.NaN()} {
+		_, err := proto.Lowpass(proto.LinearPhase, 4, 3, 0, proto.PhaseErrorDeg(deg))
+		require.ErrorIs(t, err, proto.ErrBadArgument, "deg=%g", deg)
+	}
+}
