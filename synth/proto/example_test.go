@@ -99,3 +99,20 @@ func ExampleLinearPhaseDelay() {
 	// poles [(-0.6969+1.1318i) (-0.6969-1.1318i) (-0.8257+0.0000i)]
 	// delay 1.9480 s, phase within ±0.5° up to 1.3563 rad/s
 }
+
+// Optimum-L and Gaussian prototypes of order 3, both 3.0103 dB down at
+// 1 rad/s: the optimum-L falls faster beyond the edge, the Gaussian
+// slower (its poles lie further from the jω axis). The optimum-L loss at
+// 2 rad/s is 10·log10(1 + L_3(4)) = 10·log10(149) with L_3 = 3ω⁶ − 3ω⁴ + ω².
+func ExampleLowpass_optimumLAndGaussian() {
+	for _, a := range []proto.Approximation{proto.Legendre, proto.Gaussian} {
+		h, err := proto.Lowpass(a, 3, 3.0103, 0)
+		if err != nil {
+			panic(err)
+		}
+		fmt.Printf("%-8s poles %.4f, loss at 2 rad/s %.2f dB\n", a, h.Poles, -20*math.Log10(h.MagnitudeAt(2)))
+	}
+	// Output:
+	// legendre poles [(-0.3452+0.9009i) (-0.3452-0.9009i) (-0.6203+0.0000i)], loss at 2 rad/s 21.73 dB
+	// gaussian poles [(-1.3745+0.9407i) (-1.3745-0.9407i) (-1.5112+0.0000i)], loss at 2 rad/s 10.55 dB
+}
