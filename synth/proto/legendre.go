@@ -187,29 +187,58 @@ func legendreRoots(n int, lnE2 float64) (upper []complex128, reals []float64, ok
 	}
 	d[0]++
 	// Start from the Butterworth poles of the same ε, mapped to
-	// x = 2ω² − 1 = −2s² − 1: the optimum-L poles lie close to them.
+	// x = 2ω² − 1 = −2s² − 1: the optimum-L poles lie close to them. A
+	// pole in the upper left quadrant maps to x with Im x > 0, the real
+	// pole (odd n) to a real x < −1; D is real, so only those are
+	// iterated.
 	r := math.Exp(-lnE2 / (2 * float64(n)))
-	x := make([]complex128, n)
-	for i := range x {
+	xu := make([]complex128, n/2)
+	for i := range xu {
 		phi := math.Pi/2 + float64(2*i+1)*math.Pi/float64(2*n)
 		s := cmplx.Rect(r, phi)
-		x[i] = -2*s*s - 1
-		// Nudge off the conjugate-symmetric start so that coincident
-		// starting values cannot occur.
-		x[i] += complex(0, 1e-3*r*r*float64(i+1)/float64(n))
+		xu[i] = -2*s*s - 1
+	}
+	var xr []float64
+	if n%2 == 1 {
+		xr = []float64{-2*r*r - 1}
 	}
 	step := func(z complex128) complex128 {
 		v, dv := legendreSeries(d, z)
 		return v / dv
 	}
+	if !aberthConj(xu, xr, step, 1e-14, 1e-9, 200) {
+		return legendreRootsFull(n, r, step)
+	}
+	for i, z := range xu {
+		xu[i] = z - step(z) // one more Newton step at full accuracy
+		s := leftRoot(-(xu[i] + 1) / 2)
+		if imag(s) < 0 {
+			s = cmplx.Conj(s)
+		}
+		xu[i] = s
+	}
+	for i, z := range xr {
+		z -= real(step(complex(z, 0)))
+		xr[i] = -math.Sqrt((z + 1) / -2)
+	}
+	return xu, xr, true
+}
+
+// legendreRootsFull is the fallback of legendreRoots: all n zeros of D
+// iterated together from the same Butterworth starting values, nudged off
+// conjugate symmetry, then paired.
+func legendreRootsFull(n int, r float64, step func(complex128) complex128) (upper []complex128, reals []float64, ok bool) {
+	x := make([]complex128, n)
+	for i := range x {
+		phi := math.Pi/2 + float64(2*i+1)*math.Pi/float64(2*n)
+		s := cmplx.Rect(r, phi)
+		x[i] = -2*s*s - 1 + complex(0, 1e-3*r*r*float64(i+1)/float64(n))
+	}
 	if !aberthAll(x, step, 1e-14, 1e-9, 200) {
 		return nil, nil, false
 	}
-	// One more Newton step each at full accuracy.
 	for i, z := range x {
-		x[i] = z - step(z)
-	}
-	for i, z := range x {
+		z -= step(z)
 		x[i] = leftRoot(-(z + 1) / 2)
 	}
 	return splitConjugates(x)

@@ -45,6 +45,76 @@ func aberthAll(z []complex128, eval func(complex128) complex128, tol, floor floa
 	return false
 }
 
+// aberthConj is aberthAll for a real polynomial whose zeros are the
+// conjugate pairs of upper (imaginary parts > 0) and the real zeros
+// reals, refined in place: only the upper members and the real zeros are
+// iterated (their conjugates enter the repulsion terms), which halves the
+// work and keeps the pairs exactly conjugate. It reports false if the
+// iteration did not settle, or two members settled on the same pair or
+// on the real axis.
+func aberthConj(upper []complex128, reals []float64, eval func(complex128) complex128, tol, floor float64, maxSweeps int) bool {
+	prev := math.Inf(1)
+	for range maxSweeps {
+		worst := 0.0
+		for i, u := range upper {
+			w := eval(u)
+			sum := inv(u - cmplx.Conj(u))
+			for j, v := range upper {
+				if j != i {
+					sum += inv(u-v) + inv(u-cmplx.Conj(v))
+				}
+			}
+			for _, r := range reals {
+				sum += inv(u - complex(r, 0))
+			}
+			d := w / (1 - w*sum)
+			upper[i] = u - d
+			worst = math.Max(worst, cmplx.Abs(d)/cmplx.Abs(upper[i]))
+		}
+		for i, x := range reals {
+			w := real(eval(complex(x, 0)))
+			sum := 0.0
+			for _, v := range upper {
+				sum += 2 * real(inv(complex(x, 0)-v))
+			}
+			for j, y := range reals {
+				if j != i {
+					sum += 1 / (x - y)
+				}
+			}
+			d := w / (1 - w*sum)
+			reals[i] = x - d
+			worst = math.Max(worst, math.Abs(d/reals[i]))
+		}
+		if math.IsNaN(worst) || math.IsInf(worst, 0) {
+			return false
+		}
+		if worst < tol || (worst < floor && worst >= prev) {
+			// A member may settle on the lower of its pair, a zero
+			// all the same: take its conjugate, then require the
+			// members distinct and off the real axis.
+			for i, u := range upper {
+				if imag(u) < 0 {
+					upper[i] = cmplx.Conj(u)
+				}
+			}
+			for i, u := range upper {
+				if !(imag(u) > 1e-9*cmplx.Abs(u)) {
+					return false
+				}
+				for _, v := range upper[i+1:] {
+					if cmplx.Abs(u-v) <= 1e-6*cmplx.Abs(u) {
+						return false
+					}
+				}
+			}
+			return true
+		}
+		prev = worst
+	}
+	return false
+}
+
 // splitConjugates sorts the zeros z of a real polynomial into the upper
 // members of the conjugate pairs and the real zeros: a zero whose
 // imaginary part is below 1e-9 of its modulus counts as real. Each upper
