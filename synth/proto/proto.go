@@ -94,7 +94,10 @@ const BesselSearchCap = 400
 // ErrBadArgument is wrapped by every error about an invalid argument: an
 // unknown approximation, an order outside 1..[MaxOrder], a non-finite
 // value, rippleDB not in (0, [MaxLossDB]], attenDB not in (rippleDB,
-// [MaxLossDB]] where it is used, or a frequency ratio not above 1.
+// [MaxLossDB]] where it is used, a frequency ratio not above 1, a phase
+// ripple outside [[MinPhaseErrorDeg], [MaxPhaseErrorDeg]] for
+// [LinearPhase], or a linear-phase rippleDB not above the prototype's own
+// rise above its DC gain.
 var ErrBadArgument = errors.New("proto: bad argument")
 
 // ErrNotRepresentable is wrapped when valid but extreme arguments give a
@@ -107,7 +110,9 @@ type OrderError struct {
 	// Needed is the order the mask needs. It is 0 when Unreachable is set.
 	// For Bessel, when no order up to [BesselSearchCap] meets the mask
 	// (but the mask is below the limit that no order can pass), Needed is
-	// BesselSearchCap+1, a lower bound. For the closed-form
+	// BesselSearchCap+1, a lower bound; likewise for Gaussian, and for
+	// optimum-L beyond [LegendreSearchCap] and linear-phase beyond
+	// [LinearPhaseMaxOrder] (Needed is then the cap plus one). For the closed-form
 	// approximations a need above math.MaxInt32 is reported as
 	// math.MaxInt32, also a lower bound.
 	Needed int
@@ -192,6 +197,11 @@ func usesAtten(a Approximation) bool { return a == Chebyshev2 || a == Elliptic }
 // validated) by the others. Bessel is the reverse Bessel polynomial
 // prototype scaled in frequency so that its loss at 1 rad/s is rippleDB;
 // with rippleDB = 10·log10(2) it is scipy's besselap(n, norm='mag').
+// LinearPhase is scaled the same way from its unit-delay form and takes
+// its phase ripple from opts ([PhaseErrorDeg]); where its magnitude rises
+// above the DC gain before it falls, the peak is 1 and the loss at 1 rad/s
+// counts from the peak. Legendre and Gaussian are defined by their
+// squared magnitude (package comment) with the loss rippleDB at 1 rad/s.
 //
 // Poles come as adjacent conjugate pairs, the upper-half-plane member
 // first, in order of increasing imaginary part, followed by the real pole
@@ -351,8 +361,9 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64, opts ...Opt
 // the complete elliptic integrals of the first kind of a modulus and its
 // complement; the result equals scipy's buttord, cheb1ord, cheb2ord and
 // ellipord (analog=True, lowpass) except where the bound is within
-// rounding of an integer. Bessel evaluates the prototype at ratio for
-// n = 1, 2, … .
+// rounding of an integer. Bessel, Legendre, Gaussian and LinearPhase
+// evaluate the prototype's loss at ratio for n = 1, 2, … (Legendre from
+// its polynomial, Gaussian from its series, the others from the poles).
 //
 // When the mask needs more than [MaxOrder] the error is an [*OrderError]
 // with the order it would need. Bessel keeps evaluating up to
