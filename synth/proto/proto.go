@@ -37,8 +37,9 @@ const (
 	Gaussian Approximation = "gaussian"
 	// LinearPhase is the linear-phase approximation with equiripple phase
 	// error: all-pole, its phase follows a pure delay to within ±δ
-	// ([PhaseErrorDeg], default [DefaultPhaseErrorDeg]) over a band about
-	// twice as wide as Bessel's.
+	// ([PhaseErrorDeg], default [DefaultPhaseErrorDeg]) over a band 1.5
+	// to 1.7 times as wide as that of a Bessel filter of the same order
+	// and −3 dB frequency (measured at 0.05° and 0.5°, orders 3–12).
 	LinearPhase Approximation = "linear-phase"
 )
 
