@@ -401,7 +401,8 @@ func (d *Design) opAmpGBWCheck() (Check, bool) {
 // approximationNames are the approximations as a sentence names them.
 var approximationNames = map[string]string{
 	"butterworth": "Butterworth", "chebyshev1": "Chebyshev I", "chebyshev2": "Chebyshev II",
-	"bessel": "Bessel", "elliptic": "elliptic",
+	"bessel": "Bessel", "elliptic": "elliptic", "legendre": "optimum-L (Legendre)",
+	"gaussian": "Gaussian", "linear-phase": "linear-phase",
 }
 
 // dbText formats a dB figure with three significant decimals for small

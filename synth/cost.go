@@ -134,10 +134,11 @@ func estimateOrder(s Spec) int {
 	approx := proto.Approximation(s.Approximation)
 	amax, amin := s.DesignRippleDB(), s.DesignAttenDB()
 	ratio := normalizedStopband(s.Response, s.PassbandHz, s.StopbandHz)
-	n, err := proto.MinOrder(approx, amax, amin, ratio)
+	popt := proto.PhaseErrorDeg(s.phaseError())
+	n, err := proto.MinOrder(approx, amax, amin, ratio, popt)
 	if s.Response == Bandstop {
 		if _, r := optimalBandstopEdges(s.PassbandHz, s.StopbandHz); r > ratio {
-			if nOpt, errOpt := proto.MinOrder(approx, amax, amin, r); errOpt == nil && (err != nil || nOpt < n) {
+			if nOpt, errOpt := proto.MinOrder(approx, amax, amin, r, popt); errOpt == nil && (err != nil || nOpt < n) {
 				n, err = nOpt, nil
 			}
 		}

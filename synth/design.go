@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/equalize"
@@ -320,6 +321,7 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		return nil, nil, err
 	}
 	approx := proto.Approximation(s.Approximation)
+	popt := proto.PhaseErrorDeg(s.phaseError())
 	// The design margin tightens the losses the filter is designed to;
 	// the mask check below judges against the mask as given.
 	amax, amin := s.DesignRippleDB(), s.DesignAttenDB()
@@ -330,11 +332,11 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	mask := MaskReport{}
 	if s.HasStopband() {
 		ratio = normalizedStopband(s.Response, s.PassbandHz, s.StopbandHz)
-		n, err := proto.MinOrder(approx, amax, amin, ratio)
+		n, err := proto.MinOrder(approx, amax, amin, ratio, popt)
 		if s.Response == Bandstop {
 			// The lowest order over every arrangement of the passband edges.
 			if edges, r := optimalBandstopEdges(s.PassbandHz, s.StopbandHz); r > ratio {
-				if nOpt, errOpt := proto.MinOrder(approx, amax, amin, r); needed(nOpt, errOpt) < needed(n, err) {
+				if nOpt, errOpt := proto.MinOrder(approx, amax, amin, r, popt); needed(nOpt, errOpt) < needed(n, err) {
 					n, err = nOpt, errOpt
 					if s.Order == 0 && errOpt == nil {
 						designEdges, ratio = edges, r
@@ -371,7 +373,7 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		mask.StopbandFrom = "none"
 	}
 
-	proto1, err := proto.Lowpass(approx, order, amax, amin)
+	proto1, err := proto.Lowpass(approx, order, amax, amin, popt)
 	if err != nil {
 		field := "passband_ripple_db"
 		switch {
@@ -379,6 +381,9 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 			field = "stopband_hz" // the order came from the mask: the transition band is the cause
 		case approx == proto.Chebyshev2 || approx == proto.Elliptic:
 			field = "stopband_atten_db"
+		}
+		if errors.Is(err, proto.ErrBadArgument) {
+			return nil, nil, fieldErr(field, "the %s prototype of order %d cannot be designed: %s; change the order or the losses", s.Approximation, order, strings.TrimPrefix(err.Error(), proto.ErrBadArgument.Error()+": "))
 		}
 		return nil, nil, fieldErr(field, "the %s prototype of order %d with passband_ripple_db %g and stopband_atten_db %g cannot be computed in double precision (%v); change the order or the losses", s.Approximation, order, amax, amin, err)
 	}

@@ -58,13 +58,14 @@ func randomSpec(rng *rand.Rand) synth.Spec {
 	s := baseSpec(resp, approx)
 	s.PassbandRippleDB = []float64{0.01, 0.1, 0.5, 1, 3}[rng.IntN(5)]
 	s.StopbandAttenDB = 20 + rng.Float64()*80
-	if approx == "bessel" {
+	delayType := approx == "bessel" || approx == "gaussian" || approx == "linear-phase"
+	if delayType {
 		s.PassbandRippleDB = 3
 		s.StopbandAttenDB = 20 + rng.Float64()*30
 	}
 	f := math.Pow(10, 1+rng.Float64()*3) // 10 Hz .. 10 kHz, where the default part windows build every stage
 	k := 1.5 + rng.Float64()*4           // transition ratio
-	if approx == "bessel" {
+	if delayType {
 		k = 3 + rng.Float64()*6
 	}
 	switch resp {

@@ -40,6 +40,13 @@ func FuzzSynthesize(f *testing.F) {
 		`{"passband_hz": 1e8, "order": 20, "approximation": "chebyshev1", "delay_equalizer": {"max_spread_pct": 100}}`,
 		`{"passband_hz": 1e-3, "order": 1, "delay_equalizer": {"max_spread_pct": 0.01}}`,
 		`{"response": "bandpass", "passband_hz": [0.001, 1e8], "order": 3, "delay_equalizer": {"max_spread_pct": 1}}`,
+		`{"passband_hz": 1000, "order": 20, "approximation": "gaussian"}`,
+		`{"passband_hz": 1000, "order": 20, "approximation": "legendre", "passband_ripple_db": 100, "stopband_atten_db": 200}`,
+		`{"passband_hz": 1000, "stopband_hz": 1200, "approximation": "linear-phase", "phase_error_deg": 0.5}`,
+		`{"passband_hz": 1000, "stopband_hz": 5000, "approximation": "gaussian", "stopband_atten_db": 80}`,
+		`{"passband_hz": 1000, "order": 4, "approximation": "linear-phase", "phase_error_deg": 0}`,
+		`{"passband_hz": 1000, "order": 4, "approximation": "linear-phase", "phase_error_deg": 1e300}`,
+		`{"passband_hz": 1000, "order": 12, "approximation": "linear-phase", "phase_error_deg": 2, "passband_ripple_db": 0.001}`,
 	} {
 		f.Add([]byte(s))
 	}
@@ -91,7 +98,7 @@ func FuzzDesignFinite(f *testing.F) {
 		{"bandpass", `"passband_hz": [900, 1100], "stopband_hz": [700, 1400]`},
 		{"bandstop", `"passband_hz": [500, 2000], "stopband_hz": [800, 1250]`},
 	} {
-		for _, approx := range []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic"} {
+		for _, approx := range synth.Approximations {
 			f.Add([]byte(fmt.Sprintf(`{"response": %q, "approximation": %q, %s, "stopband_atten_db": 20}`, resp.kind, approx, resp.edges)))
 			f.Add([]byte(fmt.Sprintf(`{"response": %q, "approximation": %q, %s, "order": 4, %s}`, resp.kind, approx, resp.edges, conv)))
 		}
@@ -107,6 +114,12 @@ func FuzzDesignFinite(f *testing.F) {
 		`{"response": "bandpass", "approximation": "butterworth", "order": 20, "passband_hz": [1e4, 1.001e4], ` + wide + `}`,
 		`{"passband_hz": 1000, "order": 20, "approximation": "elliptic", "stopband_atten_db": 120, "passband_ripple_db": 0.01, "montecarlo": {"trials": 20, "seed": 3}}`,
 		`{"response": "highpass", "approximation": "bessel", "order": 1, "passband_hz": 0.01, "opamp": {"ideal": true}, ` + wide + `}`,
+		// The new approximations at their extremes: order 20, the widest
+		// and narrowest phase ripple, a tiny and a large Amax.
+		`{"approximation": "linear-phase", "order": 20, "passband_hz": 1000, "phase_error_deg": 2}`,
+		`{"approximation": "linear-phase", "order": 20, "passband_hz": 1000, "phase_error_deg": 0.01, "passband_ripple_db": 0.001}`,
+		`{"response": "bandstop", "approximation": "legendre", "order": 20, "passband_hz": [500, 2000], "stopband_hz": [800, 1250], "passband_ripple_db": 0.01, ` + wide + `}`,
+		`{"response": "bandpass", "approximation": "gaussian", "order": 20, "passband_hz": [900, 1100], "passband_ripple_db": 20, "stopband_atten_db": 60, ` + wide + `}`,
 	} {
 		f.Add([]byte(s))
 	}
@@ -140,7 +153,7 @@ func FuzzDesignFiniteParams(f *testing.F) {
 			gbwHz = fold(gbwHz, 1e5, 1e8)
 		}
 		responses := []string{"lowpass", "highpass", "bandpass", "bandstop"}
-		approxes := []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic"}
+		approxes := synth.Approximations
 		spec := map[string]any{
 			"response":           responses[int(resp)%len(responses)],
 			"approximation":      approxes[int(approx)%len(approxes)],

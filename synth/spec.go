@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"github.com/polewright/polewright/standards/eseries"
+	"github.com/polewright/polewright/synth/proto"
 )
 
 // Response names the kind of frequency response.
@@ -47,9 +48,18 @@ const (
 	MaxOhmLimit     = 100e6 // highest resistor window edge accepted
 	MinFaradLimit   = 1e-12
 	MaxFaradLimit   = 0.1
-	// BesselDefaultRippleDB is Amax for Bessel when the spec gives none:
-	// 10·log10(2), so that passband_hz is the −3 dB point.
+	// BesselDefaultRippleDB is Amax for Bessel, optimum-L (legendre),
+	// Gaussian and linear-phase when the spec gives none: the half-power
+	// loss 10·log10(2), so that passband_hz is the −3 dB point.
 	BesselDefaultRippleDB = 3.0102999566398121
+	// DefaultPhaseErrorDeg is phase_error_deg when the spec gives none:
+	// the phase ripple of a linear-phase design, in degrees.
+	DefaultPhaseErrorDeg = proto.DefaultPhaseErrorDeg
+	// MinPhaseErrorDeg and MaxPhaseErrorDeg bound phase_error_deg, in
+	// degrees: the range over which the linear-phase prototype is computed
+	// and checked at every order.
+	MinPhaseErrorDeg = proto.MinPhaseErrorDeg
+	MaxPhaseErrorDeg = proto.MaxPhaseErrorDeg
 )
 
 // OpAmp is the amplifier model of a spec: single pole, or ideal, with its
@@ -207,13 +217,17 @@ type Spec struct {
 	StopbandHz       []float64 `json:"stopband_hz,omitempty"`
 	PassbandRippleDB float64   `json:"passband_ripple_db"`
 	StopbandAttenDB  float64   `json:"stopband_atten_db"`
-	Order            int       `json:"order"`
-	GainDB           float64   `json:"gain_db"`
-	Topology         string    `json:"topology"`
-	ResistorSeries   string    `json:"resistor_series"`
-	CapacitorSeries  string    `json:"capacitor_series"`
-	OpAmp            OpAmp     `json:"opamp"`
-	Values           string    `json:"values"`
+	// PhaseErrorDeg is the phase ripple of a linear-phase design in
+	// degrees (ignored by the other approximations); 0 in a Spec built in
+	// Go stands for [DefaultPhaseErrorDeg].
+	PhaseErrorDeg   float64 `json:"phase_error_deg"`
+	Order           int     `json:"order"`
+	GainDB          float64 `json:"gain_db"`
+	Topology        string  `json:"topology"`
+	ResistorSeries  string  `json:"resistor_series"`
+	CapacitorSeries string  `json:"capacitor_series"`
+	OpAmp           OpAmp   `json:"opamp"`
+	Values          string  `json:"values"`
 	// ResistorRangeOhm and CapacitorRangeFarad are the windows part values
 	// are chosen in, [lo, hi].
 	ResistorRangeOhm    [2]float64 `json:"resistor_range_ohm"`
@@ -300,12 +314,42 @@ func IsFieldError(err error) (*FieldError, bool) {
 // Accepted names of the enumerated fields.
 var (
 	Responses      = []string{"lowpass", "highpass", "bandpass", "bandstop"}
-	Approximations = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic"}
+	Approximations = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic", "legendre", "gaussian", "linear-phase"}
 	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "auto"}
 	SeriesNames    = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
 	ValueModes     = []string{"series", "exact"}
 	Distributions  = []string{"uniform", "gaussian"}
 )
+
+func validPhaseError(deg float64) error {
+	if err := finite("phase_error_deg", deg); err != nil {
+		return err
+	}
+	if !(deg >= MinPhaseErrorDeg && deg <= MaxPhaseErrorDeg) {
+		return fieldErr("phase_error_deg", "must be from %g to %g degrees (got %g); it sets the phase ripple of a linear-phase design", float64(MinPhaseErrorDeg), float64(MaxPhaseErrorDeg), deg)
+	}
+	return nil
+}
+
+// phaseError returns the phase ripple the design uses, in degrees:
+// PhaseErrorDeg, or the default when it is 0.
+func (s Spec) phaseError() float64 {
+	if s.PhaseErrorDeg == 0 {
+		return DefaultPhaseErrorDeg
+	}
+	return s.PhaseErrorDeg
+}
+
+// halfPowerDefault reports whether approximation's default Amax is the
+// half-power loss rather than 1 dB: the delay and Gaussian-type filters,
+// whose passband edge is by custom their −3 dB point, and optimum-L.
+func halfPowerDefault(approximation string) bool {
+	switch approximation {
+	case "bessel", "legendre", "gaussian", "linear-phase":
+		return true
+	}
+	return false
+}
 
 // rawSpec mirrors the JSON with pointers, so that absent fields get their
 // defaults and present ones are validated.
@@ -316,6 +360,7 @@ type rawSpec struct {
 	StopbandHz       *json.RawMessage `json:"stopband_hz"`
 	PassbandRippleDB *float64         `json:"passband_ripple_db"`
 	StopbandAttenDB  *float64         `json:"stopband_atten_db"`
+	PhaseErrorDeg    *float64         `json:"phase_error_deg"`
 	Order            *json.Number     `json:"order"`
 	GainDB           *float64         `json:"gain_db"`
 	Topology         *string          `json:"topology"`
@@ -484,7 +529,7 @@ func jsonError(err error) error {
 	if rest, ok := strings.CutPrefix(msg, "json: unknown field "); ok {
 		name, _ := strconv.Unquote(rest)
 		name = fieldName(name) // cut, and an empty key still needs a visible name
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin, delay_equalizer)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, phase_error_deg, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin, supply, signal_vpp, delay_equalizer)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
@@ -587,7 +632,7 @@ func (raw rawSpec) build() (Spec, error) {
 			return Spec{}, err
 		}
 	}
-	if s.Approximation == "bessel" {
+	if halfPowerDefault(s.Approximation) {
 		s.PassbandRippleDB = BesselDefaultRippleDB
 	} else {
 		s.PassbandRippleDB = 1
@@ -597,6 +642,16 @@ func (raw rawSpec) build() (Spec, error) {
 	}
 	if raw.StopbandAttenDB != nil {
 		s.StopbandAttenDB = *raw.StopbandAttenDB
+	}
+	s.PhaseErrorDeg = DefaultPhaseErrorDeg
+	if raw.PhaseErrorDeg != nil {
+		// Checked here as well as in Validate, where 0 stands for the
+		// default: a spec that writes 0 asks for no ripple, which no
+		// linear-phase design has.
+		if err := validPhaseError(*raw.PhaseErrorDeg); err != nil {
+			return Spec{}, err
+		}
+		s.PhaseErrorDeg = *raw.PhaseErrorDeg
 	}
 	if raw.Order != nil {
 		o, perr := strconv.ParseFloat(raw.Order.String(), 64)
@@ -834,6 +889,11 @@ func (s Spec) Validate() error {
 	}
 	if !(s.PassbandRippleDB < s.StopbandAttenDB) {
 		return fieldErr("passband_ripple_db", "must be below stopband_atten_db (got %g >= %g)", s.PassbandRippleDB, s.StopbandAttenDB)
+	}
+	if s.PhaseErrorDeg != 0 { // 0: a Spec built in Go without it, the default
+		if err := validPhaseError(s.PhaseErrorDeg); err != nil {
+			return err
+		}
 	}
 	if s.Order < 0 || s.Order > MaxOrder {
 		return fieldErr("order", "must be from 0 to %d (got %d)", MaxOrder, s.Order)

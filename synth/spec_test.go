@@ -38,6 +38,17 @@ func TestParseSpecDefaults(t *testing.T) {
 	b, err := synth.ParseSpecBytes([]byte(`{"approximation": "bessel", "passband_hz": 1000, "order": 4}`))
 	require.NoError(t, err)
 	require.InDelta(t, 3.0102999566398121, b.PassbandRippleDB, 1e-15)
+	// So is that of optimum-L, Gaussian and linear-phase (INTERFACE.md,
+	// "More of the trade's filters"); phase_error_deg defaults to 0.05°.
+	for _, a := range []string{"legendre", "gaussian", "linear-phase"} {
+		o, err := synth.ParseSpecBytes([]byte(`{"approximation": "` + a + `", "passband_hz": 1000, "order": 4}`))
+		require.NoError(t, err, a)
+		require.InDelta(t, 3.0102999566398121, o.PassbandRippleDB, 1e-15, a)
+		require.Equal(t, 0.05, o.PhaseErrorDeg, a)
+	}
+	lp, err := synth.ParseSpecBytes([]byte(`{"approximation": "linear-phase", "passband_hz": 1000, "order": 4, "phase_error_deg": 0.5}`))
+	require.NoError(t, err)
+	require.Equal(t, 0.5, lp.PhaseErrorDeg)
 
 	v, err := synth.ParseSpecBytes([]byte(`{"passband_hz": 1000, "order": 2, "tolerance": {"resistor_pct": 0.1, "distribution": "gaussian"},
 		"montecarlo": {"trials": 500, "seed": 7}, "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4},
@@ -74,6 +85,11 @@ func TestParseSpecErrors(t *testing.T) {
 		{"malformed", `{"passband_hz": 1000,`, "json", ""},
 		{"trailing data", `{"passband_hz": 1000, "order": 3} {}`, "json", "after"},
 		{"unknown field", `{"passband_hz": 1000, "order": 3, "cutoff": 5}`, "cutoff", "unknown field"},
+		{"phase error zero", `{"approximation": "linear-phase", "passband_hz": 1000, "order": 3, "phase_error_deg": 0}`, "phase_error_deg", "0.01 to 2 degrees"},
+		{"phase error negative", `{"approximation": "linear-phase", "passband_hz": 1000, "order": 3, "phase_error_deg": -0.05}`, "phase_error_deg", "0.01 to 2 degrees"},
+		{"phase error too large", `{"approximation": "linear-phase", "passband_hz": 1000, "order": 3, "phase_error_deg": 2.5}`, "phase_error_deg", "0.01 to 2 degrees"},
+		{"phase error string", `{"approximation": "linear-phase", "passband_hz": 1000, "order": 3, "phase_error_deg": "0.05"}`, "phase_error_deg", "number"},
+		{"unknown approximation", `{"approximation": "thomson", "passband_hz": 1000, "order": 3}`, "approximation", "linear-phase"},
 		{"missing passband", `{"stopband_hz": 1000}`, "passband_hz", "required"},
 		{"null passband", `{"passband_hz": null, "order": 2}`, "passband_hz", "required"},
 		{"passband string", `{"passband_hz": "1k", "order": 2}`, "passband_hz", "number"},

@@ -44,6 +44,7 @@ var specSchema = []schemaField{
 	{name: "response"}, {name: "approximation"},
 	{name: "passband_hz", kind: kindNumList}, {name: "stopband_hz", kind: kindNumList},
 	{name: "passband_ripple_db", kind: kindNum}, {name: "stopband_atten_db", kind: kindNum},
+	{name: "phase_error_deg", kind: kindNum},
 	{name: "order", kind: kindNum}, {name: "gain_db", kind: kindNum},
 	{name: "topology"}, {name: "resistor_series"}, {name: "capacitor_series"},
 	{name: "opamp", kind: kindObject, fields: []schemaField{

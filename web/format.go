@@ -45,9 +45,12 @@ func plain(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
 
 // approxNames are the approximations as the page spells them.
 var approxNames = map[string]string{
-	"butterworth": "Butterworth",
-	"chebyshev1":  "Chebyshev I",
-	"chebyshev2":  "Chebyshev II",
-	"bessel":      "Bessel",
-	"elliptic":    "Elliptic",
+	"butterworth":  "Butterworth",
+	"chebyshev1":   "Chebyshev I",
+	"chebyshev2":   "Chebyshev II",
+	"bessel":       "Bessel",
+	"elliptic":     "Elliptic",
+	"legendre":     "Optimum-L (Legendre)",
+	"gaussian":     "Gaussian",
+	"linear-phase": "Linear phase (equiripple)",
 }

@@ -409,6 +409,8 @@ func TestErrorBesideField(t *testing.T) {
 		{"checkbox value", "passband_hz=1000&stopband_hz=4000&opamp_ideal=maybe", "opamp_ideal", "must be 1"},
 		{"equaliser on a highpass", "response=highpass&passband_hz=1000&order=3&delay_equalizer_max_spread_pct=2", "delay_equalizer_max_spread_pct", "equalises a lowpass or bandpass"},
 		{"equaliser out of reach", "approximation=elliptic&passband_hz=1000&order=7&stopband_atten_db=60&delay_equalizer_max_spread_pct=0.1", "delay_equalizer_max_spread_pct", "8 all-pass sections"},
+		{"phase ripple out of range", "approximation=linear-phase&passband_hz=1000&order=4&phase_error_deg=5", "phase_error_deg", "0.01 to 2 degrees"},
+		{"gaussian beyond its limit", "approximation=gaussian&passband_hz=1000&stopband_hz=2000&stopband_atten_db=30", "stopband_hz", "cannot be met by any order"},
 	}
 	block := func(page, control string) string {
 		i := strings.Index(page, `data-field="`+control+`"`)

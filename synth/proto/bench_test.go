@@ -55,3 +55,40 @@ func BenchmarkMinOrder(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkNewApproximations times the optimum-L, Gaussian and
+// linear-phase prototypes beside Chebyshev I at the same orders (rippleDB
+// 3.0103 for all). The linear-phase family is cached per phase ripple, so
+// "linear-phase" is a cached design; "linear-phase-cold" cycles through
+// more phase ripples than the cache holds, so that every call computes
+// the family up to the order (its worst case, a first request for a new
+// ripple).
+func BenchmarkNewApproximations(b *testing.B) {
+	const ripple = 3.0102999566398121
+	cold := make([]proto.Option, 12)
+	for i := range cold {
+		cold[i] = proto.PhaseErrorDeg(0.04 + 0.001*float64(i))
+	}
+	for _, n := range []int{4, 8, 20} {
+		for _, a := range []proto.Approximation{proto.Chebyshev1, proto.Legendre, proto.Gaussian, proto.LinearPhase} {
+			b.Run(fmt.Sprintf("n=%d/%s", n, a), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, err := proto.Lowpass(a, n, ripple, 60); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+		b.Run(fmt.Sprintf("n=%d/linear-phase-cold", n), func(b *testing.B) {
+			b.ReportAllocs()
+			i := 0
+			for b.Loop() {
+				if _, err := proto.Lowpass(proto.LinearPhase, n, ripple, 60, cold[i%len(cold)]); err != nil {
+					b.Fatal(err)
+				}
+				i++
+			}
+		})
+	}
+}

@@ -30,7 +30,7 @@ func TestBadArguments(t *testing.T) {
 		return func() error { _, err := proto.MinOrder(a, ap, as, r); return err }
 	}
 	cases := []tc{
-		{"lowpass/unknown", lp("gaussian", 4, 1, 40)},
+		{"lowpass/unknown", lp("thomson", 4, 1, 40)},
 		{"lowpass/empty", lp("", 4, 1, 40)},
 		{"stopband/unknown", se("Butterworth", 4, 1, 40)},
 		{"minorder/unknown", mo("cauer", 1, 40, 2)},

@@ -29,17 +29,52 @@ const (
 	// Elliptic is the elliptic (Cauer) approximation: equiripple passband
 	// and stopband.
 	Elliptic Approximation = "elliptic"
+	// Legendre is the optimum-L (Legendre–Papoulis) approximation: the
+	// steepest cutoff of any all-pole monotonic passband.
+	Legendre Approximation = "legendre"
+	// Gaussian is the Gaussian magnitude approximation (truncated series
+	// of e^(a·ω²)): all-pole, monotonic loss, step with almost no overshoot.
+	Gaussian Approximation = "gaussian"
+	// LinearPhase is the linear-phase approximation with equiripple phase
+	// error: all-pole, its phase follows a pure delay to within ±δ
+	// ([PhaseErrorDeg], default [DefaultPhaseErrorDeg]) over a band 1.5
+	// to 1.7 times as wide as that of a Bessel filter of the same order
+	// and −3 dB frequency (measured at 0.05° and 0.5°, orders 3–12).
+	LinearPhase Approximation = "linear-phase"
 )
+
+// Option adjusts a prototype beyond its order and losses.
+type Option func(*options)
+
+type options struct {
+	phaseErrorDeg float64
+}
+
+// PhaseErrorDeg sets the phase ripple δ of the [LinearPhase] prototype, in
+// degrees, from [MinPhaseErrorDeg] to [MaxPhaseErrorDeg]. Other
+// approximations ignore it.
+func PhaseErrorDeg(deg float64) Option { return func(o *options) { o.phaseErrorDeg = deg } }
+
+func collect(a Approximation, opts []Option) (options, error) {
+	o := options{phaseErrorDeg: DefaultPhaseErrorDeg}
+	for _, f := range opts {
+		f(&o)
+	}
+	if a == LinearPhase && !(o.phaseErrorDeg >= MinPhaseErrorDeg && o.phaseErrorDeg <= MaxPhaseErrorDeg) {
+		return o, badArg("phase error %g° not in [%g, %g]", o.phaseErrorDeg, float64(MinPhaseErrorDeg), float64(MaxPhaseErrorDeg))
+	}
+	return o, nil
+}
 
 // Approximations returns every supported approximation, in a fixed order.
 func Approximations() []Approximation {
-	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic}
+	return []Approximation{Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian, LinearPhase}
 }
 
 // Valid reports whether a is one of the supported approximations.
 func (a Approximation) Valid() bool {
 	switch a {
-	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic:
+	case Butterworth, Chebyshev1, Chebyshev2, Bessel, Elliptic, Legendre, Gaussian, LinearPhase:
 		return true
 	}
 	return false
@@ -60,7 +95,10 @@ const BesselSearchCap = 400
 // ErrBadArgument is wrapped by every error about an invalid argument: an
 // unknown approximation, an order outside 1..[MaxOrder], a non-finite
 // value, rippleDB not in (0, [MaxLossDB]], attenDB not in (rippleDB,
-// [MaxLossDB]] where it is used, or a frequency ratio not above 1.
+// [MaxLossDB]] where it is used, a frequency ratio not above 1, a phase
+// ripple outside [[MinPhaseErrorDeg], [MaxPhaseErrorDeg]] for
+// [LinearPhase], or a linear-phase rippleDB not above the prototype's own
+// rise above its DC gain.
 var ErrBadArgument = errors.New("proto: bad argument")
 
 // ErrNotRepresentable is wrapped when valid but extreme arguments give a
@@ -73,17 +111,20 @@ type OrderError struct {
 	// Needed is the order the mask needs. It is 0 when Unreachable is set.
 	// For Bessel, when no order up to [BesselSearchCap] meets the mask
 	// (but the mask is below the limit that no order can pass), Needed is
-	// BesselSearchCap+1, a lower bound. For the closed-form
+	// BesselSearchCap+1, a lower bound; likewise for Gaussian, and for
+	// optimum-L beyond [LegendreSearchCap] and linear-phase beyond
+	// [LinearPhaseMaxOrder] (Needed is then the cap plus one). For the closed-form
 	// approximations a need above math.MaxInt32 is reported as
 	// math.MaxInt32, also a lower bound.
 	Needed int
 	// Max is the highest order allowed, [MaxOrder].
 	Max int
-	// Unreachable reports that no order at all meets the mask. Only a
-	// Bessel mask can be unreachable: at a fixed normalised frequency
-	// ratio its loss rises with the order to a maximum and then falls back
-	// toward the Gaussian limit rippleDB·ratio², so an attenDB above that
-	// maximum is met by no order.
+	// Unreachable reports that no order at all meets the mask. Only
+	// Bessel, linear-phase and Gaussian masks can be unreachable: at a
+	// fixed normalised frequency ratio their loss rises with the order to
+	// a maximum (Gaussian: toward its limit rippleDB·ratio²; Bessel and
+	// linear-phase: then falling back toward it), so an attenDB above the
+	// most loss any order gives is met by no order.
 	Unreachable bool
 
 	atLeast bool    // Needed is a lower bound
@@ -157,6 +198,11 @@ func usesAtten(a Approximation) bool { return a == Chebyshev2 || a == Elliptic }
 // validated) by the others. Bessel is the reverse Bessel polynomial
 // prototype scaled in frequency so that its loss at 1 rad/s is rippleDB;
 // with rippleDB = 10·log10(2) it is scipy's besselap(n, norm='mag').
+// LinearPhase is scaled the same way from its unit-delay form and takes
+// its phase ripple from opts ([PhaseErrorDeg]); where its magnitude rises
+// above the DC gain before it falls, the peak is 1 and the loss at 1 rad/s
+// counts from the peak. Legendre and Gaussian are defined by their
+// squared magnitude (package comment) with the loss rippleDB at 1 rad/s.
 //
 // Poles come as adjacent conjugate pairs, the upper-half-plane member
 // first, in order of increasing imaginary part, followed by the real pole
@@ -173,8 +219,12 @@ func usesAtten(a Approximation) bool { return a == Chebyshev2 || a == Elliptic }
 // Errors wrap [ErrBadArgument] for invalid arguments and
 // [ErrNotRepresentable] when extreme arguments overflow float64 or, for
 // Elliptic, when ωs − 1 < 1e-9.
-func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error) {
+func Lowpass(a Approximation, n int, rippleDB, attenDB float64, opts ...Option) (zpk.ZPK, error) {
 	if err := checkApprox(a); err != nil {
+		return zpk.ZPK{}, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return zpk.ZPK{}, err
 	}
 	if err := checkOrder(n); err != nil {
@@ -200,11 +250,33 @@ func Lowpass(a Approximation, n int, rippleDB, attenDB float64) (zpk.ZPK, error)
 		h = bessel(n, rippleDB)
 	case Elliptic:
 		h = elliptic(n, rippleDB, attenDB)
+	case Legendre:
+		h = legendre(n, rippleDB)
+	case Gaussian:
+		h = gaussian(n, rippleDB)
+	case LinearPhase:
+		var dip float64
+		h, _, dip = linearPhase(n, rippleDB, o.phaseErrorDeg)
+		if !(rippleDB+dip > 0) {
+			return zpk.ZPK{}, badArg("rippleDB %g is not above the %.3g dB by which the linear-phase prototype of order %d with phase error %g° rises above its DC gain", rippleDB, -dip, n, o.phaseErrorDeg)
+		}
 	}
-	if !representable(h) {
+	if !representable(h) || (computedRoots(a) && !edgeLossHolds(h, rippleDB)) {
 		return zpk.ZPK{}, fmt.Errorf("%w: %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
 	}
 	return h, nil
+}
+
+// computedRoots reports whether a's poles come from an iterative root
+// finder on a defining function that loses accuracy at extreme losses, so
+// that Lowpass checks the normalisation of the result.
+func computedRoots(a Approximation) bool { return a == Legendre || a == Gaussian || a == LinearPhase }
+
+// edgeLossHolds reports whether the loss of h at 1 rad/s is rippleDB to
+// 1e-9 dB (relative above 1 dB), the accuracy Lowpass promises.
+func edgeLossHolds(h zpk.ZPK, rippleDB float64) bool {
+	l := -20 * math.Log10(h.MagnitudeAt(1))
+	return math.Abs(l-rippleDB) <= 1e-9*math.Max(1, rippleDB)
 }
 
 // representable reports whether every pole is finite and in the open left
@@ -232,8 +304,12 @@ func representable(h zpk.ZPK) bool {
 // the loss never falls below attenDB; for the monotonic approximations the
 // frequency where the loss equals attenDB. Arguments are validated as for
 // [Lowpass], with attenDB required for every approximation.
-func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, error) {
+func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64, opts ...Option) (float64, error) {
 	if err := checkApprox(a); err != nil {
+		return 0, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return 0, err
 	}
 	if err := checkOrder(n); err != nil {
@@ -257,6 +333,12 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 		k1, k1p := discrimination(rippleDB, attenDB)
 		k, _ := ellipdeg(n, k1, k1p)
 		w = 1 / k
+	case Legendre:
+		w = legendreEdge(n, rippleDB, attenDB)
+	case Gaussian:
+		w = gaussianEdge(n, rippleDB, attenDB)
+	case LinearPhase:
+		w = linearPhaseEdge(n, rippleDB, attenDB, o.phaseErrorDeg)
 	}
 	if !finite(w) || !(w > 1) {
 		return 0, fmt.Errorf("%w: stopband edge of %s order %d, rippleDB %g, attenDB %g", ErrNotRepresentable, a, n, rippleDB, attenDB)
@@ -280,8 +362,9 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 // the complete elliptic integrals of the first kind of a modulus and its
 // complement; the result equals scipy's buttord, cheb1ord, cheb2ord and
 // ellipord (analog=True, lowpass) except where the bound is within
-// rounding of an integer. Bessel evaluates the prototype at ratio for
-// n = 1, 2, … .
+// rounding of an integer. Bessel, Legendre, Gaussian and LinearPhase
+// evaluate the prototype's loss at ratio for n = 1, 2, … (Legendre from
+// its polynomial, Gaussian from its series, the others from the poles).
 //
 // When the mask needs more than [MaxOrder] the error is an [*OrderError]
 // with the order it would need. Bessel keeps evaluating up to
@@ -293,8 +376,12 @@ func StopbandEdge(a Approximation, n int, rippleDB, attenDB float64) (float64, e
 // mask: the error is then Unreachable and quotes the maximum. Other errors
 // wrap [ErrBadArgument] (or [ErrNotRepresentable] for a bound that is not
 // a number).
-func MinOrder(a Approximation, rippleDB, attenDB, ratio float64) (int, error) {
+func MinOrder(a Approximation, rippleDB, attenDB, ratio float64, opts ...Option) (int, error) {
 	if err := checkApprox(a); err != nil {
+		return 0, err
+	}
+	o, err := collect(a, opts)
+	if err != nil {
 		return 0, err
 	}
 	if err := checkRipple(rippleDB); err != nil {
@@ -306,8 +393,15 @@ func MinOrder(a Approximation, rippleDB, attenDB, ratio float64) (int, error) {
 	if err := checkRatio(ratio); err != nil {
 		return 0, err
 	}
-	if a == Bessel {
+	switch a {
+	case Bessel:
 		return besselMinOrder(rippleDB, attenDB, ratio)
+	case Legendre:
+		return legendreMinOrder(rippleDB, attenDB, ratio)
+	case Gaussian:
+		return gaussianMinOrder(rippleDB, attenDB, ratio)
+	case LinearPhase:
+		return linearPhaseMinOrder(rippleDB, attenDB, ratio, o.phaseErrorDeg)
 	}
 	var x float64
 	switch a {
