@@ -182,6 +182,10 @@ type Spec struct {
 	GainToleranceDB *float64 `json:"gain_tolerance_db,omitempty"`
 	// DesignMargin is the margin the design is made with (zero: none).
 	DesignMargin DesignMargin `json:"design_margin"`
+	// TargetYield, when set (0 < y ≤ 1), asks [Synthesize] for the
+	// smallest design margin, from DesignMargin up, whose Monte Carlo
+	// yield reaches it (see [MarginSearch]); nil: the margin is as given.
+	TargetYield *float64 `json:"target_yield,omitempty"`
 
 	// stopbandFromConverter records that ParseSpec derived the stopband
 	// from the converter.
@@ -274,6 +278,7 @@ type rawSpec struct {
 	Converter        *json.RawMessage `json:"converter"`
 	GainToleranceDB  *float64         `json:"gain_tolerance_db"`
 	DesignMargin     *json.RawMessage `json:"design_margin"`
+	TargetYield      *float64         `json:"target_yield"`
 }
 
 type rawDesignMargin struct {
@@ -666,6 +671,10 @@ func (raw rawSpec) build() (Spec, error) {
 			s.DesignMargin.StopbandDB = *dm.StopbandDB
 		}
 	}
+	if raw.TargetYield != nil {
+		v := *raw.TargetYield
+		s.TargetYield = &v
+	}
 	if raw.Values != nil {
 		if s.Values, err = oneOf("values", *raw.Values, ValueModes); err != nil {
 			return Spec{}, err
@@ -928,6 +937,9 @@ func (s Spec) validateVerification() error {
 		if !(*g > 0) || *g > 20 {
 			return fieldErr("gain_tolerance_db", "must be above 0 dB and at most 20 dB (got %g)", *g)
 		}
+	}
+	if err := s.validateTargetYield(); err != nil {
+		return err
 	}
 	m := s.DesignMargin
 	if err := finite("design_margin.passband_db", m.PassbandDB); err != nil {

@@ -62,6 +62,7 @@ var specSchema = []schemaField{
 	}},
 	{name: "gain_tolerance_db", kind: kindNum},
 	{name: "design_margin", kind: kindObject, fields: []schemaField{{name: "passband_db", kind: kindNum}, {name: "stopband_db", kind: kindNum}}},
+	{name: "target_yield", kind: kindNum},
 }
 
 // errStopStrict ends the pre-pass without a verdict: the input is not
