@@ -38,11 +38,13 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 		return design(ctx, args, stdin, stdout, stderr)
 	case "export":
 		return exportCmd(ctx, args, stdin, stdout, stderr)
+	case "explore":
+		return exploreCmd(ctx, args, stdin, stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export)\n", cmd)
+	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export, explore)\n", cmd)
 	return exitUsage
 }
 
@@ -52,6 +54,7 @@ const usage = `polewright designs active analog filters.
                    (it answers to localhost, 127.0.0.1, [::1], the -addr host and each -host NAME)
   polewright design -spec FILE [-trials N] [-seed S]   design as JSON on stdout
   polewright export -spec FILE -as KIND      KIND: spice, bom, json, bode-svg, delay-svg, step-svg
+  polewright explore -spec FILE              every candidate filter for the spec, compared, as JSON
 
 -spec - reads standard input.
 `
