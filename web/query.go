@@ -91,6 +91,8 @@ var specFields = []field{
 		Placeholder: "0", Hint: "design to Amax less this, judge against Amax: room for part tolerances", Group: groupBands},
 	{Name: "design_margin_stopband_db", Path: []string{"design_margin", "stopband_db"}, Label: "Design margin, stopband (dB)", Noun: "the stopband design margin", Kind: kindNumber,
 		Placeholder: "0", Hint: "design to Amin plus this, judge against Amin", Group: groupBands},
+	{Name: "target_yield", Path: []string{"target_yield"}, Label: "Target yield", Noun: "the target yield", Kind: kindNumber,
+		Placeholder: "none", Hint: "0 to 1: the smallest design margin whose Monte Carlo yield reaches it is chosen (needs trials)", Group: groupBands},
 	{Name: "topology", Path: []string{"topology"}, Label: "Stage circuit", Noun: "the stage circuit", Kind: kindChoice,
 		Choices: synth.Topologies, Default: "auto", Hint: "auto picks per stage and says why", Group: groupCircuit},
 	{Name: "resistor_series", Path: []string{"resistor_series"}, Label: "Resistor series", Noun: "the resistor series", Kind: kindChoice,
