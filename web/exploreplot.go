@@ -19,13 +19,15 @@ type scatterAxis struct {
 	value  func(c explore.Candidate) (float64, bool)
 	format func(v float64) string
 	log    bool
+	// share keeps the axis within [0, 1] (a yield).
+	share bool
 }
 
 var (
 	axisOpAmps = scatterAxis{label: "op-amps", value: func(c explore.Candidate) (float64, bool) { return float64(c.OpAmps), true },
 		format: func(v float64) string { return fmt.Sprintf("%.0f", v) }}
 	axisYield = scatterAxis{label: "yield", value: func(c explore.Candidate) (float64, bool) { return ptrValue(c.Yield) },
-		format: func(v float64) string { return fmt.Sprintf("%.0f %%", 100*v) }}
+		format: func(v float64) string { return fmt.Sprintf("%.0f %%", 100*v) }, share: true}
 	axisNoise = scatterAxis{label: "noise at the converter (V rms)", value: func(c explore.Candidate) (float64, bool) { return ptrValue(c.SampledRMSV) },
 		format: func(v float64) string { return si(v, "V", 2) }, log: true}
 	axisSettling = scatterAxis{label: "settling time (s)", value: func(c explore.Candidate) (float64, bool) { return ptrValue(c.SettlingS) },
@@ -93,6 +95,9 @@ func scatterSVG(res *explore.Result, x, y scatterAxis) (string, bool) {
 			pad = 0.5
 		}
 		lo, hi = lo-pad, hi+pad
+		if a.share {
+			lo, hi = math.Max(lo, 0), math.Min(hi, 1)
+		}
 		return lo, hi, func(v float64) float64 {
 			if a.log {
 				v = math.Log10(v)
@@ -111,7 +116,7 @@ func scatterSVG(res *explore.Result, x, y scatterAxis) (string, bool) {
 		return v
 	}
 	var b strings.Builder
-	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %g %g" width="100%%" role="img" aria-label="%s">`, w, h, html.EscapeString(y.label+" against "+x.label))
+	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %g %g" width="100%%" style="max-width:560px" role="img" aria-label="%s">`, w, h, html.EscapeString(y.label+" against "+x.label))
 	fmt.Fprintf(&b, `<rect x="%g" y="%g" width="%g" height="%g" fill="none" stroke="#888"/>`, left, top, w-left-right, h-top-bottom)
 	for k := 0; k <= 4; k++ {
 		t := float64(k) / 4
