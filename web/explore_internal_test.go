@@ -10,10 +10,12 @@ import (
 	"net/url"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/require"
 
+	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/explore"
 )
 
@@ -160,4 +162,37 @@ func TestExploreCacheCancel(t *testing.T) {
 	again, err := c.result(context.Background(), small)
 	require.NoError(t, err)
 	require.Same(t, first, again, "the second request is served from the cache")
+}
+
+// TestExploreQueryIsThePagesQuery: explore.Query flattens every kind of
+// spec field (nested objects with "_", band edges and windows as "lo,hi",
+// true as 1, strings, numbers as written) so that the page reads it back
+// to the same spec as the JSON.
+func TestExploreQueryIsThePagesQuery(t *testing.T) {
+	t.Parallel()
+	for _, spec := range []string{
+		`{"response": "bandpass", "approximation": "chebyshev1", "passband_hz": [2000, 40000], "stopband_hz": [400, 200000],
+		  "passband_ripple_db": 0.5, "stopband_atten_db": 45, "gain_db": 6, "gain_tolerance_db": 1,
+		  "topology": "multiple-feedback", "resistor_series": "E48", "capacitor_series": "E6", "values": "series",
+		  "resistor_range_ohm": [2000, 100000], "capacitor_range_farad": [1e-10, 1e-6],
+		  "opamp": {"gbw_hz": 2e7, "dc_gain_db": 110, "noise_v_per_rthz": 4e-9, "noise_a_per_rthz": 1e-12, "slew_v_per_s": 2e7},
+		  "tolerance": {"resistor_pct": 0.5, "capacitor_pct": 2, "distribution": "gaussian", "gbw_pct": 10},
+		  "montecarlo": {"trials": 300, "seed": 4}, "target_yield": 0.9,
+		  "converter": {"bits": 16, "sample_rate_hz": 500000, "full_scale_vpp": 4, "output_rate_hz": 250000, "alias_atten_db": 80},
+		  "design_margin": {"passband_db": 0.1, "stopband_db": 2}}`,
+		`{"passband_hz": 1000, "order": 4, "opamp": {"ideal": true}, "tolerance": {"resistor_pct": 0}}`,
+		`{"passband_hz": 20000, "converter": {"bits": 16, "sample_rate_hz": 192000, "full_scale_vpp": 4}}`,
+	} {
+		want, err := synth.ParseSpecBytes([]byte(spec))
+		require.NoError(t, err)
+		dec := json.NewDecoder(strings.NewReader(spec))
+		dec.UseNumber()
+		var raw map[string]any
+		require.NoError(t, dec.Decode(&raw))
+		q, err := url.ParseQuery(explore.Query(raw))
+		require.NoError(t, err)
+		_, got, err := parseQuery(q)
+		require.NoError(t, err, explore.Query(raw))
+		require.Equal(t, want, got)
+	}
 }
