@@ -288,7 +288,7 @@ func recommend(cs []Candidate, pareto []int, target *float64) (int, string) {
 	if c.BuiltMeetsMask {
 		why = append(why, "its board as built meets the mask")
 	} else {
-		why = append(why, "no candidate on the front meets the mask as built, so it is the best of those that do not")
+		why = append(why, "no candidate on the front meets the mask as built (a design_margin, a target_yield, tighter parts or a faster op-amp may change that), so it is the best of those that do not")
 	}
 	if target != nil {
 		if reaches(c) {
