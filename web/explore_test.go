@@ -127,3 +127,36 @@ func TestExploreRefusals(t *testing.T) {
 	require.Equal(t, "error", evs[0].Name)
 	require.Contains(t, evs[0].Data, "trials")
 }
+
+// TestExploreCrossSite: the exploration routes compute, so another site's
+// page cannot start them (403), as for /design.
+func TestExploreCrossSite(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	for _, target := range []string{"/explore?" + exploreQuery, "/explore/progress?" + exploreQuery} {
+		rec := do(t, h, "GET", target, "", "Sec-Fetch-Site", "cross-site")
+		require.Equal(t, http.StatusForbidden, rec.Code, target)
+	}
+}
+
+// TestDesignPageSaysTheChosenMargin: a design with target_yield says on
+// its page which margin it chose and why (the sentence synth wrote).
+func TestDesignPageSaysTheChosenMargin(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	rec := do(t, h, "GET", "/design?passband_hz=1000&stopband_hz=3000&order=4&montecarlo_trials=100&montecarlo_seed=1&target_yield=0.5", "")
+	require.Equal(t, http.StatusOK, rec.Code)
+	require.Contains(t, rec.Body.String(), "Target yield 0.5")
+	api := do(t, h, "POST", "/api/v1/design", `{"passband_hz": 1000, "stopband_hz": 3000, "order": 4, "montecarlo": {"trials": 100, "seed": 1}, "target_yield": 0.5}`,
+		"Content-Type", "application/json")
+	require.Equal(t, http.StatusOK, api.Code)
+	var d struct {
+		MarginSearch struct {
+			TargetYield float64 `json:"target_yield"`
+			Text        string  `json:"text"`
+		} `json:"margin_search"`
+	}
+	require.NoError(t, json.Unmarshal(api.Body.Bytes(), &d))
+	require.Equal(t, 0.5, d.MarginSearch.TargetYield)
+	require.Contains(t, rec.Body.String(), htmlEscape(d.MarginSearch.Text))
+}
