@@ -16,8 +16,8 @@ import (
 const openBandFactor = 100
 
 // Figures returns the candidate figures of design d, each read from the
-// design as its JSON carries it (the fields of the permalink and
-// Permalink are left for the caller).
+// design as its JSON carries it; Permalink and TargetReached are left for
+// the caller.
 func Figures(d *synth.Design) Candidate {
 	s := d.Spec
 	c := Candidate{
