@@ -31,6 +31,9 @@ const (
 	CheckSettling  = "settling"
 	CheckSlew      = "slew"
 	CheckOpAmpGBW  = "opamp-gbw"
+	CheckSwing     = "swing"
+	CheckInput     = "input-range"
+	CheckDCError   = "dc-error"
 )
 
 // Check is one verdict on a design: what was judged, the figure it came
@@ -118,6 +121,90 @@ func (d *Design) fillChecks() {
 	if c, ok := d.opAmpGBWCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
+	for _, pin := range []string{PinOutput, PinInput} {
+		if c, ok := d.swingCheck(pin); ok {
+			d.Checks = append(d.Checks, c)
+		}
+	}
+	if c, ok := d.dcErrorCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+}
+
+// swingCheck judges the op-amp outputs (pin "output": the swing check)
+// or non-inverting inputs ("input": input-range) against the rails less
+// the op-amp's headroom; present with a supply.
+func (d *Design) swingCheck(pin string) (Check, bool) {
+	if d.Spec.Supply == nil {
+		return Check{}, false
+	}
+	var worst *SwingNode
+	stage := 0
+	for i, sec := range d.Sections {
+		if sec.Swing == nil {
+			continue
+		}
+		for j := range sec.Swing.Nodes {
+			n := &sec.Swing.Nodes[j]
+			if n.Pin == pin && n.HeadroomV != nil && (worst == nil || *n.HeadroomV < *worst.HeadroomV) {
+				worst, stage = n, i+1
+			}
+		}
+	}
+	if worst == nil {
+		return Check{}, false
+	}
+	id, what, hd := CheckSwing, "output", d.Spec.OpAmp.OutputHeadroomV
+	if pin == PinInput {
+		id, what, hd = CheckInput, "non-inverting input", d.Spec.OpAmp.InputHeadroomV
+	}
+	vpp := d.Spec.SignalVppV()
+	cause := "a full-scale sine"
+	if worst.StepV != nil && (worst.StepV[1] > worst.SineV[1] || worst.StepV[0] < worst.SineV[0]) {
+		cause = "the step's overshoot"
+	}
+	room := *worst.HeadroomV
+	var text string
+	if room >= 0 {
+		text = fmt.Sprintf("With a %s input around %s, every op-amp %s stays within the rails less %s; the closest, %s at %s, spans %s to %s and keeps %s.",
+			si.Format(vpp, "Vpp", 3), si.Format(d.reference(), "V", 3), what, si.Format(hd, "V", 3),
+			worst.Ref, worst.Node, si.Format(worst.PeakV[0], "V", 4), si.Format(worst.PeakV[1], "V", 4), si.Format(room, "V", 3))
+	} else {
+		text = fmt.Sprintf("With a %s input around %s, %s's %s (%s) reaches %s to %s on %s, %s beyond the %s to %s it may use: it clips; lower signal_vpp or the gain, or pick an op-amp with more range.",
+			si.Format(vpp, "Vpp", 3), si.Format(d.reference(), "V", 3), worst.Ref, what, worst.Node,
+			si.Format(worst.PeakV[0], "V", 4), si.Format(worst.PeakV[1], "V", 4), cause, si.Format(-room, "V", 3),
+			si.Format(worst.LimitV[0], "V", 4), si.Format(worst.LimitV[1], "V", 4))
+	}
+	return newCheck(id, room >= 0, SeverityError, room, 0, "V", stage, text), true
+}
+
+// dcErrorCheck compares the output's DC error with ½ LSB; present with a
+// converter when the op-amp has an offset or a bias current.
+func (d *Design) dcErrorCheck() (Check, bool) {
+	dc := d.DC
+	if dc == nil || dc.OutputOffsetLSB == nil || (d.Spec.OpAmp.OffsetV == 0 && d.Spec.OpAmp.BiasA == 0) {
+		return Check{}, false
+	}
+	lsb := math.Abs(*dc.OutputOffsetLSB)
+	ok := lsb <= dcBudgetLSB
+	top := ""
+	if len(dc.Contributors) > 0 {
+		c := dc.Contributors[0]
+		src := "offset voltage"
+		if math.Abs(c.BiasV) > math.Abs(c.OffsetV) {
+			src = "bias currents"
+		}
+		top = fmt.Sprintf(" %s's %s give %.0f %% of it.", c.Ref, src, 100*c.Share)
+	}
+	text := fmt.Sprintf("The output sits %s from the reference at DC (%.3g LSB), within the ½ LSB budget.", si.Format(dc.OutputOffsetV, "V", 3), *dc.OutputOffsetLSB) + top
+	if !ok {
+		text = fmt.Sprintf("The output sits %s from the reference at DC, %.3g LSB against a ½ LSB budget: calibrate the offset out or choose a more precise op-amp.", si.Format(dc.OutputOffsetV, "V", 3), *dc.OutputOffsetLSB) + top
+		if len(dc.Balance) > 0 {
+			b := dc.Balance[0]
+			text += fmt.Sprintf(" %s in series with %s's %s input would bring it to %s.", si.Format(b.ResistorOhm, "Ω", 3), b.Ref, b.Pin, si.Format(b.OutputOffsetV, "V", 3))
+		}
+	}
+	return newCheck(CheckDCError, ok, SeverityWarning, lsb, dcBudgetLSB, "LSB", 0, text), true
 }
 
 // idealMaskCheck judges the ideal response (meets_mask).

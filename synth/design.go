@@ -87,6 +87,9 @@ type Design struct {
 	// MarginSearch says which design margin a spec with target_yield
 	// chose and why; nil without target_yield.
 	MarginSearch *MarginSearch `json:"margin_search,omitempty"`
+	// DC is the output's DC error from the op-amps' offsets and bias
+	// currents (nil before verification).
+	DC *DCReport `json:"dc,omitempty"`
 
 	tf       zpk.ZPK
 	chain    *circuit.Chain
@@ -158,6 +161,9 @@ type Section struct {
 	// budget for the stage's own figures, not for the mask, which
 	// Component.FailAtPct answers.
 	RequiredTolerance []PartTolerance `json:"required_tolerance"`
+	// Swing is the signal's extremes at the stage's op-amps, against the
+	// rails when the spec gives a supply (nil before verification).
+	Swing *Swing `json:"swing,omitempty"`
 
 	sec section.Section
 }

@@ -54,6 +54,11 @@ type NoiseReport struct {
 	QuantizationRMSV *float64 `json:"quantization_rms_v"`
 	// TempK is the temperature of the thermal noise.
 	TempK float64 `json:"temp_k"`
+	// FlickerFromHz is where the integrals start when the op-amp has a 1/f
+	// corner (its 1/f power from 0 Hz is unbounded): the inverse of a
+	// 100 s record ([noise.DefaultFlickerFromHz]); nil for white noise,
+	// whose integrals start at 0 Hz.
+	FlickerFromHz *float64 `json:"flicker_from_hz"`
 	// Contributors are the parts' shares of the noise power over BandHz.
 	Contributors []Contributor `json:"contributors"`
 }
@@ -78,7 +83,8 @@ func (d *Design) noise(ch circuit.Chain) error {
 		lo = hi / 1000
 	}
 	grid := response.LogSpaceHz(nil, lo, hi, NoisePoints)
-	on := noise.OpAmpNoise{VoltageVPerRtHz: d.Spec.OpAmp.NoiseVPerRtHz, CurrentAPerRtHz: d.Spec.OpAmp.NoiseAPerRtHz}
+	on := noise.OpAmpNoise{VoltageVPerRtHz: d.Spec.OpAmp.NoiseVPerRtHz, CurrentAPerRtHz: d.Spec.OpAmp.NoiseAPerRtHz,
+		CornerHz: d.Spec.OpAmp.NoiseCornerHz}
 	var (
 		r   noise.Result
 		err error
@@ -98,6 +104,10 @@ func (d *Design) noise(ch circuit.Chain) error {
 	d.Noise = &NoiseReport{
 		FreqHz: r.FreqHz, OutputVPerRtHz: r.OutputVPerRtHz, OutputRMSV: r.OutputRMSV, BandHz: r.BandHz,
 		InbandRMSV: r.OutputRMSV, TempK: noise.DefaultTempK,
+	}
+	if on.CornerHz > 0 {
+		from := float64(noise.DefaultFlickerFromHz)
+		d.Noise.FlickerFromHz = &from
 	}
 	for _, c := range r.Contributors {
 		d.Noise.Contributors = append(d.Noise.Contributors, Contributor{Ref: c.Ref, Share: c.Share})

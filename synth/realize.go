@@ -108,7 +108,7 @@ func (d *Design) realize(ordered []section.Section) error {
 		polarity = "a unity-gain inverter follows, so that the chain as a whole does not invert"
 	}
 
-	model := circuit.Model{GBWHz: s.OpAmp.GBWHz, DCGainDB: s.OpAmp.DCGainDB, Ideal: s.OpAmp.Ideal}
+	model := circuitModel(s.OpAmp)
 	chain := circuit.Chain{Model: model}
 	for _, r := range results {
 		// Every part carries the spec's tolerance (0: exact), so that the
@@ -438,4 +438,12 @@ func nearestRoot(roots []complex128, z complex128) complex128 {
 		}
 	}
 	return best
+}
+
+// circuitModel is the circuit package's op-amp model of the spec's op-amp:
+// the small-signal model with its parasitics, and its DC errors.
+func circuitModel(o OpAmp) circuit.Model {
+	return circuit.Model{GBWHz: o.GBWHz, DCGainDB: o.DCGainDB, Ideal: o.Ideal,
+		InputCapacitanceFarad: o.InputCapacitanceFarad, OutputResistanceOhm: o.OutputResistanceOhm,
+		OffsetV: o.OffsetV, BiasA: o.BiasA}
 }

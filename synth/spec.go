@@ -67,6 +67,32 @@ type OpAmp struct {
 	NoiseAPerRtHz float64 `json:"noise_a_per_rthz"`
 	// SlewVPerS is the slew rate.
 	SlewVPerS float64 `json:"slew_v_per_s"`
+	// OutputHeadroomV is how close to each rail the output can swing (0:
+	// rail to rail).
+	OutputHeadroomV float64 `json:"output_headroom_v,omitempty"`
+	// InputHeadroomV is how close to each rail the inputs can go (negative:
+	// beyond the rail).
+	InputHeadroomV float64 `json:"input_headroom_v,omitempty"`
+	// OffsetV is the input offset voltage, adding to the non-inverting
+	// input.
+	OffsetV float64 `json:"offset_v,omitempty"`
+	// BiasA is the input bias current, flowing into each input.
+	BiasA float64 `json:"bias_a,omitempty"`
+	// InputCapacitanceFarad is the capacitance from each input to ground.
+	InputCapacitanceFarad float64 `json:"input_capacitance_farad,omitempty"`
+	// OutputResistanceOhm is the open-loop output resistance.
+	OutputResistanceOhm float64 `json:"output_resistance_ohm,omitempty"`
+	// NoiseCornerHz is the 1/f corner of the voltage and current noise (0:
+	// white).
+	NoiseCornerHz float64 `json:"noise_corner_hz,omitempty"`
+}
+
+// Supply is the board's supply: the rails and the reference, the signal's
+// zero.
+type Supply struct {
+	PositiveV  float64 `json:"positive_v"`
+	NegativeV  float64 `json:"negative_v"`
+	ReferenceV float64 `json:"reference_v"`
 }
 
 // MarshalJSON writes o as the spec JSON spells it. An ideal op-amp is
@@ -80,11 +106,19 @@ func (o OpAmp) MarshalJSON() ([]byte, error) {
 		return json.Marshal(plain(o))
 	}
 	return json.Marshal(struct {
-		Ideal         bool    `json:"ideal"`
-		NoiseVPerRtHz float64 `json:"noise_v_per_rthz"`
-		NoiseAPerRtHz float64 `json:"noise_a_per_rthz"`
-		SlewVPerS     float64 `json:"slew_v_per_s"`
-	}{o.Ideal, o.NoiseVPerRtHz, o.NoiseAPerRtHz, o.SlewVPerS})
+		Ideal                 bool    `json:"ideal"`
+		NoiseVPerRtHz         float64 `json:"noise_v_per_rthz"`
+		NoiseAPerRtHz         float64 `json:"noise_a_per_rthz"`
+		SlewVPerS             float64 `json:"slew_v_per_s"`
+		OutputHeadroomV       float64 `json:"output_headroom_v,omitempty"`
+		InputHeadroomV        float64 `json:"input_headroom_v,omitempty"`
+		OffsetV               float64 `json:"offset_v,omitempty"`
+		BiasA                 float64 `json:"bias_a,omitempty"`
+		InputCapacitanceFarad float64 `json:"input_capacitance_farad,omitempty"`
+		OutputResistanceOhm   float64 `json:"output_resistance_ohm,omitempty"`
+		NoiseCornerHz         float64 `json:"noise_corner_hz,omitempty"`
+	}{o.Ideal, o.NoiseVPerRtHz, o.NoiseAPerRtHz, o.SlewVPerS, o.OutputHeadroomV, o.InputHeadroomV,
+		o.OffsetV, o.BiasA, o.InputCapacitanceFarad, o.OutputResistanceOhm, o.NoiseCornerHz})
 }
 
 // Tolerance is the spread of part values the Monte Carlo draws from.
@@ -186,6 +220,12 @@ type Spec struct {
 	// smallest design margin, from DesignMargin up, whose Monte Carlo
 	// yield reaches it (see [MarginSearch]); nil: the margin is as given.
 	TargetYield *float64 `json:"target_yield,omitempty"`
+	// Supply is nil when the spec names none: no rail checks, signals
+	// around 0 V.
+	Supply *Supply `json:"supply,omitempty"`
+	// SignalVpp is the largest input, peak to peak; nil: the default
+	// ([Spec.SignalVppV]).
+	SignalVpp *float64 `json:"signal_vpp,omitempty"`
 
 	// stopbandFromConverter records that ParseSpec derived the stopband
 	// from the converter.
@@ -276,6 +316,8 @@ type rawSpec struct {
 	Tolerance        *json.RawMessage `json:"tolerance"`
 	MonteCarlo       *json.RawMessage `json:"montecarlo"`
 	Converter        *json.RawMessage `json:"converter"`
+	Supply           *json.RawMessage `json:"supply"`
+	SignalVpp        *float64         `json:"signal_vpp"`
 	GainToleranceDB  *float64         `json:"gain_tolerance_db"`
 	DesignMargin     *json.RawMessage `json:"design_margin"`
 	TargetYield      *float64         `json:"target_yield"`
@@ -293,6 +335,20 @@ type rawOpAmp struct {
 	NoiseVPerRtHz *float64 `json:"noise_v_per_rthz"`
 	NoiseAPerRtHz *float64 `json:"noise_a_per_rthz"`
 	SlewVPerS     *float64 `json:"slew_v_per_s"`
+
+	OutputHeadroomV       *float64 `json:"output_headroom_v"`
+	InputHeadroomV        *float64 `json:"input_headroom_v"`
+	OffsetV               *float64 `json:"offset_v"`
+	BiasA                 *float64 `json:"bias_a"`
+	InputCapacitanceFarad *float64 `json:"input_capacitance_farad"`
+	OutputResistanceOhm   *float64 `json:"output_resistance_ohm"`
+	NoiseCornerHz         *float64 `json:"noise_corner_hz"`
+}
+
+type rawSupply struct {
+	PositiveV  *float64 `json:"positive_v"`
+	NegativeV  *float64 `json:"negative_v"`
+	ReferenceV *float64 `json:"reference_v"`
 }
 
 type rawTolerance struct {
@@ -556,7 +612,7 @@ func (raw rawSpec) build() (Spec, error) {
 	}
 	var o rawOpAmp
 	if ok, err := decodeObject("opamp", raw.OpAmp, &o, `{"gbw_hz": 10e6, "dc_gain_db": 100} or {"ideal": true}`,
-		"gbw_hz, dc_gain_db, ideal, noise_v_per_rthz, noise_a_per_rthz, slew_v_per_s"); err != nil {
+		"gbw_hz, dc_gain_db, ideal, noise_v_per_rthz, noise_a_per_rthz, slew_v_per_s, output_headroom_v, input_headroom_v, offset_v, bias_a, input_capacitance_farad, output_resistance_ohm, noise_corner_hz"); err != nil {
 		return Spec{}, err
 	} else if ok {
 		if o.Ideal != nil && *o.Ideal {
@@ -569,7 +625,11 @@ func (raw rawSpec) build() (Spec, error) {
 			in  *float64
 			out *float64
 		}{{o.GBWHz, &s.OpAmp.GBWHz}, {o.DCGainDB, &s.OpAmp.DCGainDB}, {o.NoiseVPerRtHz, &s.OpAmp.NoiseVPerRtHz},
-			{o.NoiseAPerRtHz, &s.OpAmp.NoiseAPerRtHz}, {o.SlewVPerS, &s.OpAmp.SlewVPerS}} {
+			{o.NoiseAPerRtHz, &s.OpAmp.NoiseAPerRtHz}, {o.SlewVPerS, &s.OpAmp.SlewVPerS},
+			{o.OutputHeadroomV, &s.OpAmp.OutputHeadroomV}, {o.InputHeadroomV, &s.OpAmp.InputHeadroomV},
+			{o.OffsetV, &s.OpAmp.OffsetV}, {o.BiasA, &s.OpAmp.BiasA},
+			{o.InputCapacitanceFarad, &s.OpAmp.InputCapacitanceFarad}, {o.OutputResistanceOhm, &s.OpAmp.OutputResistanceOhm},
+			{o.NoiseCornerHz, &s.OpAmp.NoiseCornerHz}} {
 			if f.in != nil {
 				*f.out = *f.in
 			}
@@ -655,6 +715,26 @@ func (raw rawSpec) build() (Spec, error) {
 			}
 			s.stopbandFromConverter = true
 		}
+	}
+	var sup rawSupply
+	if ok, err := decodeObject("supply", raw.Supply, &sup, `{"positive_v": 5, "negative_v": 0, "reference_v": 2.5}`, "positive_v, negative_v, reference_v"); err != nil {
+		return Spec{}, err
+	} else if ok {
+		if sup.PositiveV == nil {
+			return Spec{}, fieldErr("supply.positive_v", "is required (the positive rail in V)")
+		}
+		s.Supply = &Supply{PositiveV: *sup.PositiveV}
+		if sup.NegativeV != nil {
+			s.Supply.NegativeV = *sup.NegativeV
+		}
+		s.Supply.ReferenceV = (s.Supply.PositiveV + s.Supply.NegativeV) / 2
+		if sup.ReferenceV != nil {
+			s.Supply.ReferenceV = *sup.ReferenceV
+		}
+	}
+	if raw.SignalVpp != nil {
+		v := *raw.SignalVpp
+		s.SignalVpp = &v
 	}
 	if raw.GainToleranceDB != nil {
 		v := *raw.GainToleranceDB
@@ -764,7 +844,74 @@ func (s Spec) Validate() error {
 	if err := s.validateVerification(); err != nil {
 		return err
 	}
-	return s.OpAmp.validate()
+	if err := s.OpAmp.validate(); err != nil {
+		return err
+	}
+	return s.validateBoard()
+}
+
+// Bounds of the board fields.
+const (
+	// MaxRailV bounds the magnitude of each supply rail and reference, in
+	// V: op-amp boards beyond ±100 V are outside this tool's job.
+	MaxRailV = 100
+	// MaxSignalVpp bounds signal_vpp, in V.
+	MaxSignalVpp = 200
+)
+
+// SignalVppV returns the largest input, peak to peak, in V: signal_vpp when
+// given, else the converter's full scale over the passband gain, else 2 V.
+func (s Spec) SignalVppV() float64 {
+	switch {
+	case s.SignalVpp != nil:
+		return *s.SignalVpp
+	case s.Converter != nil:
+		return s.Converter.FullScaleVpp / math.Pow(10, s.GainDB/20)
+	default:
+		return 2
+	}
+}
+
+// validateBoard checks the supply, the signal and their fit with the
+// op-amp's headrooms.
+func (s Spec) validateBoard() error {
+	if s.SignalVpp != nil {
+		v := *s.SignalVpp
+		if err := finite("signal_vpp", v); err != nil {
+			return err
+		}
+		if !(v > 0) || v > MaxSignalVpp {
+			return fieldErr("signal_vpp", "must be above 0 and at most %d V (got %g)", MaxSignalVpp, v)
+		}
+	}
+	p := s.Supply
+	if p == nil {
+		return nil
+	}
+	for _, f := range []struct {
+		field string
+		v     float64
+	}{{"supply.positive_v", p.PositiveV}, {"supply.negative_v", p.NegativeV}, {"supply.reference_v", p.ReferenceV}} {
+		if err := finite(f.field, f.v); err != nil {
+			return err
+		}
+		if math.Abs(f.v) > MaxRailV {
+			return fieldErr(f.field, "must be within ±%d V (got %g)", MaxRailV, f.v)
+		}
+	}
+	if !(p.PositiveV > p.NegativeV) {
+		return fieldErr("supply.positive_v", "must be above negative_v (got %g <= %g)", p.PositiveV, p.NegativeV)
+	}
+	if !(p.ReferenceV > p.NegativeV && p.ReferenceV < p.PositiveV) {
+		return fieldErr("supply.reference_v", "must lie between the rails, %g and %g V (got %g)", p.NegativeV, p.PositiveV, p.ReferenceV)
+	}
+	if span := p.PositiveV - p.NegativeV; !(2*s.OpAmp.OutputHeadroomV < span) {
+		return fieldErr("opamp.output_headroom_v", "leaves no output swing between rails %g V apart (got %g V from each rail)", span, s.OpAmp.OutputHeadroomV)
+	}
+	if span := p.PositiveV - p.NegativeV; !(2*s.OpAmp.InputHeadroomV < span) {
+		return fieldErr("opamp.input_headroom_v", "leaves no input range between rails %g V apart (got %g V from each rail)", span, s.OpAmp.InputHeadroomV)
+	}
+	return nil
 }
 
 func (o OpAmp) validate() error {
@@ -777,6 +924,10 @@ func (o OpAmp) validate() error {
 		{"opamp.noise_v_per_rthz", o.NoiseVPerRtHz, 1e-5, "V/√Hz", false},
 		{"opamp.noise_a_per_rthz", o.NoiseAPerRtHz, 1e-6, "A/√Hz", false},
 		{"opamp.slew_v_per_s", o.SlewVPerS, 1e12, "V/s", true},
+		{"opamp.output_headroom_v", o.OutputHeadroomV, 50, "V", false},
+		{"opamp.input_capacitance_farad", o.InputCapacitanceFarad, 1e-9, "F", false},
+		{"opamp.output_resistance_ohm", o.OutputResistanceOhm, 1e4, "Ω", false},
+		{"opamp.noise_corner_hz", o.NoiseCornerHz, 1e6, "Hz", false},
 	} {
 		if err := finite(f.field, f.v); err != nil {
 			return err
@@ -787,6 +938,21 @@ func (o OpAmp) validate() error {
 				lo = "above 0"
 			}
 			return fieldErr(f.field, "must be from %s to %g %s (got %g)", lo, f.max, f.unit, f.v)
+		}
+	}
+	for _, f := range []struct {
+		field, unit string
+		v, max      float64
+	}{
+		{"opamp.input_headroom_v", "V", o.InputHeadroomV, 50},
+		{"opamp.offset_v", "V", o.OffsetV, 0.1},
+		{"opamp.bias_a", "A", o.BiasA, 1e-3},
+	} {
+		if err := finite(f.field, f.v); err != nil {
+			return err
+		}
+		if math.Abs(f.v) > f.max {
+			return fieldErr(f.field, "must be within ±%g %s (got %g)", f.max, f.unit, f.v)
 		}
 	}
 	if o.Ideal {

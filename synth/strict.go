@@ -49,6 +49,10 @@ var specSchema = []schemaField{
 	{name: "opamp", kind: kindObject, fields: []schemaField{
 		{name: "gbw_hz", kind: kindNum}, {name: "dc_gain_db", kind: kindNum}, {name: "ideal"},
 		{name: "noise_v_per_rthz", kind: kindNum}, {name: "noise_a_per_rthz", kind: kindNum}, {name: "slew_v_per_s", kind: kindNum},
+		{name: "output_headroom_v", kind: kindNum}, {name: "input_headroom_v", kind: kindNum},
+		{name: "offset_v", kind: kindNum}, {name: "bias_a", kind: kindNum},
+		{name: "input_capacitance_farad", kind: kindNum}, {name: "output_resistance_ohm", kind: kindNum},
+		{name: "noise_corner_hz", kind: kindNum},
 	}},
 	{name: "values"},
 	{name: "resistor_range_ohm", kind: kindNumList}, {name: "capacitor_range_farad", kind: kindNumList},
@@ -63,6 +67,8 @@ var specSchema = []schemaField{
 	{name: "gain_tolerance_db", kind: kindNum},
 	{name: "design_margin", kind: kindObject, fields: []schemaField{{name: "passband_db", kind: kindNum}, {name: "stopband_db", kind: kindNum}}},
 	{name: "target_yield", kind: kindNum},
+	{name: "supply", kind: kindObject, fields: []schemaField{{name: "positive_v", kind: kindNum}, {name: "negative_v", kind: kindNum}, {name: "reference_v", kind: kindNum}}},
+	{name: "signal_vpp", kind: kindNum},
 }
 
 // errStopStrict ends the pre-pass without a verdict: the input is not

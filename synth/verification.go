@@ -79,6 +79,9 @@ func (d *Design) verifyDesign(ctx context.Context) error {
 		}
 	}
 	d.stepResponse(tfs)
+	if err := d.board(ch, tfs); err != nil {
+		return err
+	}
 	if s.MonteCarlo.Trials > 0 {
 		return d.monteCarlo(ctx, ch)
 	}

@@ -61,6 +61,7 @@ const (
 	groupOpAmp   = "Op-amp"
 	groupBench   = "Tolerances and Monte Carlo"
 	groupConv    = "Converter (optional)"
+	groupBoard   = "Supply and the op-amp's DC and parasitics (optional)"
 	groupHelper  = "From a converter"
 )
 
@@ -139,6 +140,28 @@ var specFields = []field{
 		Placeholder: "the sample rate", Hint: "below the sample rate for an oversampling converter; the noise its words carry is folded into half of it", Group: groupConv},
 	{Name: "converter_alias_atten_db", Path: []string{"converter", "alias_atten_db"}, Label: "Alias attenuation (dB)", Noun: "the alias attenuation", Kind: kindNumber,
 		Placeholder: "6.02·bits + 1.76", Hint: "least attenuation of everything sampling folds onto the passband; with a converter the stopband may be left empty (fs − passband edge)", Group: groupConv},
+	{Name: "supply_positive_v", Path: []string{"supply", "positive_v"}, Label: "Positive rail (V)", Noun: "the positive rail", Kind: kindNumber,
+		Placeholder: "none: no rail checks", Hint: "e.g. 5 for a single 5 V supply; gives the swing and input-range checks", Group: groupBoard},
+	{Name: "supply_negative_v", Path: []string{"supply", "negative_v"}, Label: "Negative rail (V)", Noun: "the negative rail", Kind: kindNumber,
+		Placeholder: "0", Hint: "0 for a single supply", Group: groupBoard},
+	{Name: "supply_reference_v", Path: []string{"supply", "reference_v"}, Label: "Reference (V)", Noun: "the reference", Kind: kindNumber,
+		Placeholder: "mid-supply", Hint: "the signal's zero: every ground connection of the filter goes to it", Group: groupBoard},
+	{Name: "signal_vpp", Path: []string{"signal_vpp"}, Label: "Largest input (V peak to peak)", Noun: "the largest input", Kind: kindNumber,
+		Placeholder: "full scale over the gain, else 2", Hint: "the sine and step the swing figures take", Group: groupBoard},
+	{Name: "opamp_output_headroom_v", Path: []string{"opamp", "output_headroom_v"}, Label: "Output headroom (V)", Noun: "the output headroom", Kind: kindNumber,
+		Placeholder: "0 (rail to rail)", Hint: "how close to each rail the output swings", Group: groupBoard},
+	{Name: "opamp_input_headroom_v", Path: []string{"opamp", "input_headroom_v"}, Label: "Input headroom (V)", Noun: "the input headroom", Kind: kindNumber,
+		Placeholder: "0", Hint: "how close to each rail the inputs may go; negative: beyond the rail", Group: groupBoard},
+	{Name: "opamp_offset_v", Path: []string{"opamp", "offset_v"}, Label: "Offset voltage (V)", Noun: "the offset voltage", Kind: kindNumber,
+		Placeholder: "0", Hint: "adds to the + input; within ±0.1 V; 1m is 1 mV", Group: groupBoard},
+	{Name: "opamp_bias_a", Path: []string{"opamp", "bias_a"}, Label: "Bias current (A)", Noun: "the bias current", Kind: kindNumber,
+		Placeholder: "0", Hint: "into each input; 100n is 100 nA", Group: groupBoard},
+	{Name: "opamp_input_capacitance_farad", Path: []string{"opamp", "input_capacitance_farad"}, Label: "Input capacitance (F)", Noun: "the input capacitance", Kind: kindNumber,
+		Placeholder: "0", Hint: "each input to ground; 3p is 3 pF", Group: groupBoard},
+	{Name: "opamp_output_resistance_ohm", Path: []string{"opamp", "output_resistance_ohm"}, Label: "Open-loop output resistance (Ω)", Noun: "the output resistance", Kind: kindNumber,
+		Placeholder: "0", Hint: "lifts the stopband of Sallen-Key stages", Group: groupBoard},
+	{Name: "opamp_noise_corner_hz", Path: []string{"opamp", "noise_corner_hz"}, Label: "1/f noise corner (Hz)", Noun: "the 1/f corner", Kind: kindNumber,
+		Placeholder: "0 (white)", Hint: "where the 1/f noise equals the white; integrals then start at 0.01 Hz", Group: groupBoard},
 }
 
 // slowTrials is the number of Monte Carlo trials above which the form
@@ -381,11 +404,11 @@ func canonicalQuery(vals formValues) string {
 // specWord matches the spec's JSON field names inside a reason text: a
 // snake_case name, or a dotted nested one ("opamp.gbw_hz",
 // "montecarlo.trials").
-var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter|design_margin)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
+var specWord = regexp.MustCompile(`\b(?:(?:opamp|tolerance|montecarlo|converter|design_margin|supply)\.[a-z][a-z0-9_]*|[a-z][a-z0-9]*(?:_[a-z0-9]+)+)\b`)
 
 // nestedObjects are the spec's objects whose fields are named bare inside
 // their own messages ("needs bits, sample_rate_hz and full_scale_vpp").
-var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo", "design_margin"}
+var nestedObjects = []string{"opamp", "converter", "tolerance", "montecarlo", "design_margin", "supply"}
 
 // practitionerReason rewrites the JSON field names in a synth reason as
 // the nouns of the form ("must be above the passband edge for a lowpass").

@@ -63,6 +63,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		res.Stages[i].Details = stageDetails(d.Sections[i], tol)
 	}
 	res.Bench = benchView(d)
+	res.Board = boardView(d)
 	res.TableNote = "Gain is the stage's own gain at its reference frequency (DC for lowpass kinds, high frequency for highpass, f0 for bandpass). " +
 		"Peak at output is the highest level over frequency at the stage's output, relative to the filter's passband gain: at or below 0 dB, no stage clips before the output does."
 	if hasChain {
@@ -118,7 +119,12 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 				continue
 			}
 			wg.Go(func() {
-				svg, err := drawSVG(func(w io.Writer) error { return h.deps.Schematics.Stage(w, ch, k+1) })
+				svg, err := drawSVG(func(w io.Writer) error {
+					if rs, ok := h.deps.Schematics.(ReferenceSchematics); ok && d.Spec.Supply != nil {
+						return rs.StageOnReference(w, ch, k+1, "ref")
+					}
+					return h.deps.Schematics.Stage(w, ch, k+1)
+				})
 				if err != nil {
 					h.logWarn(ctx, "schematic failed", err, slog.Int("stage", k+1))
 					return

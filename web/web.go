@@ -65,6 +65,14 @@ type Schematics interface {
 	Stage(w io.Writer, ch circuit.Chain, stage int) error
 }
 
+// ReferenceSchematics is a [Schematics] that can label the ground symbols
+// (with "ref" on a board with a supply, whose ground connections all go
+// to the reference); the result page uses it when the design has a
+// supply.
+type ReferenceSchematics interface {
+	StageOnReference(w io.Writer, ch circuit.Chain, stage int, label string) error
+}
+
 // ExportFunc writes design d as an export kind, as [export.Write] does.
 type ExportFunc func(w io.Writer, d *synth.Design, kind string) error
 

@@ -166,6 +166,8 @@ type drawing struct {
 	dots    []point
 	bounds  rect
 	tlabel  label // the title, when there is one
+	// groundLabel is printed beside each ground symbol when not empty.
+	groundLabel string
 }
 
 // bottom kinds: what an op-amp's bottom input connects to.

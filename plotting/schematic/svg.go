@@ -23,6 +23,10 @@ type Options struct {
 	// nil prints the local designators; a result of "" falls back to the
 	// local designator.
 	Refs func(local string) string
+	// GroundLabel, when not empty, is printed beside every ground symbol:
+	// "ref" on a single-supply board, where the filter's ground
+	// connections all go to the reference.
+	GroundLabel string
 }
 
 // Stage writes an SVG schematic of st to w: op-amps as triangles with their
@@ -57,6 +61,11 @@ func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 		name = "schematic of a " + st.Topology + " stage"
 		if st.Topology == "" {
 			name = "schematic of a filter stage"
+		}
+	}
+	if d.groundLabel = opt.GroundLabel; d.groundLabel != "" {
+		for _, g := range d.grounds {
+			d.bounds = d.bounds.union(rect{g.x + 8, g.y + 4, g.x + 12 + 6*len(d.groundLabel), g.y + 16})
 		}
 	}
 	d.writeSVG(&b, name)
@@ -222,6 +231,15 @@ func (d *drawing) writeSVG(b *bytes.Buffer, name string) {
 			w.line(point{g.x - half, y}, point{g.x + half, y})
 		}
 		w.s("\"/>\n")
+		if d.groundLabel != "" {
+			w.s(`<text class="label ground-label" font-size="10" x="`)
+			w.n(g.x + 10)
+			w.s(`" y="`)
+			w.n(g.y + 14)
+			w.s(`">`)
+			w.esc(d.groundLabel)
+			w.s("</text>\n")
+		}
 	}
 
 	for _, t := range d.terms {

@@ -81,6 +81,8 @@ func (st Stage) Slopes(m Model, scaleRadPerSec float64) (PartSlopes, error) {
 	if err != nil {
 		return PartSlopes{}, err
 	}
+	nReal := len(st.Parts)
+	st, t = st.withParasitics(m, t)
 	natural, rn := stageScale(st, m)
 	scale := scaleRadPerSec
 	if scale == 0 {
@@ -116,7 +118,7 @@ func (st Stage) Slopes(m Model, scaleRadPerSec float64) (PartSlopes, error) {
 		return c
 	}
 	ps := PartSlopes{ScaleRadPerSec: scale}
-	for j := range st.Parts {
+	for j := range nReal {
 		ps.DNum = append(ps.DNum, trimPoly(rescale(coef[2+2*j])))
 		ps.DDen = append(ps.DDen, trimPoly(rescale(coef[3+2*j])))
 	}

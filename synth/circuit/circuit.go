@@ -35,6 +35,10 @@ type Part struct {
 	Series string
 	// TolerancePct is the part's tolerance in percent.
 	TolerancePct float64
+	// Parasitic marks a part that stands for the op-amp model's input
+	// capacitance or output resistance ([Stage.WithParasitics]): it is
+	// analysed like any part but is not bought, drawn or toleranced.
+	Parasitic bool
 }
 
 // OpAmp is one amplifier of a stage, by its stage-local nodes.
@@ -63,10 +67,24 @@ type Stage struct {
 // Model is the op-amp model shared by every amplifier of a chain: single
 // pole, A(s) = A0/(1 + s·A0/(2π·GBW)) with A0 = 10^(DCGainDB/20), or ideal
 // (a nullor: infinite gain, zero input current, zero output impedance).
+//
+// The parasitics (input capacitance, output resistance) apply to either
+// form and enter every small-signal analysis (see [Stage.WithParasitics]);
+// the DC errors (offset, bias current) enter only the DC solution
+// ([Stage.DCTransfers]) and the deck.
 type Model struct {
 	GBWHz    float64
 	DCGainDB float64
 	Ideal    bool
+	// InputCapacitanceFarad is the capacitance from each input to ground.
+	InputCapacitanceFarad float64
+	// OutputResistanceOhm is the open-loop output resistance.
+	OutputResistanceOhm float64
+	// OffsetV is the input offset voltage, in series with the
+	// non-inverting input (adds to it).
+	OffsetV float64
+	// BiasA is the input bias current flowing into each input.
+	BiasA float64
 }
 
 // Chain is the whole filter: stages in signal order, each driving the next.

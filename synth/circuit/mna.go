@@ -259,6 +259,7 @@ func (st Stage) SolveAt(m Model, s complex128) (complex128, error) {
 	if err != nil {
 		return 0, err
 	}
+	st, t = st.withParasitics(m, t)
 	scale, _ := stageScale(st, m)
 	return compile(st, m, t, scale).solve(s / complex(scale, 0))
 }

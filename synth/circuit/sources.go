@@ -33,6 +33,59 @@ type SourceTransfers struct {
 	Num [][]float64
 }
 
+// sourceRHS is a source as a right-hand side: +w at unknown a, −w at
+// unknown b (−1: none).
+type sourceRHS struct {
+	a, b int
+	w    float64
+}
+
+// compileSources checks the stage, the model and the sources and compiles
+// the stage (with the model's parasitics) with each source as a
+// right-hand side; scale is the system's p unit in rad/s.
+func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, float64, error) {
+	if err := m.Validate(); err != nil {
+		return nil, nil, 0, err
+	}
+	t, err := st.check()
+	if err != nil {
+		return nil, nil, 0, err
+	}
+	nOps := len(st.OpAmps)
+	st, t = st.withParasitics(m, t)
+	scale, rn := stageScale(st, m)
+	sys := compile(st, m, t, scale)
+	nodes := len(t.names) - 1
+	// Each source as a right-hand side: +w at unknown a, −w at unknown b
+	// (−1: none). A current's node balances are multiplied by rn.
+	bs := make([]sourceRHS, len(srcs))
+	for i, s := range srcs {
+		if s.OpAmp != 0 {
+			if s.OpAmp < 1 || s.OpAmp > nOps {
+				return nil, nil, 0, invalidf("source %d: no op-amp %d", i+1, s.OpAmp)
+			}
+			bs[i] = sourceRHS{a: nodes + s.OpAmp, b: -1, w: 1}
+			continue
+		}
+		for _, name := range []string{s.To, s.From} {
+			if t.index(name) < 0 {
+				return nil, nil, 0, invalidf("source %d: no node %q", i+1, name)
+			}
+		}
+		a, b := t.unknown(s.To), t.unknown(s.From)
+		if a == b {
+			return nil, nil, 0, invalidf("source %d: To and From are both %q", i+1, s.To)
+		}
+		if a < 0 {
+			a, b = b, -1
+			bs[i] = sourceRHS{a: a, b: b, w: -rn}
+			continue
+		}
+		bs[i] = sourceRHS{a: a, b: b, w: rn}
+	}
+	return sys, bs, scale, nil
+}
+
 // SourceTransfers returns the transfer of each source of srcs to the
 // stage output with the op-amp model m, the stage's input driven by an
 // ideal source (a short for these sources), as polynomials interpolated
@@ -48,46 +101,9 @@ type SourceTransfers struct {
 // or a source naming no node or op-amp of the stage, and one wrapping
 // [ErrSingular] when the nodal determinant vanishes identically.
 func (st Stage) SourceTransfers(m Model, srcs []Source) (SourceTransfers, error) {
-	if err := m.Validate(); err != nil {
-		return SourceTransfers{}, err
-	}
-	t, err := st.check()
+	sys, bs, scale, err := st.compileSources(m, srcs)
 	if err != nil {
 		return SourceTransfers{}, err
-	}
-	scale, rn := stageScale(st, m)
-	sys := compile(st, m, t, scale)
-	nodes := len(t.names) - 1
-	// Each source as a right-hand side: +w at unknown a, −w at unknown b
-	// (−1: none). A current's node balances are multiplied by rn.
-	type rhs struct {
-		a, b int
-		w    float64
-	}
-	bs := make([]rhs, len(srcs))
-	for i, s := range srcs {
-		if s.OpAmp != 0 {
-			if s.OpAmp < 1 || s.OpAmp > len(st.OpAmps) {
-				return SourceTransfers{}, invalidf("source %d: no op-amp %d", i+1, s.OpAmp)
-			}
-			bs[i] = rhs{a: nodes + s.OpAmp, b: -1, w: 1}
-			continue
-		}
-		for _, name := range []string{s.To, s.From} {
-			if t.index(name) < 0 {
-				return SourceTransfers{}, invalidf("source %d: no node %q", i+1, name)
-			}
-		}
-		a, b := t.unknown(s.To), t.unknown(s.From)
-		if a == b {
-			return SourceTransfers{}, invalidf("source %d: To and From are both %q", i+1, s.To)
-		}
-		if a < 0 {
-			a, b = b, -1
-			bs[i] = rhs{a: a, b: b, w: -rn}
-			continue
-		}
-		bs[i] = rhs{a: a, b: b, w: rn}
 	}
 	n := sys.n
 	at := make([]complex128, n*n)
@@ -154,4 +170,41 @@ func (s SourceTransfers) AtAxis(x float64, dst []float64) float64 {
 	}
 	d := axisPoly(s.Den, x)
 	return real(d)*real(d) + imag(d)*imag(d)
+}
+
+// DCSourceTransfers returns the transfer of each source of srcs to the
+// stage output at DC (s = 0), in V/A for a current and V/V for a voltage,
+// from one direct solve of the nodal equations at s = 0 (capacitors open,
+// the op-amps at their DC gain) rather than from the interpolated
+// polynomials, whose constant terms lose digits when the DC behaviour
+// rests on the op-amps' large gain (the integrators of a state-variable
+// stage). Sources are as for [Stage.SourceTransfers]. It returns an error
+// wrapping [ErrSingular] when the stage has no DC solution (a node
+// without a DC path).
+func (st Stage) DCSourceTransfers(m Model, srcs []Source) ([]float64, error) {
+	sys, bs, _, err := st.compileSources(m, srcs)
+	if err != nil {
+		return nil, err
+	}
+	n := sys.n
+	a := make([]complex128, n*n)
+	for j, g := range sys.g {
+		a[j] = complex(g, 0)
+	}
+	// Aᵀ·y = e_out: V(out) per unit of each right-hand side is y·b.
+	if lu.Factor(a, n, sys.piv) == 0 {
+		return nil, fmt.Errorf("%w: the nodal matrix is singular at DC (a node without a DC path)", ErrSingular)
+	}
+	y := make([]complex128, n)
+	y[sys.outCol] = 1
+	lu.SolveTransposed(a, n, sys.piv, y)
+	out := make([]float64, len(bs))
+	for i, b := range bs {
+		v := y[b.a]
+		if b.b >= 0 {
+			v -= y[b.b]
+		}
+		out[i] = real(v) * b.w
+	}
+	return out, nil
 }

@@ -80,6 +80,31 @@ type SpiceOptions struct {
 	// Transient, when set, makes the source a step as well and adds a
 	// transient analysis to the .control block (see [SpiceTransient]).
 	Transient *SpiceTransient
+	// Supply, when set, puts the board on its rails: supply and reference
+	// sources, every ground connection of the filter on node ref, a
+	// limiter at each op-amp output and an operating-point analysis (see
+	// [SpiceSupply]).
+	Supply *SpiceSupply
+}
+
+// OpDataFile is the file the deck's operating-point analysis writes (the
+// DC voltage of out, twice, as a one-row table) when SpiceOptions.Supply
+// is set or the model has an offset or a bias current.
+const OpDataFile = "op.data"
+
+// SpiceSupply describes the board's supply for the deck (see
+// [Chain.WriteSPICE]).
+type SpiceSupply struct {
+	// PositiveV and NegativeV are the rails, ReferenceV the signal's zero
+	// (PositiveV > ReferenceV > NegativeV).
+	PositiveV, NegativeV, ReferenceV float64
+	// OutputHeadroomV is how close to each rail an op-amp output swings:
+	// the limiter holds outputs within [NegativeV + OutputHeadroomV,
+	// PositiveV − OutputHeadroomV] and is linear inside.
+	OutputHeadroomV float64
+	// StepLowV and StepHighV are the transient step's levels relative to
+	// the reference (say −Vpp/2 and +Vpp/2); both 0 keep the unit step.
+	StepLowV, StepHighV float64
 }
 
 // SpiceNoise describes the op-amp noise of the deck (see
@@ -91,6 +116,12 @@ type SpiceNoise struct {
 	// CurrentAPerRtHz is the op-amp's input current noise density in,
 	// from each input to ground (uncorrelated), in A/√Hz.
 	CurrentAPerRtHz float64
+	// CornerHz is the 1/f corner of both densities: each density squared
+	// is en²·(1 + CornerHz/f); 0 leaves them white. The 1/f part comes
+	// from the flicker noise of the helper resistors (ngspice's resistor
+	// model parameters kf and af = 2 with a 1 µA bias current, whose DC
+	// voltage a noiseless twin cancels).
+	CornerHz float64
 	// TempK is the circuit temperature in kelvin, which sets both the
 	// resistors' thermal noise and the helpers' resistances;
 	// DefaultNoiseTempK when 0.
@@ -194,6 +225,51 @@ type noiseHelpers struct {
 	analysis bool
 	en, in   float64
 	fourKT   float64
+	corner   float64
+}
+
+// limiterSoftV is the rounding of the deck's output limiter, in V: its
+// slope departs from 1 by less than 1e-4 (0.001 dB) more than 0.1 V
+// inside the limits.
+const limiterSoftV = 0.01
+
+// flickerBiasA is the DC current of the flicker-noise helper resistors.
+// Small, so that the helper's DC voltage (cancelled by its noiseless twin)
+// is millivolts and the cancellation exact to far below any offset.
+const flickerBiasA = 1e-6
+
+// flickerCurrentOhm is the helper resistance of the current-noise sources
+// with a 1/f corner, whose noise voltage a VCCS turns into a current.
+const flickerCurrentOhm = 1000
+
+// writeFlicker writes the subcircuit's noise sources with a 1/f corner:
+// for the voltage noise, a resistor Rvn = en²/(4kT) fed 1 µA, with
+// flicker coefficient kf = en²·fc/(Rvn²·(1 µA)²) (af = 2), so that its
+// open-circuit density is en²·(1 + fc/f), and a unity VCVS Evn adding
+// V(nvn) − V(nvr) to the sensed input (nvr: the noiseless twin carrying
+// the same DC); for each input's current noise, the same pair at 1 kOhm
+// and a VCCS of transconductance in/√(4kT·1 kOhm) from the pin to ground.
+func (h *noiseHelpers) writeFlicker(b *bufio.Writer) {
+	i0 := flickerBiasA
+	pair := func(name string, r float64) {
+		kf := r * h.fourKT * h.corner / (r * r * i0 * i0)
+		fmt.Fprintf(b, "R%s n%s 0 %s pw_fl_%s\n", name, name, spiceNum(r), name)
+		fmt.Fprintf(b, ".model pw_fl_%s R(kf=%s af=2)\n", name, spiceNum(kf))
+		fmt.Fprintf(b, "I%s 0 n%s DC %s\n", name, name, spiceNum(i0))
+		fmt.Fprintf(b, "R%sr n%sr 0 %s noisy=0\n", name, name, spiceNum(r))
+		fmt.Fprintf(b, "I%sr 0 n%sr DC %s\n", name, name, spiceNum(i0))
+	}
+	if h.rv > 0 {
+		pair("vn", h.rv)
+		b.WriteString("Evn inpn inp nvn nvnr 1\n")
+	}
+	if h.in > 0 {
+		g := h.in / math.Sqrt(h.fourKT*flickerCurrentOhm)
+		for _, pin := range []string{"inp", "inn"} {
+			pair("c"+pin, flickerCurrentOhm)
+			fmt.Fprintf(b, "Gc%s %s 0 nc%s nc%sr %s\n", pin, pin, pin, pin, spiceNum(g))
+		}
+	}
 }
 
 func resolveNoise(n *SpiceNoise) (*noiseHelpers, error) {
@@ -208,7 +284,10 @@ func resolveNoise(n *SpiceNoise) (*noiseHelpers, error) {
 			return nil, invalidf("spice options: Noise.%s %v is not finite and >= 0", v.name, v.x)
 		}
 	}
-	h := &noiseHelpers{tempK: n.TempK, en: n.VoltageVPerRtHz, in: n.CurrentAPerRtHz, analysis: n.Analysis, file: n.DataFile}
+	if !(n.CornerHz >= 0) || math.IsInf(n.CornerHz, 1) {
+		return nil, invalidf("spice options: Noise.CornerHz %v is not finite and >= 0", n.CornerHz)
+	}
+	h := &noiseHelpers{tempK: n.TempK, en: n.VoltageVPerRtHz, in: n.CurrentAPerRtHz, analysis: n.Analysis, file: n.DataFile, corner: n.CornerHz}
 	if h.tempK == 0 {
 		h.tempK = DefaultNoiseTempK
 	}
@@ -361,6 +440,10 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	if err != nil {
 		return err
 	}
+	sup, err := resolveSupply(opt.Supply)
+	if err != nil {
+		return err
+	}
 	title := opt.Title
 	if title == "" {
 		title = DefaultSpiceTitle
@@ -389,26 +472,73 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		fmt.Fprintf(b, "* Op-amp noise: en = %s V/rtHz at the + input, in = %s A/rtHz at each\n", spiceNum(nz.en), spiceNum(nz.in))
 		fmt.Fprintf(b, "* input, from the thermal noise of helper resistors; T = %s K.\n", spiceNum(nz.tempK))
 	}
-	if tr != nil {
-		fmt.Fprintf(b, "Vin in 0 DC 0 AC 1 PWL(0 0 %s 1)\n", spiceNum(tr.rise))
-	} else {
-		b.WriteString("Vin in 0 DC 0 AC 1\n")
+	m := c.Model
+	if m.HasParasitics() || m.OffsetV != 0 || m.BiasA != 0 {
+		fmt.Fprintf(b, "* Op-amp parasitics and DC errors: input capacitance %s F from each input to\n", spiceNum(m.InputCapacitanceFarad))
+		fmt.Fprintf(b, "* ground, open-loop output resistance %s Ohm, offset %s V at the + input,\n", spiceNum(m.OutputResistanceOhm), spiceNum(m.OffsetV))
+		fmt.Fprintf(b, "* bias current %s A into each input.\n", spiceNum(m.BiasA))
+	}
+	gnd, refPin := Ground, ""
+	if sup != nil {
+		gnd, refPin = "ref", "ref "
+		fmt.Fprintf(b, "* Supply: %s V and %s V, reference (the signal's zero) %s V on node ref;\n",
+			spiceNum(sup.PositiveV), spiceNum(sup.NegativeV), spiceNum(sup.ReferenceV))
+		fmt.Fprintf(b, "* every ground connection of the filter is on ref; op-amp outputs are held\n")
+		fmt.Fprintf(b, "* %s V inside the rails by a smooth limiter, linear (to 1e-4) more than 0.1 V\n", spiceNum(sup.OutputHeadroomV))
+		b.WriteString("* inside its limits, of slope 1e-3 beyond them. The op-amp's\n")
+		b.WriteString("* gain acts around ref, its fourth pin: v(out) = v(ref) + A(s)*(v(+) - v(-)).\n")
+		fmt.Fprintf(b, "Vpos vpos 0 DC %s\n", spiceNum(sup.PositiveV))
+		fmt.Fprintf(b, "Vneg vneg 0 DC %s\n", spiceNum(sup.NegativeV))
+		fmt.Fprintf(b, "Vref ref 0 DC %s\n", spiceNum(sup.ReferenceV))
+	}
+	node := func(stage int, local string) string {
+		if local == Ground {
+			return gnd
+		}
+		return c.Node(stage, local)
+	}
+	switch {
+	case tr != nil && sup != nil && (sup.StepLowV != 0 || sup.StepHighV != 0):
+		fmt.Fprintf(b, "Vin in %s DC 0 AC 1 PWL(0 %s %s %s)\n", gnd, spiceNum(sup.StepLowV), spiceNum(tr.rise), spiceNum(sup.StepHighV))
+	case tr != nil:
+		fmt.Fprintf(b, "Vin in %s DC 0 AC 1 PWL(0 0 %s 1)\n", gnd, spiceNum(tr.rise))
+	default:
+		fmt.Fprintf(b, "Vin in %s DC 0 AC 1\n", gnd)
 	}
 	for k, st := range c.Stages {
 		stage := k + 1
 		fmt.Fprintf(b, "* stage %d: %s\n", stage, commentLine(st.Topology))
 		for _, p := range st.Parts {
 			fmt.Fprintf(b, "%s %s %s %s\n", SpiceName(c.Ref(stage, p.Ref)),
-				c.Node(stage, p.A), c.Node(stage, p.B), spiceNum(p.Value))
+				node(stage, p.A), node(stage, p.B), spiceNum(p.Value))
 		}
 		for _, u := range st.OpAmps {
-			fmt.Fprintf(b, "%s %s %s %s %s\n", SpiceName(c.Ref(stage, u.Ref)),
-				c.Node(stage, u.Plus), c.Node(stage, u.Minus), c.Node(stage, u.Out), opAmpSubckt)
+			fmt.Fprintf(b, "%s %s %s %s %s%s\n", SpiceName(c.Ref(stage, u.Ref)),
+				node(stage, u.Plus), node(stage, u.Minus), node(stage, u.Out), refPin, opAmpSubckt)
 		}
 	}
-	fmt.Fprintf(b, ".subckt %s inp inn out\n", opAmpSubckt)
+	fmt.Fprintf(b, ".subckt %s inp inn out%s\n", opAmpSubckt, strings.TrimSuffix(" "+refPin, " "))
+	if m.InputCapacitanceFarad > 0 {
+		fmt.Fprintf(b, "Cinp inp 0 %s\n", spiceNum(m.InputCapacitanceFarad))
+		fmt.Fprintf(b, "Cinn inn 0 %s\n", spiceNum(m.InputCapacitanceFarad))
+	}
+	if m.BiasA != 0 {
+		fmt.Fprintf(b, "Ibp inp 0 DC %s\n", spiceNum(m.BiasA))
+		fmt.Fprintf(b, "Ibn inn 0 DC %s\n", spiceNum(m.BiasA))
+	}
+	drive := "out"
+	if m.OutputResistanceOhm > 0 {
+		drive = "outi"
+		fmt.Fprintf(b, "Rout outi out %s noisy=0\n", spiceNum(m.OutputResistanceOhm))
+	}
 	sense, noisy := "inp", ""
-	if nz != nil {
+	if nz != nil && nz.corner > 0 {
+		noisy = " noisy=0"
+		nz.writeFlicker(b)
+		if nz.rv > 0 {
+			sense = "inpn"
+		}
+	} else if nz != nil {
 		noisy = " noisy=0"
 		if nz.rv > 0 {
 			fmt.Fprintf(b, "Rvn nvn 0 %s\n", spiceNum(nz.rv))
@@ -423,15 +553,61 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 			}
 		}
 	}
-	if c.Model.Ideal {
-		fmt.Fprintf(b, "E1 out 0 %s inn %s\n", sense, spiceNum(IdealOpAmpGain))
-	} else {
-		fmt.Fprintf(b, "G1 0 n1 %s inn 1\n", sense)
-		fmt.Fprintf(b, "R1 n1 0 %s%s\n", spiceNum(c.Model.a0()), noisy)
-		fmt.Fprintf(b, "C1 n1 0 %s\n", spiceNum(1/(2*math.Pi*c.Model.GBWHz)))
-		b.WriteString("E1 out 0 n1 0 1\n")
+	if m.OffsetV != 0 {
+		// V(inpo) = V(sense) + Vos: the offset adds to the + input.
+		fmt.Fprintf(b, "Vos inpo %s DC %s\n", sense, spiceNum(m.OffsetV))
+		sense = "inpo"
+	}
+	var lo, hi string
+	if sup != nil {
+		lo, hi = spiceNum(sup.NegativeV+sup.OutputHeadroomV), spiceNum(sup.PositiveV-sup.OutputHeadroomV)
+	}
+	// limit is the limiter: x − 0.999·s·(sp((x − hi)/s) − sp((lo − x)/s))
+	// with sp the softplus ln(1 + e^z), written overflow-free, and s =
+	// limiterSoftV. Smooth (the operating point converges without gmin
+	// stepping), of slope 1 within 1e-4 more than 10·s inside the limits,
+	// and of slope 1e-3 beyond them.
+	limit := func(x string) string {
+		sp := func(z string) string {
+			return fmt.Sprintf("(max(%s, 0) + ln(1 + exp(-abs(%s))))", z, z)
+		}
+		soft := spiceNum(limiterSoftV)
+		z1 := fmt.Sprintf("(%s - %s)/%s", x, hi, soft)
+		z2 := fmt.Sprintf("(%s - %s)/%s", lo, x, soft)
+		return fmt.Sprintf("%s - 0.999*%s*(%s - %s)", x, soft, sp(z1), sp(z2))
+	}
+	switch {
+	case c.Model.Ideal && sup != nil:
+		fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit(fmt.Sprintf("(V(ref)+%s*(V(%s)-V(inn)))", spiceNum(IdealOpAmpGain), sense)))
+	case c.Model.Ideal:
+		fmt.Fprintf(b, "E1 %s 0 %s inn %s\n", drive, sense, spiceNum(IdealOpAmpGain))
+	default:
+		zero := Ground
+		if sup != nil {
+			zero = "ref"
+		}
+		fmt.Fprintf(b, "G1 %s n1 %s inn 1\n", zero, sense)
+		fmt.Fprintf(b, "R1 n1 %s %s%s\n", zero, spiceNum(c.Model.a0()), noisy)
+		fmt.Fprintf(b, "C1 n1 %s %s\n", zero, spiceNum(1/(2*math.Pi*c.Model.GBWHz)))
+		if sup != nil {
+			fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit("V(n1)"))
+		} else {
+			fmt.Fprintf(b, "E1 %s 0 n1 0 1\n", drive)
+		}
 	}
 	fmt.Fprintf(b, ".ends %s\n", opAmpSubckt)
+	if sup != nil && !c.Model.Ideal {
+		// The single-pole integrators start at the reference: from 0 V,
+		// the limiter's flat side would send the operating point into
+		// gmin stepping.
+		b.WriteString(".nodeset")
+		for k, st := range c.Stages {
+			for _, u := range st.OpAmps {
+				fmt.Fprintf(b, " v(%s.n1)=%s", strings.ToLower(SpiceName(c.Ref(k+1, u.Ref))), spiceNum(sup.ReferenceV))
+			}
+		}
+		b.WriteString("\n")
+	}
 	if nz != nil {
 		// In °C, rounded to 1e-9 K (26.85, not 26.850000000000023).
 		fmt.Fprintf(b, ".options temp=%s\n", spiceNum(math.Round((nz.tempK-celsiusZeroK)*1e9)/1e9))
@@ -443,6 +619,11 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	b.WriteString("set numdgt=15\n")
 	b.WriteString("run\n")
 	fmt.Fprintf(b, "wrdata %s v(out)\n", data)
+	if sup != nil || m.OffsetV != 0 || m.BiasA != 0 {
+		b.WriteString("op\n")
+		b.WriteString("print v(out)\n")
+		fmt.Fprintf(b, "wrdata %s v(out)\n", OpDataFile)
+	}
 	if nz != nil && nz.analysis {
 		fmt.Fprintf(b, "noise v(out) vin dec %d %s %s\n", ppd, spiceNum(start), spiceNum(stop))
 		// noise makes the spectrum plot, then the integrated-noise plot,
@@ -462,4 +643,23 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	b.WriteString(".endc\n")
 	b.WriteString(".end\n")
 	return b.Flush()
+}
+
+// resolveSupply checks the supply option.
+func resolveSupply(sp *SpiceSupply) (*SpiceSupply, error) {
+	if sp == nil {
+		return nil, nil
+	}
+	for _, v := range []float64{sp.PositiveV, sp.NegativeV, sp.ReferenceV, sp.OutputHeadroomV, sp.StepLowV, sp.StepHighV} {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, invalidf("spice options: Supply has a value that is not finite")
+		}
+	}
+	if !(sp.PositiveV > sp.ReferenceV && sp.ReferenceV > sp.NegativeV) {
+		return nil, invalidf("spice options: Supply: need PositiveV > ReferenceV > NegativeV (got %v, %v, %v)", sp.PositiveV, sp.ReferenceV, sp.NegativeV)
+	}
+	if !(sp.OutputHeadroomV >= 0) || 2*sp.OutputHeadroomV >= sp.PositiveV-sp.NegativeV {
+		return nil, invalidf("spice options: Supply.OutputHeadroomV %v leaves no swing", sp.OutputHeadroomV)
+	}
+	return sp, nil
 }

@@ -57,9 +57,34 @@ func (st Stage) TransferFunctionScaled(m Model, scaleRadPerSec float64) (Rationa
 	return st.transferFunction(m, t, scaleRadPerSec)
 }
 
+// NodeTransferFunction is [Stage.TransferFunctionScaled] to the voltage of
+// any node of the stage (an op-amp input, say) rather than Out: V(node)/V(In).
+// It returns an error wrapping [ErrInvalid] for a node the stage does not
+// have.
+func (st Stage) NodeTransferFunction(m Model, node string, scaleRadPerSec float64) (Rational, error) {
+	if err := m.Validate(); err != nil {
+		return Rational{}, err
+	}
+	t, err := st.check()
+	if err != nil {
+		return Rational{}, err
+	}
+	if node == Ground || t.index(node) < 0 {
+		return Rational{}, invalidf("no node %q", node)
+	}
+	return st.nodeTransfer(m, t, scaleRadPerSec, node)
+}
+
 // transferFunction is TransferFunctionScaled for a valid stage with node
 // table t and a valid model.
 func (st Stage) transferFunction(m Model, t *nodeTable, scale float64) (Rational, error) {
+	return st.nodeTransfer(m, t, scale, st.Out)
+}
+
+// nodeTransfer is transferFunction to the voltage of any node of the
+// stage.
+func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
+	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)
 	if scale == 0 {
 		scale = natural
@@ -71,6 +96,7 @@ func (st Stage) transferFunction(m Model, t *nodeTable, scale float64) (Rational
 	// are of order one on the unit circle, then change variable exactly:
 	// p_natural = p·(scale/natural).
 	sys := compile(st, m, t, natural)
+	sys.outCol = t.unknown(node)
 	num, den := sys.interpolate()
 	if k := scale / natural; k != 1 {
 		kj := 1.0

@@ -29,6 +29,9 @@ func finitePositive(v float64) bool { return v > 0 && !math.IsInf(v, 1) }
 // finite and > 0 and DCGainDB finite and > 0 (A0 > 1, A0 finite); an
 // ideal model ignores both.
 func (m Model) Validate() error {
+	if err := m.validParasitics(); err != nil {
+		return err
+	}
 	if m.Ideal {
 		return nil
 	}

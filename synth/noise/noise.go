@@ -45,6 +45,31 @@ type OpAmpNoise struct {
 	// CurrentAPerRtHz is the input current noise density in in A/√Hz, one
 	// uncorrelated source from each input to ground.
 	CurrentAPerRtHz float64
+	// CornerHz is the 1/f corner fc of both densities: each density
+	// squared is white·(1 + fc/f). 0: white.
+	CornerHz float64
+	// FlickerFromHz is where the integrals start when CornerHz > 0 (the
+	// 1/f power from 0 Hz is unbounded): [DefaultFlickerFromHz] when 0.
+	// Bands that start below it start at it.
+	FlickerFromHz float64
+}
+
+// DefaultFlickerFromHz is the lowest frequency of the noise integrals
+// with 1/f noise: 0.01 Hz, the inverse of a 100 s observation (common
+// practice takes the record length as the 1/f integral's lower limit; the
+// choice is ours, and each decade below it would add en²·fc·ln 10).
+const DefaultFlickerFromHz = 0.01
+
+// flickerFrom returns the integrals' lower limit: 0 without 1/f noise.
+func (on OpAmpNoise) flickerFrom() float64 {
+	switch {
+	case on.CornerHz == 0:
+		return 0
+	case on.FlickerFromHz > 0:
+		return on.FlickerFromHz
+	default:
+		return DefaultFlickerFromHz
+	}
 }
 
 // DefaultOpAmpNoise returns the spec's default densities,
@@ -190,6 +215,8 @@ type analysis struct {
 	scratch []float64    // per-contributor work
 	poleHz  []float64    // pole magnitudes, breakpoints of the quadrature
 	poles   []complex128 // the stages' poles in rad/s
+	// flickerFrom is the integrals' lower limit with 1/f noise (0: none).
+	flickerFrom float64
 }
 
 func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, error) {
@@ -199,7 +226,7 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 	for _, v := range []struct {
 		name string
 		x    float64
-	}{{"VoltageVPerRtHz", on.VoltageVPerRtHz}, {"CurrentAPerRtHz", on.CurrentAPerRtHz}} {
+	}{{"VoltageVPerRtHz", on.VoltageVPerRtHz}, {"CurrentAPerRtHz", on.CurrentAPerRtHz}, {"CornerHz", on.CornerHz}, {"FlickerFromHz", on.FlickerFromHz}} {
 		if !(v.x >= 0) || math.IsInf(v.x, 1) {
 			return nil, invalidf("op-amp noise: %s %v is not finite and >= 0", v.name, v.x)
 		}
@@ -214,7 +241,7 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 	if err != nil {
 		return nil, err
 	}
-	a := &analysis{tfs: tfs, gain: make([]float64, len(ch.Stages))}
+	a := &analysis{tfs: tfs, gain: make([]float64, len(ch.Stages)), flickerFrom: on.flickerFrom()}
 	fourKT := 4 * BoltzmannJPerK * tempK
 	for k := range ch.Stages {
 		sn, err := newStageNoise(ch, k+1, on, fourKT, &a.refs)

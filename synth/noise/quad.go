@@ -304,6 +304,12 @@ func (q *quad) sum() (float64, []float64) {
 // integrate integrates the chain's output noise and each part's over
 // [lo, hi] (see newQuad).
 func (a *analysis) integrate(lo, hi float64) (float64, []float64, error) {
+	if lo < a.flickerFrom {
+		lo = a.flickerFrom // 1/f noise: the band starts at the limit
+		if !(hi > lo) {
+			return 0, make([]float64, len(a.refs)), nil
+		}
+	}
 	q := a.newQuad(len(a.refs), a.psd)
 	if err := q.add(lo, hi, 1); err != nil {
 		return 0, nil, err

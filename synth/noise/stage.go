@@ -10,8 +10,9 @@ import (
 // source is one noise source of a stage: its density squared and its
 // contributor index.
 type source struct {
-	psd float64 // V²/Hz for a voltage, A²/Hz for a current
-	who int     // contributor index
+	psd     float64 // V²/Hz for a voltage, A²/Hz for a current (white part)
+	who     int     // contributor index
+	flicker bool    // an op-amp source: psd·(1 + corner/f)
 }
 
 // stageNoise is one stage's noise sources and their transfers to the
@@ -21,6 +22,9 @@ type stageNoise struct {
 	srcs []source
 	tf   circuit.SourceTransfers
 	mag  []float64 // |N_i(jx)|², per source
+	// corner is the op-amp sources' 1/f corner in Hz, floor the lowest
+	// frequency the 1/f term is evaluated at (0: white).
+	corner, floor float64
 }
 
 // newStageNoise compiles stage k (1-based) of the valid chain ch: every
@@ -31,7 +35,7 @@ type stageNoise struct {
 // position there).
 func newStageNoise(ch circuit.Chain, k int, on OpAmpNoise, fourKT float64, refs *[]string) (*stageNoise, error) {
 	st := ch.Stages[k-1]
-	sn := &stageNoise{}
+	sn := &stageNoise{corner: on.CornerHz, floor: on.flickerFrom()}
 	var srcs []circuit.Source
 	for _, p := range st.Parts {
 		if p.Kind != circuit.Resistor {
@@ -46,14 +50,14 @@ func newStageNoise(ch circuit.Chain, k int, on OpAmpNoise, fourKT float64, refs 
 		who := len(*refs) - 1
 		if on.VoltageVPerRtHz > 0 {
 			srcs = append(srcs, circuit.Source{OpAmp: q + 1})
-			sn.srcs = append(sn.srcs, source{psd: on.VoltageVPerRtHz * on.VoltageVPerRtHz, who: who})
+			sn.srcs = append(sn.srcs, source{psd: on.VoltageVPerRtHz * on.VoltageVPerRtHz, who: who, flicker: true})
 		}
 		// Current noise from each input to ground, uncorrelated.
 		if ci := on.CurrentAPerRtHz; ci > 0 {
 			for _, node := range []string{u.Plus, u.Minus} {
 				if node != circuit.Ground {
 					srcs = append(srcs, circuit.Source{To: node, From: circuit.Ground})
-					sn.srcs = append(sn.srcs, source{psd: ci * ci, who: who})
+					sn.srcs = append(sn.srcs, source{psd: ci * ci, who: who, flicker: true})
 				}
 			}
 		}
@@ -77,9 +81,16 @@ func (sn *stageNoise) accumulate(w, gain float64, perWho []float64) (float64, er
 		return 0, fmt.Errorf("%w: the nodal matrix is singular at %v Hz", circuit.ErrSingular, w/(2*math.Pi))
 	}
 	g := gain / d
+	pink := 1.0
+	if sn.corner > 0 {
+		pink = 1 + sn.corner/math.Max(w/(2*math.Pi), sn.floor)
+	}
 	var total float64
 	for i, s := range sn.srcs {
 		v := s.psd * sn.mag[i] * g
+		if s.flicker {
+			v *= pink
+		}
 		perWho[s.who] += v
 		total += v
 	}

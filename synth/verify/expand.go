@@ -83,8 +83,9 @@ type expansion []term
 // package has one model per chain).
 type stageModel struct {
 	stage        circuit.Stage
-	scale, rn    float64 // natural scale (rad/s) and resistance of the nominal stage
-	nOps         int     // single-pole op-amps (0 for the ideal model)
+	aug          circuit.Stage // stage with the model's parasitic parts after its own (circuit.Stage.WithParasitics)
+	scale, rn    float64       // natural scale (rad/s) and resistance of the nominal stage
+	nOps         int           // single-pole op-amps (0 for the ideal model)
 	sectionOrder int
 	num, den     expansion
 	degNum       int
@@ -141,12 +142,12 @@ const (
 // newStageModel prepares a valid stage with a valid model for a run of
 // the given number of trials.
 func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode) (*stageModel, error) {
-	sm := &stageModel{stage: st}
-	sm.scale, sm.rn = stageScale(st, m)
+	sm := &stageModel{stage: st, aug: st.WithParasitics(m)}
+	sm.scale, sm.rn = stageScale(sm.aug, m)
 	if !m.Ideal {
 		sm.nOps = len(st.OpAmps)
 	}
-	for _, p := range st.Parts {
+	for _, p := range sm.aug.Parts {
 		c := p.Kind == circuit.Capacitor
 		sm.isCap = append(sm.isCap, c)
 		if c {
@@ -155,7 +156,7 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 			sm.y0 = append(sm.y0, sm.rn/p.Value)
 		}
 	}
-	k := len(st.Parts) + sm.nOps
+	k := len(sm.aug.Parts) + sm.nOps
 	var err error
 	switch {
 	case mode == expandNever,
@@ -212,7 +213,7 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 // expand computes the multi-affine expansions of the output cofactor and
 // the determinant, or returns errNoExpansion.
 func (sm *stageModel) expand() error {
-	st := sm.stage
+	st := sm.aug
 	k := len(st.Parts) + sm.nOps
 	if k > maxExpandVars {
 		return errNoExpansion

@@ -32,7 +32,11 @@ func TestStageTrialMatchesNodalSolve(t *testing.T) {
 	for _, m := range []struct {
 		name string
 		m    circuit.Model
-	}{{"ideal", ideal}, {"single-pole", singlePole}, {"slow-op-amp", circuit.Model{GBWHz: 2e4, DCGainDB: 80}}} {
+	}{{"ideal", ideal}, {"single-pole", singlePole}, {"slow-op-amp", circuit.Model{GBWHz: 2e4, DCGainDB: 80}},
+		// The op-amp model's parasitic parts (input capacitance, output
+		// resistance) join the expansion as untoleranced variables.
+		{"parasitics", circuit.Model{GBWHz: 1e6, DCGainDB: 100, InputCapacitanceFarad: 3e-12, OutputResistanceOhm: 50}},
+		{"ideal-parasitics", circuit.Model{Ideal: true, InputCapacitanceFarad: 10e-12, OutputResistanceOhm: 100}}} {
 		for _, s := range []struct {
 			name string
 			st   circuit.Stage

@@ -401,7 +401,7 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 			}
 		}
 		cm.partTol = append(cm.partTol, pt)
-		cm.maxParts = max(cm.maxParts, len(st.Parts))
+		cm.maxParts = max(cm.maxParts, len(sm.aug.Parts))
 		x := make([]float64, len(cm.grid))
 		u := make([]float64, len(cm.grid))
 		for i, f := range cm.grid {
@@ -591,9 +591,12 @@ func (w *worker) analyse() error {
 		}
 		y := w.y[:len(sm.y0)]
 		for j, y0 := range sm.y0 {
-			if sm.isCap[j] {
+			switch {
+			case j >= len(fac):
+				y[j] = y0 // a parasitic part of the op-amp model: not toleranced
+			case sm.isCap[j]:
 				y[j] = y0 * fac[j]
-			} else {
+			default:
 				y[j] = y0 / fac[j]
 			}
 		}

@@ -135,11 +135,14 @@ func dominantRoots(poles []complex128, sectionOrder int) (dominantSel, bool) {
 // scale, through the adjoint of its nodal system. ok is false when that
 // does not apply (see adjointSplitTol and adjointSingularTol).
 func adjointSensitivities(st circuit.Stage, m circuit.Model, scale float64, sel dominantSel) ([]Sensitivity, bool) {
-	_, rn := stageScale(st, m)
-	ns := newNodal(st, m, scale, rn)
+	// The op-amp model's parasitic parts are in the nodal system (they
+	// move the poles) but get no figure of their own.
+	aug := st.WithParasitics(m)
+	_, rn := stageScale(aug, m)
+	ns := newNodal(aug, m, scale, rn)
 	np := len(st.Parts)
-	d1 := make([]complex128, np)
-	d2 := make([]complex128, np)
+	d1 := make([]complex128, len(aug.Parts))
+	d2 := make([]complex128, len(aug.Parts))
 	l1 := sel.roots[0] / complex(scale, 0)
 	l2 := sel.roots[1] / complex(scale, 0)
 	switch sel.kind {

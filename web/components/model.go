@@ -135,6 +135,9 @@ type Result struct {
 	// Bench is the panel on tolerances, noise and settling; nil when the
 	// design has none of them (no circuit).
 	Bench *Bench
+	// Board is the panel on the board around the filter: the signal's
+	// extremes at every op-amp and the DC error; nil before verification.
+	Board *BoardView
 	// Downloads are the export links.
 	Downloads []Link
 	// Permalink is the address of this result page.
@@ -321,4 +324,23 @@ type ExploreRow struct {
 // or the text itself).
 type ExploreCell struct {
 	Text, Sort string
+}
+
+// BoardView is the "On its rails" panel: the supply, the swing table and
+// the DC error, as the design states them.
+type BoardView struct {
+	// Figures are the headline numbers (supply, signal, DC error).
+	Figures []Figure
+	// Columns and Rows are the swing table: one row per op-amp node.
+	Columns []string
+	Rows    []BoardRow
+	// Notes explain the panel.
+	Notes []string
+}
+
+// BoardRow is one node of the swing table; Bad marks a node beyond its
+// limit.
+type BoardRow struct {
+	Cells []string
+	Bad   bool
 }

@@ -57,6 +57,18 @@ func (Schematics) Stage(w io.Writer, ch circuit.Chain, stage int) error {
 	})
 }
 
+// StageOnReference is Stage with every ground symbol labelled label (the
+// reference of a single-supply board).
+func (Schematics) StageOnReference(w io.Writer, ch circuit.Chain, stage int, label string) error {
+	if stage < 1 || stage > len(ch.Stages) {
+		return fmt.Errorf("draw: stage %d of a chain of %d", stage, len(ch.Stages))
+	}
+	return schematic.Stage(w, ch.Stages[stage-1], schematic.Options{
+		Refs:        func(local string) string { return ch.Ref(stage, local) },
+		GroundLabel: label,
+	})
+}
+
 // Deps are the workbench's dependencies with the real drawings.
 func Deps() web.Deps {
 	return web.Deps{Plots: Plots{}, Schematics: Schematics{}}

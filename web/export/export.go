@@ -113,6 +113,7 @@ func writeSpice(w io.Writer, d *synth.Design) error {
 		Noise: &circuit.SpiceNoise{
 			VoltageVPerRtHz: d.Spec.OpAmp.NoiseVPerRtHz,
 			CurrentAPerRtHz: d.Spec.OpAmp.NoiseAPerRtHz,
+			CornerHz:        d.Spec.OpAmp.NoiseCornerHz,
 			TempK:           300,
 			Analysis:        true,
 		},
@@ -122,6 +123,13 @@ func writeSpice(w io.Writer, d *synth.Design) error {
 		// The simulator integrates with at most this step; ten times finer
 		// than the design's grid keeps its error well under 0.1 %.
 		opt.Transient = &circuit.SpiceTransient{StopS: end, StepS: end / float64(10*(len(st.TimeS)-1))}
+	}
+	if p := d.Spec.Supply; p != nil {
+		// On its rails: the step is the full-scale one the swing figures
+		// take, from reference − signal_vpp/2 to reference + signal_vpp/2.
+		a := d.Spec.SignalVppV() / 2
+		opt.Supply = &circuit.SpiceSupply{PositiveV: p.PositiveV, NegativeV: p.NegativeV, ReferenceV: p.ReferenceV,
+			OutputHeadroomV: d.Spec.OpAmp.OutputHeadroomV, StepLowV: -a, StepHighV: a}
 	}
 	return ch.WriteSPICE(w, opt)
 }

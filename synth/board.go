@@ -1,0 +1,346 @@
+package synth
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"slices"
+
+	"github.com/polewright/polewright/standards/eseries"
+	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/step"
+)
+
+// The board around the filter: the signal's extremes at every op-amp
+// against the rails (Section.Swing), and the DC error at the output
+// (Design.DC). Both read the one circuit model: the stages as built with
+// the spec's op-amp, its parasitics included.
+//
+// Every ground connection of the filter is the reference on a board with
+// a supply (the deck's node ref), so the circuit is linear around it: a
+// node's voltage is the reference plus its small-signal voltage. Offsets
+// and bias currents are left out of the extremes (Design.DC gives the
+// output's).
+
+// Pin kinds of a SwingNode.
+const (
+	PinOutput = "output"
+	PinInput  = "input"
+)
+
+// Swing is one section's signal extremes at its op-amps.
+type Swing struct {
+	// Nodes are the op-amp outputs and non-inverting inputs of the stage
+	// (an input tied to the reference is left out), in the op-amps' order.
+	Nodes []SwingNode `json:"nodes"`
+	// HeadroomV is the least distance of any of them from its limit, in V,
+	// negative when one passes it; nil without a supply.
+	HeadroomV *float64 `json:"headroom_v"`
+}
+
+// SwingNode is the extremes of one node.
+type SwingNode struct {
+	// Node is the deck's node name ("s2_out"; the filter's output is
+	// "out").
+	Node string `json:"node"`
+	// Ref is the op-amp the node belongs to, as on the BOM ("U201").
+	Ref string `json:"ref"`
+	// Pin is "output" (judged against the rails less the output headroom)
+	// or "input" (the non-inverting input, against the rails less the
+	// input headroom).
+	Pin string `json:"pin"`
+	// PeakV is [lowest, highest] voltage over SineV and StepV.
+	PeakV [2]float64 `json:"peak_v"`
+	// SineV is the extremes of a signal_vpp sine at the filter's input at
+	// the frequency where this node's response peaks (GainMax).
+	SineV [2]float64 `json:"sine_v"`
+	// StepV is the extremes of the response to a step from reference −
+	// signal_vpp/2 to reference + signal_vpp/2 (nil when the board as
+	// built is unstable).
+	StepV *[2]float64 `json:"step_v"`
+	// GainMax is the largest |V(node)/V(in)| over frequency, at PeakHz.
+	GainMax float64 `json:"gain_max"`
+	PeakHz  float64 `json:"peak_hz"`
+	// LimitV is [lowest, highest] voltage the pin may reach; nil without a
+	// supply.
+	LimitV *[2]float64 `json:"limit_v"`
+	// HeadroomV is the distance of PeakV inside LimitV (negative: beyond);
+	// nil without a supply.
+	HeadroomV *float64 `json:"headroom_v"`
+}
+
+// DCReport is the output's DC error: v(out) − reference with the source
+// at the reference, from each op-amp's offset voltage and bias currents
+// through the DC gains of the chain.
+type DCReport struct {
+	// OutputOffsetV is the signed error at the output, in V.
+	OutputOffsetV float64 `json:"output_offset_v"`
+	// OutputOffsetLSB is OutputOffsetV in LSB of the converter; nil
+	// without one.
+	OutputOffsetLSB *float64 `json:"output_offset_lsb"`
+	// BudgetLSB is the dc-error check's limit: ½ LSB (there is no spec
+	// field for it; a design that calibrates its offset out reads the
+	// check as a warning, which it is); nil without a converter.
+	BudgetLSB *float64 `json:"budget_lsb"`
+	// Contributors are the op-amps' parts of OutputOffsetV, largest first.
+	Contributors []DCContributor `json:"contributors"`
+	// Balance suggests, where bias currents give most of the error, the
+	// resistor that would cancel an op-amp's share.
+	Balance []BalanceSuggestion `json:"balance"`
+}
+
+// DCContributor is one op-amp's part of the output's DC error.
+type DCContributor struct {
+	// Ref is the op-amp, as on the BOM.
+	Ref string `json:"ref"`
+	// Share is |V| over the sum of every contributor's |V|.
+	Share float64 `json:"share"`
+	// V is its signed part of DCReport.OutputOffsetV, OffsetV from its
+	// offset voltage and BiasV from its bias currents.
+	V       float64 `json:"v"`
+	OffsetV float64 `json:"offset_v"`
+	BiasV   float64 `json:"bias_v"`
+}
+
+// BalanceSuggestion is a bias-current balancing resistor for one op-amp:
+// in series with its non-inverting input, it makes the bias current into
+// that input cancel the other's effect at the output (for matched bias
+// currents; the offset current between the two inputs, which the spec does
+// not give, remains).
+type BalanceSuggestion struct {
+	// Ref is the op-amp.
+	Ref string `json:"ref"`
+	// ResistorOhm is the suggested value from the spec's resistor series;
+	// ExactOhm the value that cancels exactly.
+	ResistorOhm float64 `json:"resistor_ohm"`
+	ExactOhm    float64 `json:"exact_ohm"`
+	// Pin is the input the resistor goes in series with: "non-inverting"
+	// or "inverting".
+	Pin string `json:"pin"`
+	// OutputOffsetV is the output's DC error with ResistorOhm in place.
+	OutputOffsetV float64 `json:"output_offset_v"`
+}
+
+// dcBudgetLSB is the dc-error check's budget: ½ LSB.
+const dcBudgetLSB = 0.5
+
+// board fills every section's Swing and the design's DC report. It needs
+// the as-built stages' transfer functions tfs and the step report's time
+// grid (d.Step).
+func (d *Design) board(ch circuit.Chain, tfs circuit.Cascade) error {
+	if err := d.dcReport(ch); err != nil {
+		return err
+	}
+	return d.swing(ch, tfs)
+}
+
+// reference returns the signal's zero, in V.
+func (d *Design) reference() float64 {
+	if p := d.Spec.Supply; p != nil {
+		return p.ReferenceV
+	}
+	return 0
+}
+
+// swing computes each section's Swing.
+func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
+	s := d.Spec
+	ref := d.reference()
+	amp := s.SignalVppV() / 2
+	freq := d.Response.FreqHz
+	var t []float64
+	if d.Step != nil {
+		t = d.Step.TimeS
+	}
+	// up[f] is the response of the stages before the current one.
+	up := make([]complex128, len(freq))
+	for i := range up {
+		up[i] = 1
+	}
+	var upSteps []step.Stage
+	dcUp := 1.0
+	for k, st := range ch.Stages {
+		stage := k + 1
+		sw := &Swing{Nodes: []SwingNode{}}
+		for _, u := range st.OpAmps {
+			pins := []struct{ local, pin string }{{u.Out, PinOutput}}
+			if u.Plus != circuit.Ground {
+				pins = append([]struct{ local, pin string }{{u.Plus, PinInput}}, pins...)
+			}
+			for _, p := range pins {
+				var r circuit.Rational
+				var err error
+				if p.local == st.Out {
+					r = tfs[k]
+				} else if r, err = st.NodeTransferFunction(ch.Model, p.local, 0); err != nil {
+					return fmt.Errorf("synth: swing at stage %d node %s: %w", stage, p.local, err)
+				}
+				n := SwingNode{Node: ch.Node(stage, p.local), Ref: ch.Ref(stage, u.Ref), Pin: p.pin}
+				// At DC first: the response grid starts above it.
+				n.GainMax = math.Abs(real(r.At(0)) * dcUp)
+				for i, f := range freq {
+					if g := cmplx.Abs(up[i] * r.AtHz(f)); g > n.GainMax {
+						n.GainMax, n.PeakHz = g, f
+					}
+				}
+				n.SineV = [2]float64{ref - amp*n.GainMax, ref + amp*n.GainMax}
+				n.PeakV = n.SineV
+				if len(t) > 1 {
+					stages := append(slices.Clone(upSteps), step.FromRational(r))
+					if y, err := step.Response(stages, t); err == nil && allFinite(y) {
+						h0 := step.DCGain(stages)
+						lo, hi := ref-amp*h0, ref-amp*h0
+						for _, v := range y {
+							v = ref - amp*h0 + 2*amp*v
+							lo, hi = math.Min(lo, v), math.Max(hi, v)
+						}
+						n.StepV = &[2]float64{lo, hi}
+						n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
+					}
+				}
+				if p := s.Supply; p != nil {
+					hd := s.OpAmp.OutputHeadroomV
+					if n.Pin == PinInput {
+						hd = s.OpAmp.InputHeadroomV
+					}
+					lim := [2]float64{p.NegativeV + hd, p.PositiveV - hd}
+					room := math.Min(lim[1]-n.PeakV[1], n.PeakV[0]-lim[0])
+					n.LimitV, n.HeadroomV = &lim, &room
+					if sw.HeadroomV == nil || room < *sw.HeadroomV {
+						sw.HeadroomV = &room
+					}
+				}
+				sw.Nodes = append(sw.Nodes, n)
+			}
+		}
+		d.Sections[k].Swing = sw
+		for i, f := range freq {
+			up[i] *= tfs[k].AtHz(f)
+		}
+		upSteps = append(upSteps, step.FromRational(tfs[k]))
+		dcUp *= real(tfs[k].At(0))
+	}
+	return nil
+}
+
+func allFinite(y []float64) bool {
+	for _, v := range y {
+		if !isFinite(v) {
+			return false
+		}
+	}
+	return true
+}
+
+// dcReport computes d.DC: each op-amp's offset (a source in series with
+// its non-inverting input) and bias currents (from each input that is not
+// ground, into the op-amp) reach its stage's output through the stage's
+// DC source transfers, then the output through the DC gains of the later
+// stages.
+func (d *Design) dcReport(ch circuit.Chain) error {
+	m := ch.Model
+	rep := &DCReport{Contributors: []DCContributor{}, Balance: []BalanceSuggestion{}}
+	type amp struct {
+		ref     string
+		offsetV float64 // at the output
+		biasV   float64
+		plusV   float64 // output per volt at the + input
+	}
+	var amps []amp
+	// The stages' DC gains, by a direct solve at s = 0.
+	dcGains := make([]float64, len(ch.Stages))
+	for k, st := range ch.Stages {
+		g, err := st.SolveAt(m, 0)
+		if err != nil {
+			return fmt.Errorf("synth: DC gain of stage %d: %w", k+1, err)
+		}
+		dcGains[k] = real(g)
+	}
+	for k, st := range ch.Stages {
+		later := 1.0
+		for _, later1 := range dcGains[k+1:] {
+			later *= later1
+		}
+		var srcs []circuit.Source
+		for q, u := range st.OpAmps {
+			srcs = append(srcs, circuit.Source{OpAmp: q + 1})
+			for _, node := range []string{u.Plus, u.Minus} {
+				if node != circuit.Ground {
+					srcs = append(srcs, circuit.Source{To: circuit.Ground, From: node})
+				}
+			}
+		}
+		tr, err := st.DCSourceTransfers(m, srcs)
+		if err != nil {
+			return fmt.Errorf("synth: DC error, stage %d: %w", k+1, err)
+		}
+		dc := func(i int) float64 { return tr[i] }
+		i := 0
+		for _, u := range st.OpAmps {
+			a := amp{ref: ch.Ref(k+1, u.Ref)}
+			a.plusV = dc(i) * later
+			a.offsetV = m.OffsetV * a.plusV
+			i++
+			for _, node := range []string{u.Plus, u.Minus} {
+				if node != circuit.Ground {
+					a.biasV += m.BiasA * dc(i) * later
+					i++
+				}
+			}
+			amps = append(amps, a)
+		}
+	}
+	var sumAbs float64
+	for _, a := range amps {
+		v := a.offsetV + a.biasV
+		rep.OutputOffsetV += v
+		sumAbs += math.Abs(v)
+		rep.Contributors = append(rep.Contributors, DCContributor{Ref: a.ref, V: finiteOr(v, 0), OffsetV: finiteOr(a.offsetV, 0), BiasV: finiteOr(a.biasV, 0)})
+	}
+	if !isFinite(rep.OutputOffsetV) {
+		return fmt.Errorf("synth: DC error: a stage has no DC solution (a node without a DC path)")
+	}
+	for i := range rep.Contributors {
+		if sumAbs > 0 {
+			rep.Contributors[i].Share = math.Abs(rep.Contributors[i].V) / sumAbs
+		}
+	}
+	slices.SortStableFunc(rep.Contributors, func(x, y DCContributor) int { return cmp.Compare(y.Share, x.Share) })
+	// Balancing: where an op-amp's bias currents give at least half of
+	// the error, the resistor R in series with its + input that cancels
+	// them: the bias current into + through R lowers V(+) by Ib·R.
+	series, _ := eseries.Lookup(d.Spec.ResistorSeries)
+	for _, a := range amps {
+		if m.BiasA == 0 || sumAbs == 0 || math.Abs(a.biasV) < 0.5*sumAbs || a.plusV == 0 {
+			continue
+		}
+		// In series with +, R lowers V(+) by Ib·R; in series with −, it
+		// lowers V(−) by Ib·R, which the output sees as +Ib·R at +.
+		exact, pin := a.biasV/(m.BiasA*a.plusV), "non-inverting"
+		if exact < 0 {
+			exact, pin = -exact, "inverting"
+		}
+		if !(exact > 0) || exact > d.Spec.ResistorRangeOhm[1] {
+			continue
+		}
+		r := exact
+		if series.Len() > 0 {
+			r = series.Nearest(exact)
+		}
+		sign := 1.0
+		if pin == "inverting" {
+			sign = -1
+		}
+		rep.Balance = append(rep.Balance, BalanceSuggestion{Ref: a.ref, ResistorOhm: r, ExactOhm: exact, Pin: pin,
+			OutputOffsetV: rep.OutputOffsetV - sign*m.BiasA*r*a.plusV})
+	}
+	if c := d.Spec.Converter; c != nil {
+		lsb := c.FullScaleVpp / math.Exp2(float64(c.Bits))
+		rep.OutputOffsetLSB = finitePtr(rep.OutputOffsetV / lsb)
+		b := float64(dcBudgetLSB)
+		rep.BudgetLSB = &b
+	}
+	d.DC = rep
+	return nil
+}

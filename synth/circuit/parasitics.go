@@ -1,0 +1,103 @@
+package circuit
+
+import (
+	"math"
+	"slices"
+)
+
+// Parasitics of the op-amp model enter every analysis of this package as
+// parts of the stage, so that the response, the slopes, the source
+// transfers (noise), the DC solution and (through [Stage.WithParasitics])
+// the Monte Carlo all see one circuit:
+//
+//   - Model.InputCapacitanceFarad: a capacitor from each op-amp input to
+//     ground, except an input that is ground or the stage input (driven by
+//     an ideal source, where it changes nothing);
+//   - Model.OutputResistanceOhm: the amplifier drives an internal node
+//     (named by [ParasiticNode]) and a resistor of that value joins it to
+//     the op-amp's output node, so the op-amp's equation holds at the
+//     internal node and the stage's loads hang on the resistor.
+//
+// Parasitic parts follow the stage's own parts (their indices are
+// len(st.Parts) and up), carry Parasitic = true and zero tolerance, and are
+// neither on the bill of materials nor in the deck's netlist (the deck
+// writes them inside the op-amp subcircuit), nor noise sources: the output
+// resistance stands for the amplifier's open-loop output stage, whose
+// noise the input-referred densities already hold.
+
+// ParasiticNode returns the name of op-amp ref's internal output node in
+// a stage with parasitics ("ro_U1").
+func ParasiticNode(ref string) string { return "ro_" + ref }
+
+// HasParasitics reports whether the model adds parts to a stage.
+func (m Model) HasParasitics() bool {
+	return m.InputCapacitanceFarad > 0 || m.OutputResistanceOhm > 0
+}
+
+// WithParasitics returns st with the model's parasitic parts appended (see
+// the rules above); st itself when the model has none. The result is for
+// analysis, not for [Stage.Validate]: its Out is no longer an op-amp
+// output when the output resistance is set.
+func (st Stage) WithParasitics(m Model) Stage {
+	if !m.HasParasitics() {
+		return st
+	}
+	aug := st
+	aug.Parts = slices.Clip(slices.Clone(st.Parts))
+	aug.OpAmps = slices.Clone(st.OpAmps)
+	n := 0
+	if c := m.InputCapacitanceFarad; c > 0 {
+		for _, u := range st.OpAmps {
+			for _, node := range []string{u.Plus, u.Minus} {
+				if node == Ground || node == In {
+					continue
+				}
+				n++
+				aug.Parts = append(aug.Parts, Part{Ref: "CX" + u.Ref + node, Kind: Capacitor, A: node, B: Ground,
+					Value: c, Exact: c, Parasitic: true})
+			}
+		}
+	}
+	if r := m.OutputResistanceOhm; r > 0 {
+		for i, u := range st.OpAmps {
+			inner := ParasiticNode(u.Ref)
+			aug.OpAmps[i].Out = inner
+			aug.Parts = append(aug.Parts, Part{Ref: "RX" + u.Ref, Kind: Resistor, A: inner, B: u.Out,
+				Value: r, Exact: r, Parasitic: true})
+		}
+	}
+	return aug
+}
+
+// withParasitics is WithParasitics for a checked stage whose node table is
+// t: it also returns the table with the internal nodes added (t itself
+// when nothing is added).
+func (st Stage) withParasitics(m Model, t *nodeTable) (Stage, *nodeTable) {
+	if !m.HasParasitics() {
+		return st, t
+	}
+	aug := st.WithParasitics(m)
+	t2 := &nodeTable{names: slices.Clone(t.names), terminals: slices.Clone(t.terminals), parent: slices.Clone(t.parent)}
+	for _, u := range aug.OpAmps {
+		t2.add(u.Out)
+	}
+	return aug, t2
+}
+
+// validParasitics checks the model's parasitic and DC fields.
+func (m Model) validParasitics() error {
+	for _, f := range []struct {
+		name string
+		v    float64
+	}{
+		{"InputCapacitanceFarad", m.InputCapacitanceFarad},
+		{"OutputResistanceOhm", m.OutputResistanceOhm},
+		{"BiasA", math.Abs(m.BiasA)},
+		{"OffsetV", math.Abs(m.OffsetV)},
+	} {
+		if !(f.v >= 0) || math.IsInf(f.v, 1) {
+			return invalidf("model: %s %v is not finite (and, for a part, >= 0)", f.name, f.v)
+		}
+	}
+	return nil
+}
