@@ -267,12 +267,16 @@ func (d *Design) builtMaskCheck() Check {
 func (d *Design) yieldCheck() Check {
 	mc := d.MonteCarlo
 	pass := int(math.Round(mc.Yield * float64(mc.Trials)))
-	ok := mc.Yield >= YieldTarget
+	target := YieldTarget
+	if t := d.Spec.TargetYield; t != nil {
+		target = *t // the spec's own target (see MarginSearch)
+	}
+	ok := mc.Yield >= target
 	text := fmt.Sprintf("Yield %.1f %%: %d of %d boards drawn within the tolerances pass the mask as built (seed %d).", 100*mc.Yield, pass, mc.Trials, mc.Seed)
 	if !ok {
-		text = fmt.Sprintf("Yield %.1f %%: %d of %d boards drawn within the tolerances fail the mask as built (seed %d); %.0f %% is the target. Tighter parts (see each part's fail_at_pct) or a design_margin raise it.", 100*mc.Yield, mc.Trials-pass, mc.Trials, mc.Seed, 100*YieldTarget)
+		text = fmt.Sprintf("Yield %.1f %%: %d of %d boards drawn within the tolerances fail the mask as built (seed %d); %.0f %% is the target. Tighter parts (see each part's fail_at_pct) or a design_margin raise it.", 100*mc.Yield, mc.Trials-pass, mc.Trials, mc.Seed, 100*target)
 	}
-	return newCheck(CheckYield, ok, SeverityWarning, mc.Yield, YieldTarget, "", 0, text)
+	return newCheck(CheckYield, ok, SeverityWarning, mc.Yield, target, "", 0, text)
 }
 
 // aliasCheck judges the alias band: what folds onto the passband.

@@ -103,6 +103,12 @@ func EstimateCostOf(s Spec) Cost {
 	if s.MonteCarlo.Trials > 0 {
 		c.MonteCarloMs = costTrialSetupMs*cube + float64(s.MonteCarlo.Trials)*c.PerTrialMs
 	}
+	if s.TargetYield != nil {
+		// At worst every margin of the ladder is designed, each with its
+		// Monte Carlo.
+		n := float64(len(MarginLadder(s)))
+		c.DesignMs, c.MonteCarloMs, c.PerTrialMs = n*c.DesignMs, n*c.MonteCarloMs, n*c.PerTrialMs
+	}
 	return c
 }
 

@@ -86,6 +86,9 @@ type Design struct {
 	// Checks is the one list of verdicts on the design, the same for the
 	// page, the API and the CLI.
 	Checks []Check `json:"checks"`
+	// MarginSearch says which design margin a spec with target_yield
+	// chose and why; nil without target_yield.
+	MarginSearch *MarginSearch `json:"margin_search,omitempty"`
 	// DC is the output's DC error from the op-amps' offsets and bias
 	// currents (nil before verification).
 	DC *DCReport `json:"dc,omitempty"`
@@ -272,7 +275,9 @@ const (
 )
 
 // Synthesize designs the filter that s asks for, everything included: it
-// is [SynthesizeTo] at [Verified]. It returns a [*FieldError] for a spec
+// is [SynthesizeTo] at [Verified]. A spec with target_yield is designed
+// at each margin of [MarginLadder] until one's yield reaches it (see
+// [MarginSearch]). It returns a [*FieldError] for a spec
 // that cannot be built (for example a mask that needs more than
 // [MaxOrder], or a section no topology fits within the part windows), and
 // ctx.Err() if ctx is done first.
@@ -290,6 +295,12 @@ func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
 // SynthesizeTo designs the filter that s asks for up to the given level.
 // Errors are as for [Synthesize].
 func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
+	if s.TargetYield != nil && level == Verified {
+		if err := s.Validate(); err != nil {
+			return nil, err
+		}
+		return synthesizeForYield(ctx, s)
+	}
 	d, ordered, err := synthesize(ctx, s)
 	if err != nil {
 		return nil, err

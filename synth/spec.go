@@ -243,6 +243,10 @@ type Spec struct {
 	GainToleranceDB *float64 `json:"gain_tolerance_db,omitempty"`
 	// DesignMargin is the margin the design is made with (zero: none).
 	DesignMargin DesignMargin `json:"design_margin"`
+	// TargetYield, when set (0 < y ≤ 1), asks [Synthesize] for the
+	// smallest design margin, from DesignMargin up, whose Monte Carlo
+	// yield reaches it (see [MarginSearch]); nil: the margin is as given.
+	TargetYield *float64 `json:"target_yield,omitempty"`
 	// Supply is nil when the spec names none: no rail checks, signals
 	// around 0 V.
 	Supply *Supply `json:"supply,omitempty"`
@@ -378,6 +382,7 @@ type rawSpec struct {
 	GainToleranceDB  *float64         `json:"gain_tolerance_db"`
 	DesignMargin     *json.RawMessage `json:"design_margin"`
 	DelayEqualizer   *json.RawMessage `json:"delay_equalizer"`
+	TargetYield      *float64         `json:"target_yield"`
 }
 
 type rawDelayEqualizer struct {
@@ -831,6 +836,10 @@ func (raw rawSpec) build() (Spec, error) {
 		}
 		s.DelayEqualizer = &DelayEqualizer{MaxSpreadPct: *de.MaxSpreadPct}
 	}
+	if raw.TargetYield != nil {
+		v := *raw.TargetYield
+		s.TargetYield = &v
+	}
 	if raw.Values != nil {
 		if s.Values, err = oneOf("values", *raw.Values, ValueModes); err != nil {
 			return Spec{}, err
@@ -1204,6 +1213,9 @@ func (s Spec) validateVerification() error {
 		if !(*g > 0) || *g > 20 {
 			return fieldErr("gain_tolerance_db", "must be above 0 dB and at most 20 dB (got %g)", *g)
 		}
+	}
+	if err := s.validateTargetYield(); err != nil {
+		return err
 	}
 	m := s.DesignMargin
 	if err := finite("design_margin.passband_db", m.PassbandDB); err != nil {

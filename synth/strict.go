@@ -67,6 +67,7 @@ var specSchema = []schemaField{
 	}},
 	{name: "gain_tolerance_db", kind: kindNum},
 	{name: "design_margin", kind: kindObject, fields: []schemaField{{name: "passband_db", kind: kindNum}, {name: "stopband_db", kind: kindNum}}},
+	{name: "target_yield", kind: kindNum},
 	{name: "supply", kind: kindObject, fields: []schemaField{{name: "positive_v", kind: kindNum}, {name: "negative_v", kind: kindNum}, {name: "reference_v", kind: kindNum}}},
 	{name: "signal_vpp", kind: kindNum},
 	{name: "delay_equalizer", kind: kindObject, fields: []schemaField{{name: "max_spread_pct", kind: kindNum}}},

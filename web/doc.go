@@ -9,6 +9,9 @@
 //	GET  /download/KIND?QUERY    one export of that design as a file named after it
 //	POST /api/v1/design          spec JSON in, design JSON out
 //	POST /api/v1/export?as=KIND  spec JSON in, the export out
+//	GET  /explore?QUERY          every candidate filter for the spec, compared (package synth/explore)
+//	GET  /explore/progress?QUERY the same exploration as server-sent events (candidates done)
+//	POST /api/v1/explore         spec JSON in, the exploration JSON out
 //	GET  /static/...             the embedded style sheet and script
 //	GET  /healthz                "ok", for probes
 //	GET  /favicon.ico            the workbench's icon
@@ -159,4 +162,18 @@
 // load of cheap requests its lane's share of the CPU needs longer than
 // DesignTimeout for a request at the bound, which would otherwise end in
 // "took too long" after spending the CPU.
+//
+// # Exploring alternatives
+//
+// The exploration routes go through the same hardening, workers and
+// lanes; their admission (admitExplore) makes the plan first (the spec
+// parsed, the candidates enumerated: [explore.NewPlan]) and bounds the sum
+// of [synth.EstimateCost] over the candidates by [Deps].MaxCostMs, with
+// the error beside montecarlo.trials (the most trials per candidate that
+// fit) or topology (narrow the search). Results are cached by the plan's
+// key like designs ([ExploreCacheMaxEntries]), one run shared by
+// concurrent requests, cancelled when the last one leaves. The page's
+// table is plain HTML (each row links to its candidate's permalink);
+// with the script a heading sorts by its column. The plots mark the
+// Pareto set and the recommendation that synth/explore computed.
 package web

@@ -96,6 +96,8 @@ var specFields = []field{
 		Placeholder: "0", Hint: "design to Amin plus this, judge against Amin", Group: groupBands},
 	{Name: "delay_equalizer_max_spread_pct", Path: []string{"delay_equalizer", "max_spread_pct"}, Label: "Delay equaliser, spread (%)", Noun: "the group-delay spread", Kind: kindNumber,
 		Placeholder: "none", Hint: fmt.Sprintf("append all-pass stages until the passband's group delay varies by at most this %% of its mean (lowpass, bandpass; %g to %g)", synth.MinDelaySpreadPct, float64(synth.MaxDelaySpreadPct)), Group: groupBands},
+	{Name: "target_yield", Path: []string{"target_yield"}, Label: "Target yield", Noun: "the target yield", Kind: kindNumber,
+		Placeholder: "none", Hint: "0 to 1: the smallest design margin whose Monte Carlo yield reaches it is chosen (needs trials)", Group: groupBands},
 	{Name: "topology", Path: []string{"topology"}, Label: "Stage circuit", Noun: "the stage circuit", Kind: kindChoice,
 		Choices: synth.Topologies, Default: "auto", Hint: "auto picks per stage and says why", Group: groupCircuit},
 	{Name: "resistor_series", Path: []string{"resistor_series"}, Label: "Resistor series", Noun: "the resistor series", Kind: kindChoice,

@@ -47,6 +47,9 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		res.Notes = append(res.Notes, "The circuit of this design could not be built, so schematics, parts, the SPICE deck and the bill of materials are left out.")
 	}
 
+	if d.MarginSearch != nil {
+		res.Notes = append(res.Notes, d.MarginSearch.Text)
+	}
 	headline(&res, d)
 	res.Summary = summary(d, ch, hasChain)
 

@@ -103,6 +103,8 @@ type handler struct {
 	deps   Deps
 	routes chi.Routes   // the whole site, for the Allow header of a 405
 	cache  *designCache // one computation per design, shared by every route
+	// explores keeps the explorations (their figures only).
+	explores *exploreCache
 }
 
 // New returns the workbench: the pages, the downloads, the JSON API and
@@ -122,7 +124,8 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 		deps.MaxCostMs = DefaultMaxCostMs
 	}
 	h := &handler{log: log, deps: deps,
-		cache: newDesignCache(deps.Synthesize, CacheMaxEntries, CacheMaxBytes, ProgressTimeout)}
+		cache:    newDesignCache(deps.Synthesize, CacheMaxEntries, CacheMaxBytes, ProgressTimeout),
+		explores: newExploreCache(ExploreCacheMaxEntries, ProgressTimeout)}
 
 	cop := http.NewCrossOriginProtection()
 	cop.SetDenyHandler(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
@@ -167,9 +170,15 @@ func New(log *slog.Logger, deps Deps) http.Handler {
 	r.With(heavy...).Get("/design", h.design)
 	r.With(stream...).Get("/design/progress", h.designProgress)
 	r.With(heavy...).Get("/download/{kind}", h.download)
+	// An exploration is admitted by the cost of all its candidates.
+	exploreHeavy := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admitExplore, work, withDeadline(DesignTimeout))
+	exploreStream := chi.Chain(h.sameSiteOnly, h.readBodyFirst, h.admitExplore, work)
+	r.With(exploreHeavy...).Get("/explore", h.explorePage)
+	r.With(exploreStream...).Get("/explore/progress", h.exploreProgress)
 	r.Route("/api", func(r chi.Router) {
 		r.With(heavy...).Post("/v1/design", h.apiDesign)
 		r.With(heavy...).Post("/v1/export", h.apiExport)
+		r.With(exploreHeavy...).Post("/v1/explore", h.apiExplore)
 	})
 	return r
 }

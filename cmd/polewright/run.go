@@ -46,8 +46,10 @@ func run(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.
 		return design(ctx, args, stdin, stdout, stderr)
 	case "export":
 		return exportCmd(ctx, args, stdin, stdout, stderr)
+	case "explore":
+		return exploreCmd(ctx, args, stdin, stdout, stderr)
 	}
-	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export, help)\n\n%s", clip(cmd), usageText())
+	fmt.Fprintf(stderr, "polewright: unknown command %q (commands: serve, design, export, explore, help)\n\n%s", clip(cmd), usageText())
 	return exitUsage
 }
 
@@ -61,6 +63,7 @@ func usageText() string {
   polewright design -spec FILE [-trials N] [-seed S]   design as JSON on stdout
   polewright export -spec FILE -as KIND [-trials N] [-seed S]
                    KIND: ` + strings.Join(export.Kinds, ", ") + `
+  polewright explore -spec FILE              every candidate filter for the spec, compared, as JSON
 
 -spec - reads standard input.
 `

@@ -285,6 +285,47 @@ type Link struct {
 	Kind string
 }
 
+// Explore is the exploration page: every candidate filter for one spec
+// as a table (sortable by each figure in the browser; a plain table
+// without script), the Pareto front on plots, the recommendation.
+type Explore struct {
+	Title string
+	// Permalink is this page's address; DesignLink the design of the
+	// spec as given.
+	Permalink, DesignLink string
+	// Reason says why the recommended candidate is recommended.
+	Reason string
+	// Objectives names the figures of the Pareto comparison; Note says
+	// how each candidate was verified.
+	Objectives, Note string
+	Columns          []ExploreColumn
+	Rows             []ExploreRow
+	// Skipped are the combinations that could not be designed, each with
+	// why.
+	Skipped []string
+	Plots   []Plot
+}
+
+// ExploreColumn is one figure of the table: Key is its JSON field.
+type ExploreColumn struct {
+	Key, Label string
+}
+
+// ExploreRow is one candidate: Index its position in the JSON, Href its
+// design page.
+type ExploreRow struct {
+	Index               int
+	Href                string
+	Cells               []ExploreCell
+	Pareto, Recommended bool
+}
+
+// ExploreCell is one figure as shown, and the key it sorts by (a number,
+// or the text itself).
+type ExploreCell struct {
+	Text, Sort string
+}
+
 // BoardView is the "On its rails" panel: the supply, the swing table and
 // the DC error, as the design states them.
 type BoardView struct {

@@ -42,23 +42,28 @@
     }
     var el = form.elements.namedItem("montecarlo_trials");
     var trials = el ? Number(String(el.value).trim()) : 0;
-    if (!(trials > slow)) {
+    // An exploration designs many candidates: it is always followed.
+    var exploring = ev.submitter && ev.submitter.id === "explore";
+    if (!exploring && !(trials > slow)) {
       return;
     }
     ev.preventDefault();
     close();
+    var action = exploring ? ev.submitter.formAction : form.action;
+    var what = exploring ? "Exploring" : "Monte Carlo";
+    var unit = exploring ? " candidates" : " trials";
     var query = new URLSearchParams(new FormData(form)).toString();
     // The run is followed as it goes; closing the stream (Cancel, or
     // leaving the page) cancels it on the server, unless another request
     // waits for the same design. Its result is kept, so the page loaded on
     // "done" is not designed again.
-    source = new EventSource(endpoint + "?" + query);
+    source = new EventSource((exploring ? "/explore/progress" : endpoint) + "?" + query);
     bar.removeAttribute("value");
     bar.removeAttribute("max");
     bar.hidden = false;
     stop.hidden = false;
     status.hidden = false;
-    text.textContent = "Monte Carlo: starting " + trials + " trials";
+    text.textContent = exploring ? "Exploring: starting" : "Monte Carlo: starting " + trials + " trials";
     source.addEventListener("progress", function (e) {
       var p = data(e);
       if (!p || !(p.total > 0)) {
@@ -66,14 +71,14 @@
       }
       bar.max = p.total;
       bar.value = p.done;
-      text.textContent = "Monte Carlo: " + p.done + " of " + p.total + " trials";
+      text.textContent = what + ": " + p.done + " of " + p.total + unit;
     });
     source.addEventListener("done", function (e) {
       var d = data(e);
       close();
       stop.hidden = true;
-      text.textContent = "Monte Carlo: done; loading the result";
-      window.location.assign(d && d.url ? d.url : form.action + "?" + query);
+      text.textContent = what + ": done; loading the result";
+      window.location.assign(d && d.url ? d.url : action + "?" + query);
     });
     source.addEventListener("error", function (e) {
       var d = e.data ? data(e) : null;
@@ -81,7 +86,7 @@
       if (!d) {
         // The stream could not be opened or broke (the server is busy,
         // say): design the plain way, which explains any failure.
-        window.location.assign(form.action + "?" + query);
+        window.location.assign(action + "?" + query);
         return;
       }
       bar.hidden = true;
@@ -151,5 +156,51 @@
       note.textContent = "Filled: stopband edge " + String(fs - fb) + " Hz, attenuation " +
         String(Math.round((6.02 * bits + 1.76) * 100) / 100) + " dB. Edit them if you like, then design.";
     }
+  });
+})();
+
+// The exploration's table sorts by a column when its heading is clicked
+// (again: the other way). Each cell carries its sort key in data-sort: a
+// number, or words. Without this script it is a plain table.
+(function () {
+  "use strict";
+  var tables = document.querySelectorAll("table.sortable");
+  Array.prototype.forEach.call(tables, function (table) {
+    var body = table.tBodies[0];
+    var heads = table.tHead ? table.tHead.rows[0].cells : [];
+    Array.prototype.forEach.call(heads, function (th, col) {
+      if (!th.hasAttribute("data-key")) {
+        return;
+      }
+      th.tabIndex = 0;
+      th.setAttribute("aria-sort", "none");
+      function sort() {
+        var up = th.getAttribute("aria-sort") !== "ascending";
+        Array.prototype.forEach.call(heads, function (h) {
+          if (h.hasAttribute("aria-sort")) {
+            h.setAttribute("aria-sort", "none");
+          }
+        });
+        th.setAttribute("aria-sort", up ? "ascending" : "descending");
+        var rows = Array.prototype.slice.call(body.rows);
+        rows.sort(function (a, b) {
+          var x = a.cells[col].getAttribute("data-sort") || "";
+          var y = b.cells[col].getAttribute("data-sort") || "";
+          var nx = Number(x), ny = Number(y);
+          var c = x !== "" && y !== "" && !isNaN(nx) && !isNaN(ny) ? nx - ny : x.localeCompare(y);
+          return up ? c : -c;
+        });
+        rows.forEach(function (r) {
+          body.appendChild(r);
+        });
+      }
+      th.addEventListener("click", sort);
+      th.addEventListener("keydown", function (e) {
+        if (e.key === "Enter" || e.key === " ") {
+          e.preventDefault();
+          sort();
+        }
+      });
+    });
   });
 })();
