@@ -534,7 +534,7 @@ func jsonError(err error) error {
 	if rest, ok := strings.CutPrefix(msg, "json: unknown field "); ok {
 		name, _ := strconv.Unquote(rest)
 		name = fieldName(name) // cut, and an empty key still needs a visible name
-		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, phase_error_deg, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin, supply, signal_vpp, delay_equalizer)")
+		return fieldErr(name, "unknown field (known fields: response, approximation, passband_hz, stopband_hz, passband_ripple_db, stopband_atten_db, phase_error_deg, order, gain_db, topology, resistor_series, capacitor_series, opamp, values, resistor_range_ohm, capacitor_range_farad, tolerance, montecarlo, converter, gain_tolerance_db, design_margin, supply, signal_vpp, delay_equalizer, target_yield)")
 	}
 	return fieldErr("json", "%s", strings.TrimPrefix(msg, "json: "))
 }
