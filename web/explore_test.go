@@ -45,9 +45,9 @@ func TestExploreAPI(t *testing.T) {
 	require.Equal(t, "application/json", rec.Header().Get("Content-Type"))
 	var res exploreJSON
 	require.NoError(t, json.Unmarshal(rec.Body.Bytes(), &res))
-	// 5 approximations × orders 2, 3, 4: the Chebyshev II and elliptic
+	// 8 approximations × orders 2, 3, 4: the Chebyshev II and elliptic
 	// ones have notch sections, which Sallen-Key cannot build.
-	require.Len(t, res.Candidates, 9)
+	require.Len(t, res.Candidates, 18)
 	require.Len(t, res.Skipped, 6)
 	require.Contains(t, res.Pareto, res.Recommended)
 	require.NotEmpty(t, res.Reason)

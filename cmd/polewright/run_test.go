@@ -117,7 +117,7 @@ func TestHelp(t *testing.T) {
 		{"-h", []string{"-h"}, exitOK, true, ""},
 		{"--help", []string{"--help"}, exitOK, true, ""},
 		{"-help", []string{"-help"}, exitOK, true, ""},
-		{"unknown command", []string{"frobnicate"}, exitUsage, false, `polewright: unknown command "frobnicate" (commands: serve, design, export, help)`},
+		{"unknown command", []string{"frobnicate"}, exitUsage, false, `polewright: unknown command "frobnicate" (commands: serve, design, export, explore, help)`},
 		{"unknown flag", []string{"-frobnicate"}, exitUsage, false, "polewright serve: flag provided but not defined: -frobnicate"},
 		{"serve argument", []string{"serve", "now"}, exitUsage, false, `polewright serve: unexpected argument "now"`},
 	}

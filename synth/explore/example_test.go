@@ -26,9 +26,9 @@ func ExampleExplore() {
 	c := res.Candidates[res.Recommended]
 	fmt.Printf("recommended: %s order %d, %d op-amp(s), %d passive parts\n", c.Approximation, c.Order, c.OpAmps, c.PassiveParts)
 	// Output:
-	// 9 candidates, 6 not built
+	// 18 candidates, 6 not built
 	// built_meets_mask max
 	// yield max
 	// opamps min
-	// recommended: butterworth order 3, 2 op-amp(s), 6 passive parts
+	// recommended: gaussian order 2, 1 op-amp(s), 4 passive parts
 }
