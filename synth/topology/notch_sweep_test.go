@@ -50,8 +50,8 @@ func notchSweep() []notchSweepCase {
 	return out
 }
 
-// TestNotchSweep: every notch-kind section of the sweep realises with auto
-// (the state-variable stage), with exact resistors the stage's nodal
+// TestNotchSweep: every notch-kind section of the sweep realises as a
+// state-variable stage, with exact resistors the stage's nodal
 // analysis is the section's transfer function to 1e-9, and with E96/E12
 // its f0 and Q are within 2 % and its zeros within 1 %. No combination of
 // the sweep is outside the default windows (1 kΩ..220 kΩ, 100 pF..1 µF):
@@ -75,7 +75,7 @@ func TestNotchSweep(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			r, err := topology.Realize(tc.sec, topology.Auto, series)
+			r, err := topology.Realize(tc.sec, topology.StateVariable, series)
 			require.NoError(t, err)
 			require.Equal(t, topology.StateVariable, r.Stage.Topology)
 			require.NoError(t, r.Stage.Validate())
@@ -104,7 +104,7 @@ func TestNotchSweep(t *testing.T) {
 			require.InDelta(t, 100*(math.Sqrt(dn[0]*dn[2])/dn[1]/q-1), r.QErrPct, 1e-6)
 			require.InDelta(t, 100*(math.Sqrt(n[0]/n[2])*rf.ScaleRadPerSec/zw-1), r.ZeroErrPct, 1e-6)
 
-			re, err := topology.Realize(tc.sec, topology.Auto, exact)
+			re, err := topology.Realize(tc.sec, topology.StateVariable, exact)
 			require.NoError(t, err)
 			require.NoError(t, re.Stage.Validate())
 			require.InDelta(t, 0, re.F0ErrPct, 1e-9)
@@ -182,7 +182,7 @@ func notchShapeCases() []struct {
 }
 
 // TestNotchShapes: the sections that need another shape or a T-network
-// realise by name and by auto, exactly with exact resistors and within the
+// realise by name, exactly with exact resistors and within the
 // sweep's bounds with series values, and say which shape they took.
 func TestNotchShapes(t *testing.T) {
 	t.Parallel()
@@ -191,7 +191,7 @@ func TestNotchShapes(t *testing.T) {
 	for _, tc := range notchShapeCases() {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			for _, top := range []string{topology.StateVariable, topology.Auto} {
+			for _, top := range []string{topology.StateVariable} {
 				r, err := topology.Realize(tc.sec, top, topology.DefaultOptions())
 				require.NoError(t, err)
 				require.Contains(t, r.Reason, tc.reason)

@@ -1,0 +1,427 @@
+package topology
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/section"
+)
+
+// Limits of the one-amplifier notch (see [oneAmpNotch]).
+const (
+	// OneAmpNotchMaxQ is the pole Q above which [Auto] leaves notch
+	// sections to the state-variable circuit. The one-amplifier notch's
+	// core is the Delyiannis-Friend bandpass, whose resistor spread R3/R1
+	// is at least 4Q² (Q = 5: 100, already half the default window's
+	// ratio of 220) and whose op-amp must supply a loop gain of about 2Q²
+	// at f0; the state-variable circuit sets Q by one resistor ratio and
+	// keeps its spread near one (common practice: single-amplifier
+	// biquads are kept to moderate Q).
+	OneAmpNotchMaxQ = 5
+	// MaxNotchFloor bounds [notchFloor]: the stage's gain at its zero
+	// frequency, relative to its reference gain, per unit relative error
+	// of the input split R1:R2 that cancels the numerator's s term. With
+	// 1 % resistors a floor figure of 1 leaves the notch at about −40 dB
+	// of the reference gain in the worst case; the state-variable notch
+	// has no such floor (its sum has no bandpass term), so [Auto] turns to
+	// it beyond this bound (our choice).
+	MaxNotchFloor = 1
+)
+
+// oneAmpNotch realises a lowpass-notch, highpass-notch or notch section on
+// one op-amp: the Delyiannis-Friend bandpass with feedforward from the
+// input to both op-amp inputs, the arrangement of J. J. Friend, C. A.
+// Harris and D. Hilberman, "STAR: an active biquadratic filter section",
+// IEEE Trans. Circuits and Systems CAS-22 (1975), 115–121 (used from
+// memory). Boctor's single-amplifier lowpass-notch (S. A. Boctor, IEEE
+// Trans. CAS-22, 1975) reaches the same transfer functions with a twin
+// path; this form was chosen because every constraint of it is set by a
+// resistor ratio, so exact resistors with series capacitors reproduce the
+// section exactly. The equations below were derived here by nodal
+// analysis and are checked in the tests against the circuit model's
+// nodal analysis and ngspice.
+//
+// Nodes: in, a, m (inverting input), p (non-inverting input), out.
+// Parts: R1 in–a, R2 a–ground (optional), R3 m–out, C1 a–out, C2 a–m
+// (the bandpass core); R4 in–p and R5 p–ground, the divider
+// K = R5/(R4 + R5) (absent, K = 1, when p is the input itself); R6 in–m
+// or R6 m–ground, and optionally C3 m–ground (the feedforward into m).
+// With G1 = 1/R1 + 1/R2, α = (1/R1)/G1, G3 = 1/R3, and the feedforward
+// e = G6·(1 − K) (R6 in–m) or −G6·K (R6 m–ground), f = −C3·K:
+//
+//	H = (n2·s² + n1·s + n0) / (C1·C2·s² + G3·(C1 + C2)·s + G1·G3)
+//	n2 = K·C1·C2 − f·(C1 + C2)
+//	n1 = K·C2·G1 + K·G3·(C1 + C2) − α·C2·G1 − e·(C1 + C2) − f·G1
+//	n0 = G1·(K·G3 − e)
+//
+// The poles are the bandpass core's: ω0² = G1·G3/(C1·C2) and
+// Q = √(G1·G3·C1·C2)/(G3·(C1 + C2)), so G1 = ω0·Q·(C1 + C2) and
+// G3 = ω0·C1·C2/(Q·(C1 + C2)), R3/R1 = Q²·(C1 + C2)²/(C1·C2) ≥ 4Q². The
+// zeros are on the jω axis when n1 = 0, which the input split sets:
+//
+//	α = K·(1 + C3/C2) + h0·r/Q²,  r = C1/(C1 + C2),  h0 = K − e/G3
+//
+// h0 = n0/(G1·G3) is the DC gain and h∞ = n2/(C1·C2) = K·m,
+// m = 1 + C3·(1/C1 + 1/C2), the high-frequency gain; ωz²/ω0² = h0/h∞.
+// A lowpass-notch or notch takes h0 = g, h∞ = g·ω0²/ωz²; a highpass-notch
+// h∞ = g, h0 = g·ωz²/ω0². K = h∞/m (C3 = 0 when h∞ ≤ 1, else C3 raises
+// m above h∞), then e = G3·(K − h0): R6 m–ground when e < 0 (the gain
+// above K, R6 = R3·K/(h0 − K)), R6 in–m when e > 0 (needs K < 1). The
+// form's limit is α ≤ 1: for C3 = 0, g·(ω0²/ωz² + r/Q²) ≤ 1 for the
+// lowpass-notch, g·(1 + ωz²·r/(ω0²·Q²)) ≤ 1 for the highpass-notch.
+// Capacitors are tried with C1 ≤ C2 (smaller r, more gain headroom, at
+// the cost of spread).
+func oneAmpNotch(tg target, o *options) (design, *Error) {
+	if tg.order != 2 || !hasAxisZeros(tg.kind) {
+		return design{}, fail(OneAmpNotch, ErrNoForm, "no %s form (lowpass-notch, highpass-notch and notch only)", tg.kind)
+	}
+	lz := tg.wz * tg.wz / (tg.w0 * tg.w0) // ωz²/ω0²
+	var h0, hinf float64
+	if tg.kind == section.HighpassNotch {
+		hinf, h0 = tg.g, tg.g*lz
+	} else {
+		h0, hinf = tg.g, tg.g/lz
+	}
+	var p picker
+	var best onDesign
+	var c1buf [4]float64
+	var cgbuf [8]float64
+	limit := math.Inf(1)    // least α seen, for the message
+	minFloor := math.Inf(1) // least notch floor seen, for the message
+	for _, c2 := range o.caps {
+		for _, c1 := range o.capsAtMost(c1buf[:0], c2, 3) {
+			// C3 m–ground: the values that put K near 0.7, 0.4 and 0.2
+			// of min(h∞, 1) (m = h∞/K), needed when h∞ > 1 and for a
+			// highpass-notch near h∞ = 1, where R6 in–m would need K < 1. C3 in–m (h∞ well below h0, zeros far
+			// above f0): the values that put K near h0, h0/2 and h0/3
+			// (K = (h∞ + c)/(1 + c), c = C3·(1/C1 + 1/C2)), so that R6
+			// to ground need not raise the gain by h0/h∞.
+			type feed struct {
+				c  float64
+				in bool
+			}
+			var cgs []feed
+			if hinf <= 1 {
+				cgs = append(cgs, feed{})
+			}
+			for _, kt := range []float64{0.7, 0.4, 0.2} {
+				if mm := hinf / (kt * min(hinf, 1)); mm > 1 {
+					for _, c := range o.capsNear(cgbuf[:0], (mm-1)/(1/c1+1/c2), 1) {
+						cgs = append(cgs, feed{c, false})
+					}
+				}
+			}
+			for _, kt := range []float64{h0, h0 / 2, h0 / 3} {
+				if kt = min(kt, 0.95); hinf <= 1 && kt > 1.5*hinf {
+					cc := (kt - hinf) / (1 - kt)
+					for _, c := range o.capsNear(cgbuf[:0], cc/(1/c1+1/c2), 1) {
+						cgs = append(cgs, feed{c, true})
+					}
+				}
+			}
+			for _, cg := range cgs {
+				d, a, ok := onSearch(tg, o, c1, c2, cg.c, cg.in, h0, hinf, &p, &minFloor)
+				limit = min(limit, a)
+				if ok {
+					best = d
+				}
+			}
+		}
+	}
+	if !p.ok {
+		what := ""
+		switch {
+		case limit > 1:
+			what = fmt.Sprintf("the input split R1:R2 needs α = %.3g > 1 at the best capacitors: the gain %.4g is above the form's limit", limit, tg.g)
+		case minFloor > o.maxFloor && finite(minFloor):
+			return design{}, fail(OneAmpNotch, ErrLimits, "%s: notch floor %.3g of the gain per unit error of R1:R2 at best, above the limit %d: the zeros would leave the jω axis with part tolerance", tg.kind, minFloor, MaxNotchFloor)
+		}
+		return design{}, fail(OneAmpNotch, ErrLimits, "%s: %s", tg.kind, o.limitsMsg(tg.w0, what))
+	}
+	return best.build(tg, o), nil
+}
+
+// onParts are the part values of the one-amplifier notch (0: absent; r6g
+// true when R6 goes from m to ground).
+type onParts struct {
+	r1, r2, r3, r4, r5, r6 float64
+	c1, c2, c3             float64
+	r6g, c3in              bool
+}
+
+// onDesign is a candidate: parts as built, their exact values, and the
+// realised figures.
+type onDesign struct {
+	v, x        onParts
+	w0, q, g    float64
+	wz, floor   float64
+	zdamp       float64
+	alpha, kdiv float64
+}
+
+// onCoef returns the numerator and denominator coefficients of the stage
+// as built (the formula in [oneAmpNotch]).
+func onCoef(v onParts) (n2, n1, n0, d2, d1, d0 float64) {
+	inv := func(r float64) float64 {
+		if r == 0 {
+			return 0
+		}
+		return 1 / r
+	}
+	g1a, g1b, g3, g6 := inv(v.r1), inv(v.r2), inv(v.r3), inv(v.r6)
+	g1 := g1a + g1b
+	k := 1.0
+	if v.r4 > 0 {
+		k = v.r5 / (v.r4 + v.r5)
+	}
+	e := g6 * (1 - k)
+	if v.r6g {
+		e = -g6 * k
+	}
+	f := -v.c3 * k
+	if v.c3in {
+		f = v.c3 * (1 - k)
+	}
+	c1, c2 := v.c1, v.c2
+	n2 = k*c1*c2 - f*(c1+c2)
+	n1 = k*c2*g1 + k*g3*(c1+c2) - c2*g1a - e*(c1+c2) - f*g1
+	n0 = g1 * (k*g3 - e)
+	return n2, n1, n0, c1 * c2, g3 * (c1 + c2), g1 * g3
+}
+
+// onFigures returns the realised ω0, Q, reference gain, zero ω and
+// notch floor of the parts for a section of kind k.
+func onFigures(v onParts, k section.Kind) (w0, q, g, wz, floor float64) {
+	n2, n1, n0, d2, d1, d0 := onCoef(v)
+	w0 = math.Sqrt(d0 / d2)
+	q = w0 * d2 / d1
+	wz = math.Sqrt(n0 / n2)
+	if k == section.HighpassNotch {
+		g = n2 / d2
+	} else {
+		g = n0 / d0
+	}
+	floor = notchFloor(v, wz, g)
+	_ = n1
+	return w0, q, g, wz, floor
+}
+
+// notchFloor returns |∂H(jωz)/∂ln α|/g: the stage's gain at its zero
+// frequency per unit relative error of the input split α (the R1 term of
+// n1 is α·C2·G1), relative to the reference gain g.
+func notchFloor(v onParts, wz, g float64) float64 {
+	_, _, _, d2, d1, d0 := onCoef(v)
+	if v.r1 == 0 {
+		return math.Inf(1)
+	}
+	num := v.c2 / v.r1 * wz
+	den := math.Hypot(d0-d2*wz*wz, d1*wz)
+	return num / den / g
+}
+
+// onSearch designs the stage for one choice of capacitors and reports the
+// least α seen and whether the picker took a candidate (then d holds it).
+func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf float64, p *picker, minFloor *float64) (d onDesign, alpha float64, took bool) {
+	alpha = math.Inf(1)
+	m := 1 + cg*(1/c1+1/c2)
+	kx := hinf / m
+	if cgin {
+		// h∞ = K − (1 − K)·c with c = m − 1.
+		kx = (hinf + m - 1) / m
+	}
+	if kx > 1*(1+1e-12) {
+		return d, alpha, false
+	}
+	g1x := tg.w0 * tg.q * (c1 + c2)
+	g3x := tg.w0 * c1 * c2 / (tg.q * (c1 + c2))
+	r := c1 / (c1 + c2)
+	// Ideal α, for pruning and the message.
+	fx := -cg * kx
+	if cgin {
+		fx = cg * (1 - kx)
+	}
+	alpha = kx - fx/c2 + h0*r/(tg.q*tg.q)
+	if alpha > 1+1e-9 {
+		return d, alpha, false
+	}
+	if !o.nearR(1/g1x) || !o.nearR(1/g3x) {
+		return d, alpha, false
+	}
+	// The divider K = R5/(R4 + R5): 1/K = 1 + R4/R5.
+	type div struct{ r4, r5, x4, x5 float64 }
+	var divs []div
+	if kx >= 1-1e-9 {
+		divs = []div{{}}
+	} else {
+		r4, r5, x4, x5, ok := o.gainPair(1 / kx)
+		if !ok {
+			return d, alpha, false
+		}
+		divs = []div{{r4, r5, x4, x5}}
+	}
+	var c3s [3]float64
+	for _, dv := range divs {
+		k := 1.0
+		if dv.r4 > 0 {
+			k = dv.r5 / (dv.r4 + dv.r5)
+		}
+		n3 := o.rcands(1/g3x, &c3s)
+		for _, r3 := range c3s[:n3] {
+			g3 := 1 / r3
+			// Feedforward e for the DC gain h0 with K and R3 as built.
+			e := g3 * (k - h0)
+			var x6 float64
+			r6g := false
+			switch {
+			case math.Abs(e) <= 1e-9*g3:
+			case e < 0:
+				x6, r6g = -k/e, true
+			case k < 1-1e-9:
+				x6 = (1 - k) / e
+			default:
+				continue // K = 1 leaves nothing to feed forward with
+			}
+			var c6s [3]float64
+			n6 := 1
+			if x6 > 0 {
+				if !o.nearR(x6) {
+					continue
+				}
+				n6 = o.rcands(x6, &c6s)
+			}
+			for j := range n6 {
+				r6 := c6s[j]
+				if x6 == 0 {
+					r6 = 0
+				}
+				// The input split: α·G1 cancels n1, G1 = ω0·Q·(C1 + C2).
+				ev := 0.0
+				if r6 > 0 {
+					ev = (1 - k) / r6
+					if r6g {
+						ev = -k / r6
+					}
+				}
+				f := -cg * k
+				if cgin {
+					f = cg * (1 - k)
+				}
+				g1a := k*g1x + (c1+c2)*(k*g3-ev)/c2 - f*g1x/c2
+				a := g1a / g1x
+				if !(a > 0) || a > 1+1e-9 {
+					continue
+				}
+				x1 := 1 / g1a
+				x2 := 0.0
+				if a < 1-1e-9 {
+					x2 = 1 / (g1x - g1a)
+				}
+				if !o.nearR(x1) || (x2 > 0 && !o.nearR(x2)) {
+					continue
+				}
+				// The notch floor of the exact design (it moves little
+				// with rounding) against the bound auto applies.
+				fl := notchFloor(onParts{r1: x1, r2: x2, r3: 1 / g3x, r4: dv.x4, r5: dv.x5, r6: x6, c1: c1, c2: c2, c3: cg, r6g: r6g, c3in: cgin}, tg.wz, tg.g)
+				*minFloor = min(*minFloor, fl)
+				if fl > o.maxFloor {
+					continue
+				}
+				var c1s, c2s [3]float64
+				n1 := o.rcands(x1, &c1s)
+				n2 := 1
+				if x2 > 0 {
+					n2 = o.rcands(x2, &c2s)
+				}
+				for _, r1 := range c1s[:n1] {
+					for i2 := range n2 {
+						r2 := c2s[i2]
+						if x2 == 0 {
+							r2 = 0
+						}
+						v := onParts{r1: r1, r2: r2, r3: r3, r4: dv.r4, r5: dv.r5, r6: r6, c1: c1, c2: c2, c3: cg, r6g: r6g, c3in: cgin}
+						w0, q, gr, wz, floor := onFigures(v, tg.kind)
+						n2c, n1c, _, _, _, _ := onCoef(v)
+						damp := n1c / (n2c * wz) // 1/Qz of the zeros as built
+						s := errScore(w0, tg.w0) + errScore(q, tg.q) + errScore(gr, tg.g) + errScore(wz, tg.wz) + damp*damp
+						if !finite(s) || !p.wants(s) {
+							continue
+						}
+						// Tie-break: resistors near the window's middle,
+						// and a low DC noise gain 1 + R3/R6 (the op-amp's
+						// loop gain and noise: common practice).
+						tie := o.tieLog(r1) + o.tieLog(r3)
+						if r6 > 0 {
+							tie += 4 * sq(math.Log(1+r3/r6))
+						}
+						for _, rr := range []float64{r2, dv.r4, dv.r5, r6} {
+							if rr > 0 {
+								tie += o.tieLog(rr)
+							}
+						}
+						if p.take(s, tie) {
+							took = true
+							d = onDesign{
+								v:  v,
+								x:  onParts{r1: x1, r2: x2, r3: 1 / g3x, r4: dv.x4, r5: dv.x5, r6: x6, c1: c1, c2: c2, c3: cg, r6g: r6g},
+								w0: w0, q: q, g: gr, wz: wz, floor: floor, zdamp: damp / 2, alpha: a, kdiv: k,
+							}
+						}
+					}
+				}
+			}
+		}
+	}
+	return d, alpha, took
+}
+
+// build assembles the stage.
+func (d onDesign) build(tg target, o *options) design {
+	b := newBuilder(o, OneAmpNotch)
+	b.res(circuit.In, "a", d.v.r1, d.x.r1)
+	if d.v.r2 > 0 {
+		b.res("a", circuit.Ground, d.v.r2, d.x.r2)
+	}
+	b.res("m", "out", d.v.r3, d.x.r3)
+	plus := circuit.In
+	if d.v.r4 > 0 {
+		plus = "p"
+		b.res(circuit.In, "p", d.v.r4, d.x.r4)
+		b.res("p", circuit.Ground, d.v.r5, d.x.r5)
+	}
+	if d.v.r6 > 0 {
+		if d.v.r6g {
+			b.res("m", circuit.Ground, d.v.r6, d.x.r6)
+		} else {
+			b.res(circuit.In, "m", d.v.r6, d.x.r6)
+		}
+	}
+	b.capa("a", "out", d.v.c1)
+	b.capa("a", "m", d.v.c2)
+	if d.v.c3 > 0 {
+		if d.v.c3in {
+			b.capa(circuit.In, "m", d.v.c3)
+		} else {
+			b.capa("m", circuit.Ground, d.v.c3)
+		}
+	}
+	b.amp(plus, "m", "out")
+	form := fmt.Sprintf("one-op-amp %s (Delyiannis-Friend bandpass with feedforward to both inputs, Friend-Harris-Hilberman 1975): input split α = %.3g cancels the s term", tg.kind, d.alpha)
+	if d.v.r4 > 0 {
+		form += fmt.Sprintf(", + input at K = %.4g of the input", d.kdiv)
+	}
+	switch {
+	case d.v.r6 > 0 && d.v.r6g:
+		form += ", R6 to ground raises the low-frequency gain"
+	case d.v.r6 > 0:
+		form += ", R6 feeds the input to the inverting node"
+	}
+	switch {
+	case d.v.c3 > 0 && d.v.c3in:
+		form += ", C3 feeds the input to the inverting node to lower the high-frequency gain"
+	case d.v.c3 > 0:
+		form += ", C3 raises the high-frequency gain"
+	}
+	form += fmt.Sprintf("; notch floor %.3g of the gain per unit error of R1:R2 (limit %d)", d.floor, MaxNotchFloor)
+	return design{stage: b.done("out"), form: form, w0: d.w0, q: d.q, g: d.g, wz: d.wz, zdamp: d.zdamp}
+}
