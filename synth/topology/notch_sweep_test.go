@@ -242,3 +242,59 @@ func TestNotchShapesInNgspice(t *testing.T) {
 		})
 	}
 }
+
+// TestOneAmpNotchSweep: every section of the notch sweep asked for as
+// one-amp-notch either realises or fails with ErrLimits (never another
+// error); those that realise do so exactly with exact resistors (nodal
+// analysis against the section, 1e-9) and with E96/E12 have f0 within
+// 2 %, Q within 3 %, zeros within 1 % and a zero damping ζz below 0.01.
+// auto takes it only up to Q = OneAmpNotchMaxQ. The log gives how many of
+// each kind fit.
+func TestOneAmpNotchSweep(t *testing.T) {
+	t.Parallel()
+	series := topology.DefaultOptions()
+	exact := series
+	exact.Exact = true
+	var mx maxima
+	t.Cleanup(func() { mx.log(t) })
+	fits := map[string]int{}
+	autoPicks := 0
+	for _, tc := range notchSweep() {
+		kind := string(tc.sec.Kind())
+		r, err := topology.Realize(tc.sec, topology.OneAmpNotch, series)
+		if err != nil {
+			require.ErrorIs(t, err, topology.ErrLimits, tc.name)
+			continue
+		}
+		fits[kind]++
+		require.NoError(t, r.Stage.Validate())
+		requireSeriesParts(t, r.Stage, series)
+		require.Len(t, r.Stage.OpAmps, 1)
+		mx.note("|F0ErrPct|", tc.name, r.F0ErrPct)
+		mx.note("|QErrPct|", tc.name, r.QErrPct)
+		mx.note("|ZeroErrPct|", tc.name, r.ZeroErrPct)
+		mx.note("|ZeroDamping|", tc.name, r.ZeroDamping)
+		require.Less(t, math.Abs(r.F0ErrPct), 2.0, tc.name)
+		require.Less(t, math.Abs(r.QErrPct), 3.0, tc.name)
+		require.Less(t, math.Abs(r.ZeroErrPct), 1.0, tc.name)
+		require.Less(t, math.Abs(r.ZeroDamping), 0.01, tc.name)
+
+		re, err := topology.Realize(tc.sec, topology.OneAmpNotch, exact)
+		require.NoError(t, err, tc.name)
+		d := maxRelDiff(t, tc.sec, re, 1)
+		mx.note("exact |H_stage − H_section|/|H_section|", tc.name, d)
+		require.Less(t, d, 1e-9, tc.name)
+
+		ra, err := topology.Realize(tc.sec, topology.Auto, series)
+		require.NoError(t, err, tc.name)
+		if ra.Stage.Topology == topology.OneAmpNotch {
+			autoPicks++
+			require.LessOrEqual(t, tc.sec.Q(), float64(topology.OneAmpNotchMaxQ), tc.name)
+		}
+	}
+	t.Logf("one-amp-notch fits (of 432, 432, 72): %v; auto takes it for %d", fits, autoPicks)
+	require.Positive(t, fits[string(section.LowpassNotch)])
+	require.Positive(t, fits[string(section.HighpassNotch)])
+	require.Positive(t, fits[string(section.Notch)])
+	require.Positive(t, autoPicks)
+}

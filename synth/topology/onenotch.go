@@ -139,6 +139,16 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 		}
 		return design{}, fail(OneAmpNotch, ErrLimits, "%s: %s", tg.kind, o.limitsMsg(tg.w0, what))
 	}
+	// Rounding bounds (our choice, those the state-variable notch keeps):
+	// zeros within 1 % in frequency and ζz ≤ 0.01, poles within 2 % and
+	// Q within 3 %. The s term that α cancels is a difference, and at low
+	// Q or far zeros series values may not cancel it well enough.
+	switch {
+	case math.Abs(best.wz/tg.wz-1) > 0.01, math.Abs(best.zdamp) > 0.01,
+		math.Abs(best.w0/tg.w0-1) > 0.02, math.Abs(best.q/tg.q-1) > 0.03:
+		return design{}, fail(OneAmpNotch, ErrLimits, "%s: with %s values the best stage has its zeros %+.2f %% off with damping ζz = %.3g and f0 %+.2f %%, Q %+.2f %% off (limits 1 %%, 0.01, 2 %%, 3 %%)",
+			tg.kind, o.rs.Name(), 100*(best.wz/tg.wz-1), best.zdamp, 100*(best.w0/tg.w0-1), 100*(best.q/tg.q-1))
+	}
 	return best.build(tg, o), nil
 }
 
