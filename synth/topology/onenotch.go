@@ -3,6 +3,7 @@ package topology
 import (
 	"fmt"
 	"math"
+	"math/cmplx"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
@@ -28,6 +29,57 @@ const (
 	// it beyond this bound (our choice).
 	MaxNotchFloor = 1
 )
+
+// Rounding bounds of the one-amplifier notch with series values (our
+// choice; those the state-variable notch keeps in its sweep): the zeros'
+// frequency within 1 % and their damping ζz within 0.01, f0 within 2 %
+// and Q within 3 %. The s term that the input split cancels is a
+// difference, and at low Q or far zeros series values may not cancel it
+// well enough; such a section is ErrLimits (auto then takes the
+// state-variable stage).
+const (
+	maxZeroErr     = 0.01
+	maxZeroDamping = 0.01
+	maxPoleErr     = 0.02
+	maxQErr        = 0.03
+)
+
+// noiseWeight weighs ln of [onNoise] in the part search's score against
+// the squared relative errors: twice the noise power costs as much as a
+// 0.8 % error (our choice).
+const noiseWeight = 1e-4
+
+// onNoise returns a noise proxy of the stage, in V²/Hz at ω0: the
+// op-amp's voltage noise (10 nV/√Hz, common practice for a general-purpose
+// part) and the thermal noise of the + input divider's Thevenin
+// resistance times the noise gain at ω0, plus the thermal noise of R3 and
+// that of R6's current through R3, at 300 K. The noise gain from the +
+// input with the input grounded is
+//
+//	NG(s) = ([s·(C2 + C3) + G3 + G6]·[G1 + s·(C1 + C2)] − s²·C2²) / D(s)
+//
+// (C3 and R6 are AC-grounded either way), 1 + Q²·(C1 + C2)/C1 at ω0
+// without them.
+func onNoise(v onParts, w0 float64) float64 {
+	const kT4 = 4 * 1.380649e-23 * 300
+	const en = 10e-9
+	inv := func(r float64) float64 {
+		if r == 0 {
+			return 0
+		}
+		return 1 / r
+	}
+	g1, g3, g6 := inv(v.r1)+inv(v.r2), inv(v.r3), inv(v.r6)
+	s := complex(0, w0)
+	num := (s*complex(v.c2+v.c3, 0)+complex(g3+g6, 0))*(complex(g1, 0)+s*complex(v.c1+v.c2, 0)) - s*s*complex(v.c2*v.c2, 0)
+	den := s*s*complex(v.c1*v.c2, 0) + s*complex(g3*(v.c1+v.c2), 0) + complex(g1*g3, 0)
+	ng := cmplx.Abs(num / den)
+	rth := 0.0
+	if v.r4 > 0 {
+		rth = v.r4 * v.r5 / (v.r4 + v.r5)
+	}
+	return ng*ng*(en*en+kT4*rth) + kT4*v.r3 + kT4*g6*v.r3*v.r3
+}
 
 // oneAmpNotch realises a lowpass-notch, highpass-notch or notch section on
 // one op-amp: the Delyiannis-Friend bandpass with feedforward from the
@@ -85,16 +137,25 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 	}
 	var p picker
 	var best onDesign
-	var c1buf [4]float64
+	var c1buf [6]float64
 	var cgbuf [8]float64
 	limit := math.Inf(1)    // least α seen, for the message
 	minFloor := math.Inf(1) // least notch floor seen, for the message
+	rounding := false       // a candidate failed the rounding bounds
 	for _, c2 := range o.caps {
-		for _, c1 := range o.capsAtMost(c1buf[:0], c2, 3) {
-			// C3 m–ground: the values that put K near 0.7, 0.4 and 0.2
-			// of min(h∞, 1) (m = h∞/K), needed when h∞ > 1 and for a
-			// highpass-notch near h∞ = 1, where R6 in–m would need K < 1. C3 in–m (h∞ well below h0, zeros far
-			// above f0): the values that put K near h0, h0/2 and h0/3
+		// C1 ≤ C2 leaves α more headroom (gain), C1 > C2 lowers the
+		// noise gain 1 + Q²·(C1 + C2)/C1 at f0.
+		c1s := o.capsAtMost(c1buf[:0], c2, 3)
+		c1s = o.capsAtLeast(c1s, c2*1.01, 2)
+		for _, c1 := range c1s {
+			// C3 m–ground raises h∞ to K·m above K (m = h∞/K): tried
+			// with K near 0.7, 0.4 and 0.2 of min(h∞, 1) when h∞ > 0.9
+			// (a gain above one, or a highpass-notch near it, where R6
+			// in–m would need K < 1), and with K near h0, 1.5·h0, 2·h0
+			// and 3·h0 when h0 < h∞ (zeros below f0), so that the DC
+			// gain h0 = K − e/G3 is not a small difference of rounded
+			// terms. C3 in–m (h∞ well below h0, zeros far above f0):
+			// the values that put K near h0, h0/2 and h0/3
 			// (K = (h∞ + c)/(1 + c), c = C3·(1/C1 + 1/C2)), so that R6
 			// to ground need not raise the gain by h0/h∞.
 			type feed struct {
@@ -105,8 +166,16 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 			if hinf <= 1 {
 				cgs = append(cgs, feed{})
 			}
-			for _, kt := range []float64{0.7, 0.4, 0.2} {
-				if mm := hinf / (kt * min(hinf, 1)); mm > 1 {
+			var kts []float64
+			if hinf > 0.9 {
+				kts = append(kts, 0.7*min(hinf, 1), 0.4*min(hinf, 1), 0.2*min(hinf, 1))
+			}
+			if h0 < hinf {
+				kts = append(kts, h0, 1.5*h0, 2*h0, 3*h0)
+			}
+			for _, kt := range kts {
+				if kt <= min(hinf, 1) && kt < hinf {
+					mm := hinf / kt
 					for _, c := range o.capsNear(cgbuf[:0], (mm-1)/(1/c1+1/c2), 1) {
 						cgs = append(cgs, feed{c, false})
 					}
@@ -121,7 +190,7 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 				}
 			}
 			for _, cg := range cgs {
-				d, a, ok := onSearch(tg, o, c1, c2, cg.c, cg.in, h0, hinf, &p, &minFloor)
+				d, a, ok := onSearch(tg, o, c1, c2, cg.c, cg.in, h0, hinf, &p, &minFloor, &rounding)
 				limit = min(limit, a)
 				if ok {
 					best = d
@@ -134,20 +203,13 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 		switch {
 		case limit > 1:
 			what = fmt.Sprintf("the input split R1:R2 needs α = %.3g > 1 at the best capacitors: the gain %.4g is above the form's limit", limit, tg.g)
+		case rounding:
+			return design{}, fail(OneAmpNotch, ErrLimits, "%s: with %s values no stage keeps its zeros within %g %% (damping ζz ≤ %g), f0 within %g %% and Q within %g %%: the s term that R1:R2 cancels is a difference that the series rounds too coarsely here",
+				tg.kind, o.rs.Name(), 100*maxZeroErr, maxZeroDamping, 100*maxPoleErr, 100*maxQErr)
 		case minFloor > o.maxFloor && finite(minFloor):
 			return design{}, fail(OneAmpNotch, ErrLimits, "%s: notch floor %.3g of the gain per unit error of R1:R2 at best, above the limit %d: the zeros would leave the jω axis with part tolerance", tg.kind, minFloor, MaxNotchFloor)
 		}
 		return design{}, fail(OneAmpNotch, ErrLimits, "%s: %s", tg.kind, o.limitsMsg(tg.w0, what))
-	}
-	// Rounding bounds (our choice, those the state-variable notch keeps):
-	// zeros within 1 % in frequency and ζz ≤ 0.01, poles within 2 % and
-	// Q within 3 %. The s term that α cancels is a difference, and at low
-	// Q or far zeros series values may not cancel it well enough.
-	switch {
-	case math.Abs(best.wz/tg.wz-1) > 0.01, math.Abs(best.zdamp) > 0.01,
-		math.Abs(best.w0/tg.w0-1) > 0.02, math.Abs(best.q/tg.q-1) > 0.03:
-		return design{}, fail(OneAmpNotch, ErrLimits, "%s: with %s values the best stage has its zeros %+.2f %% off with damping ζz = %.3g and f0 %+.2f %%, Q %+.2f %% off (limits 1 %%, 0.01, 2 %%, 3 %%)",
-			tg.kind, o.rs.Name(), 100*(best.wz/tg.wz-1), best.zdamp, 100*(best.w0/tg.w0-1), 100*(best.q/tg.q-1))
 	}
 	return best.build(tg, o), nil
 }
@@ -232,7 +294,7 @@ func notchFloor(v onParts, wz, g float64) float64 {
 
 // onSearch designs the stage for one choice of capacitors and reports the
 // least α seen and whether the picker took a candidate (then d holds it).
-func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf float64, p *picker, minFloor *float64) (d onDesign, alpha float64, took bool) {
+func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf float64, p *picker, minFloor *float64, rounding *bool) (d onDesign, alpha float64, took bool) {
 	alpha = math.Inf(1)
 	m := 1 + cg*(1/c1+1/c2)
 	kx := hinf / m
@@ -264,7 +326,7 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 	if kx >= 1-1e-9 {
 		divs = []div{{}}
 	} else {
-		r4, r5, x4, x5, ok := o.gainPair(1 / kx)
+		r4, r5, x4, x5, ok := o.lowDivider(1/kx - 1)
 		if !ok {
 			return d, alpha, false
 		}
@@ -294,6 +356,11 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 			}
 			var c6s [3]float64
 			n6 := 1
+			if x6 > o.rmax*1.25 && !o.exact {
+				// Rounding the divider left a feedforward too small for
+				// the window: leave R6 out (the score sees what it costs).
+				x6 = 0
+			}
 			if x6 > 0 {
 				if !o.nearR(x6) {
 					continue
@@ -353,17 +420,21 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 						w0, q, gr, wz, floor := onFigures(v, tg.kind)
 						n2c, n1c, _, _, _, _ := onCoef(v)
 						damp := n1c / (n2c * wz) // 1/Qz of the zeros as built
-						s := errScore(w0, tg.w0) + errScore(q, tg.q) + errScore(gr, tg.g) + errScore(wz, tg.wz) + damp*damp
+						// Rounding bounds (see oneAmpNotch) first, then
+						// the score: squared relative errors plus
+						// noiseWeight·ln of the noise proxy.
+						if math.Abs(wz/tg.wz-1) > maxZeroErr || math.Abs(damp/2) > maxZeroDamping ||
+							math.Abs(w0/tg.w0-1) > maxPoleErr || math.Abs(q/tg.q-1) > maxQErr {
+							*rounding = true
+							continue
+						}
+						s := errScore(w0, tg.w0) + errScore(q, tg.q) + errScore(gr, tg.g) + errScore(wz, tg.wz) + damp*damp +
+							noiseWeight*math.Log(onNoise(v, tg.w0))
 						if !finite(s) || !p.wants(s) {
 							continue
 						}
-						// Tie-break: resistors near the window's middle,
-						// and a low DC noise gain 1 + R3/R6 (the op-amp's
-						// loop gain and noise: common practice).
+						// Tie-break: resistors near the window's middle.
 						tie := o.tieLog(r1) + o.tieLog(r3)
-						if r6 > 0 {
-							tie += 4 * sq(math.Log(1+r3/r6))
-						}
 						for _, rr := range []float64{r2, dv.r4, dv.r5, r6} {
 							if rr > 0 {
 								tie += o.tieLog(rr)
@@ -434,4 +505,39 @@ func (d onDesign) build(tg target, o *options) design {
 	}
 	form += fmt.Sprintf("; notch floor %.3g of the gain per unit error of R1:R2 (limit %d)", d.floor, MaxNotchFloor)
 	return design{stage: b.done("out"), form: form, w0: d.w0, q: d.q, g: d.g, wz: d.wz, zdamp: d.zdamp}
+}
+
+// lowDivider returns R4 (upper) and R5 (lower) with R4/R5 as close as the
+// series allows to ratio, the smaller of the two near twice the window's
+// least resistor, and the exact values they were rounded from. The divider
+// feeds the op-amp's + input, where its Thevenin resistance's noise sees
+// the stage's full noise gain, so it is kept low (common practice); it
+// loads only the stage's source.
+func (o *options) lowDivider(ratio float64) (r4, r5, x4, x5 float64, ok bool) {
+	if !(ratio > 0) || !finite(ratio) || ratio*o.rmin > o.rmax*(1+winTol) || o.rmin > ratio*o.rmax*(1+winTol) {
+		return 0, 0, 0, 0, false
+	}
+	lo := 2 * o.rmin // the smaller resistor, within the window with its partner
+	if ratio >= 1 {
+		x5 = min(lo, o.rmax/ratio)
+		x4 = ratio * x5
+	} else {
+		x4 = min(lo, o.rmax*ratio)
+		x5 = x4 / ratio
+	}
+	if o.exact {
+		return x4, x5, x4, x5, o.inR(x4) && o.inR(x5)
+	}
+	var p picker
+	var c4, c5 [3]float64
+	n4, n5 := o.rcands(x4, &c4), o.rcands(x5, &c5)
+	for _, a := range c4[:n4] {
+		for _, b := range c5[:n5] {
+			sc := errScore(a/b, ratio)
+			if p.wants(sc) && p.take(sc, a+b) {
+				r4, r5 = a, b
+			}
+		}
+	}
+	return r4, r5, x4, x5, p.ok
 }
