@@ -211,6 +211,7 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 		}
 		return design{}, fail(OneAmpNotch, ErrLimits, "%s: %s", tg.kind, o.limitsMsg(tg.w0, what))
 	}
+	best.floor = notchFloor(best.v, best.wz, best.g)
 	return best.build(tg, o), nil
 }
 
@@ -417,8 +418,14 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 							r2 = 0
 						}
 						v := onParts{r1: r1, r2: r2, r3: r3, r4: dv.r4, r5: dv.r5, r6: r6, c1: c1, c2: c2, c3: cg, r6g: r6g, c3in: cgin}
-						w0, q, gr, wz, floor := onFigures(v, tg.kind)
-						n2c, n1c, _, _, _, _ := onCoef(v)
+						n2c, n1c, n0c, d2c, d1c, d0c := onCoef(v)
+						w0 := math.Sqrt(d0c / d2c)
+						q := w0 * d2c / d1c
+						wz := math.Sqrt(n0c / n2c)
+						gr := n0c / d0c
+						if tg.kind == section.HighpassNotch {
+							gr = n2c / d2c
+						}
 						damp := n1c / (n2c * wz) // 1/Qz of the zeros as built
 						// Rounding bounds (see oneAmpNotch) first, then
 						// the score: squared relative errors plus
@@ -445,7 +452,7 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 							d = onDesign{
 								v:  v,
 								x:  onParts{r1: x1, r2: x2, r3: 1 / g3x, r4: dv.x4, r5: dv.x5, r6: x6, c1: c1, c2: c2, c3: cg, r6g: r6g},
-								w0: w0, q: q, g: gr, wz: wz, floor: floor, zdamp: damp / 2, alpha: a, kdiv: k,
+								w0: w0, q: q, g: gr, wz: wz, zdamp: damp / 2, alpha: a, kdiv: k,
 							}
 						}
 					}
