@@ -42,10 +42,11 @@
 //  2. jω-axis zeros (lowpass-notch, highpass-notch, notch): one-amp-notch
 //     when Q ≤ [OneAmpNotchMaxQ] (5: its core's resistor spread is at
 //     least 4Q² and its op-amp must supply a loop gain of about 2Q² at
-//     f0), when its notch floor — the gain at the zero frequency per unit
-//     relative error of the input split R1:R2, relative to the reference
-//     gain — is at most [MaxNotchFloor] (1: about −40 dB with 1 %
-//     resistors), and when series values keep its zeros within 1 % with a
+//     f0), when the gain that the part tolerances leave at the zero
+//     frequency (rms, first order, relative to the reference gain) is at
+//     most [MaxNotchResidualDB] (−30 dB; a symmetric notch or zeros close
+//     to f0 at moderate Q usually exceed it), and when series values keep
+//     its zeros within 1 % with a
 //     damping ζz ≤ 0.01, f0 within 2 % and Q within 3 %; the reason says
 //     which limit failed. Otherwise state-variable ("sums its highpass and
 //     lowpass outputs": four op-amps, but its zeros stay on the jω axis
@@ -82,7 +83,7 @@
 // an error naming the kind (sallen-key has no bandpass or notch form,
 // multiple-feedback no notch form, one-amp-notch no lowpass, highpass or
 // bandpass form, the first-order stages no second-order form). Asked for
-// by name, one-amp-notch applies neither the notch-floor bound nor Q ≤ 5.
+// by name, one-amp-notch applies neither the residual bound nor Q ≤ 5.
 //
 // The one-amp-notch search tries capacitor pairs C2 and C1 (three values
 // at or below C2, two above: C1 < C2 leaves the split more headroom, C1 >
@@ -91,10 +92,11 @@
 // from the input, lowering it) at the values that keep the divider ratio
 // K away from small differences; the divider is rounded first (its
 // smaller resistor near twice the window's least, for low noise), then
-// R3, R6 and the split for the values as built. Its score adds
+// R3, R6 and the split for the values as built. Its score adds to the
+// squared errors and the zeros' damping ζz² ([Result.ZeroDamping])
 // 1e-4·ln of a noise proxy (op-amp and divider noise times the noise gain
-// at f0, R3 and R6 thermal noise) to the squared errors, and the zeros'
-// damping ζz² ([Result.ZeroDamping]).
+// at f0, R3 and R6 thermal noise) and 0.5e-4·ln of the tolerance
+// residual at the zeros.
 //
 // # Part values
 //

@@ -20,14 +20,19 @@ const (
 	// keeps its spread near one (common practice: single-amplifier
 	// biquads are kept to moderate Q).
 	OneAmpNotchMaxQ = 5
-	// MaxNotchFloor bounds [notchFloor]: the stage's gain at its zero
-	// frequency, relative to its reference gain, per unit relative error
-	// of the input split R1:R2 that cancels the numerator's s term. With
-	// 1 % resistors a floor figure of 1 leaves the notch at about −40 dB
-	// of the reference gain in the worst case; the state-variable notch
-	// has no such floor (its sum has no bandpass term), so [Auto] turns to
-	// it beyond this bound (our choice).
-	MaxNotchFloor = 1
+	// MaxNotchResidualDB bounds [notchResidual]: the stage's gain at its
+	// zero frequency, relative to its reference gain, that the parts'
+	// tolerances leave (rms, first order, every part uniform
+	// within its tolerance: the series' customary one for resistors,
+	// CapacitorTolerancePct for capacitors). The zeros of this form are
+	// on the jω axis only while the numerator's s term cancels, so a part
+	// error leaves a residual; the state-variable notch keeps its zeros
+	// on the axis (its sum has no bandpass term), and [Auto] turns to it
+	// beyond this bound.
+	// −30 dB is our choice: a notch that keeps 30 dB at its zero with
+	// ordinary parts, and a typical elliptic section's zeros do their
+	// work together with the other sections' roll-off.
+	MaxNotchResidualDB = -30
 )
 
 // Rounding bounds of the one-amplifier notch with series values (our
@@ -44,9 +49,11 @@ const (
 	maxQErr        = 0.03
 )
 
-// noiseWeight weighs ln of [onNoise] in the part search's score against
-// the squared relative errors: twice the noise power costs as much as a
-// 0.8 % error (our choice).
+// noiseWeight weighs ln of [onNoise] and half ln of [notchResidual] (of
+// the exact design) in the part search's score against the squared
+// relative errors: twice the noise power, or 12 dB more residual at the
+// zeros, costs as much as a 0.8 % error (our choice: above the
+// MaxNotchResidualDB bound, noise matters more).
 const noiseWeight = 1e-4
 
 // onNoise returns a noise proxy of the stage, in V²/Hz at ω0: the
@@ -140,7 +147,7 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 	var c1buf [6]float64
 	var cgbuf [8]float64
 	limit := math.Inf(1)    // least α seen, for the message
-	minFloor := math.Inf(1) // least notch floor seen, for the message
+	minFloor := math.Inf(1) // least notch residual seen, for the message
 	rounding := false       // a candidate failed the rounding bounds
 	for _, c2 := range o.caps {
 		// C1 ≤ C2 leaves α more headroom (gain), C1 > C2 lowers the
@@ -207,11 +214,12 @@ func oneAmpNotch(tg target, o *options) (design, *Error) {
 			return design{}, fail(OneAmpNotch, ErrLimits, "%s: with %s values no stage keeps its zeros within %g %% (damping ζz ≤ %g), f0 within %g %% and Q within %g %%: the s term that R1:R2 cancels is a difference that the series rounds too coarsely here",
 				tg.kind, o.rs.Name(), 100*maxZeroErr, maxZeroDamping, 100*maxPoleErr, 100*maxQErr)
 		case minFloor > o.maxFloor && finite(minFloor):
-			return design{}, fail(OneAmpNotch, ErrLimits, "%s: notch floor %.3g of the gain per unit error of R1:R2 at best, above the limit %d: the zeros would leave the jω axis with part tolerance", tg.kind, minFloor, MaxNotchFloor)
+			return design{}, fail(OneAmpNotch, ErrLimits, "%s: the part tolerances (%g %% resistors, %g %% capacitors) would leave %.1f dB at the zeros at best (rms, first order), above the limit %d dB: the s term that R1:R2 cancels is a difference of terms",
+				tg.kind, o.rtol, o.ctol, 20*math.Log10(minFloor), MaxNotchResidualDB)
 		}
 		return design{}, fail(OneAmpNotch, ErrLimits, "%s: %s", tg.kind, o.limitsMsg(tg.w0, what))
 	}
-	best.floor = notchFloor(best.v, best.wz, best.g)
+	best.floor = notchResidual(best.v, best.wz, best.g, o.rtol, o.ctol)
 	return best.build(tg, o), nil
 }
 
@@ -263,10 +271,10 @@ func onCoef(v onParts) (n2, n1, n0, d2, d1, d0 float64) {
 	return n2, n1, n0, c1 * c2, g3 * (c1 + c2), g1 * g3
 }
 
-// onFigures returns the realised ω0, Q, reference gain, zero ω and
-// notch floor of the parts for a section of kind k.
-func onFigures(v onParts, k section.Kind) (w0, q, g, wz, floor float64) {
-	n2, n1, n0, d2, d1, d0 := onCoef(v)
+// onFigures returns the realised ω0, Q, reference gain and zero ω of the
+// parts for a section of kind k.
+func onFigures(v onParts, k section.Kind) (w0, q, g, wz float64) {
+	n2, _, n0, d2, d1, d0 := onCoef(v)
 	w0 = math.Sqrt(d0 / d2)
 	q = w0 * d2 / d1
 	wz = math.Sqrt(n0 / n2)
@@ -275,22 +283,44 @@ func onFigures(v onParts, k section.Kind) (w0, q, g, wz, floor float64) {
 	} else {
 		g = n0 / d0
 	}
-	floor = notchFloor(v, wz, g)
-	_ = n1
-	return w0, q, g, wz, floor
+	return w0, q, g, wz
 }
 
-// notchFloor returns |∂H(jωz)/∂ln α|/g: the stage's gain at its zero
-// frequency per unit relative error of the input split α (the R1 term of
-// n1 is α·C2·G1), relative to the reference gain g.
-func notchFloor(v onParts, wz, g float64) float64 {
-	_, _, _, d2, d1, d0 := onCoef(v)
-	if v.r1 == 0 {
-		return math.Inf(1)
+// notchResidual returns the rms, to first order, of the stage's gain at
+// the design's zero frequency ωz, relative to the reference gain g, when
+// every part is uniform within its tolerance (rtolPct for resistors,
+// ctolPct for capacitors; σ = tol/√3). The gain there is
+// |N(jωz)|/|D(jωz)| with N(jω) = n0 − n2·ω² + j·n1·ω, zero as designed;
+// a part error moves the zeros (n0, n2) and takes them off the jω axis
+// (n1), and N's first-order spread is √Σ |∂N(jωz)/∂ln x|²·σx²
+// (derivatives by a relative step of 1e-6).
+func notchResidual(v onParts, wz, g, rtolPct, ctolPct float64) float64 {
+	num := func(v onParts) complex128 {
+		n2, n1, n0, _, _, _ := onCoef(v)
+		return complex(n0-n2*wz*wz, n1*wz)
 	}
-	num := v.c2 / v.r1 * wz
-	den := math.Hypot(d0-d2*wz*wz, d1*wz)
-	return num / den / g
+	_, _, _, d2, d1, d0 := onCoef(v)
+	base := num(v)
+	const h = 1e-6
+	var s2 float64
+	add := func(x *float64, tolPct float64) {
+		if *x == 0 {
+			return
+		}
+		x0 := *x
+		*x = x0 * (1 + h)
+		dn := (num(v) - base) / complex(h, 0)
+		*x = x0
+		sig := tolPct / 100 / math.Sqrt(3)
+		s2 += sq(cmplx.Abs(dn) * sig)
+	}
+	for _, r := range []*float64{&v.r1, &v.r2, &v.r3, &v.r4, &v.r5, &v.r6} {
+		add(r, rtolPct)
+	}
+	for _, c := range []*float64{&v.c1, &v.c2, &v.c3} {
+		add(c, ctolPct)
+	}
+	return math.Sqrt(s2) / math.Hypot(d0-d2*wz*wz, d1*wz) / g
 }
 
 // onSearch designs the stage for one choice of capacitors and reports the
@@ -398,9 +428,9 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 				if !o.nearR(x1) || (x2 > 0 && !o.nearR(x2)) {
 					continue
 				}
-				// The notch floor of the exact design (it moves little
-				// with rounding) against the bound auto applies.
-				fl := notchFloor(onParts{r1: x1, r2: x2, r3: 1 / g3x, r4: dv.x4, r5: dv.x5, r6: x6, c1: c1, c2: c2, c3: cg, r6g: r6g, c3in: cgin}, tg.wz, tg.g)
+				// The notch residual of the exact design (it moves
+				// little with rounding) against the bound auto applies.
+				fl := notchResidual(onParts{r1: x1, r2: x2, r3: 1 / g3x, r4: dv.x4, r5: dv.x5, r6: x6, c1: c1, c2: c2, c3: cg, r6g: r6g, c3in: cgin}, tg.wz, tg.g, o.rtol, o.ctol)
 				*minFloor = min(*minFloor, fl)
 				if fl > o.maxFloor {
 					continue
@@ -436,7 +466,7 @@ func onSearch(tg target, o *options, c1, c2, cg float64, cgin bool, h0, hinf flo
 							continue
 						}
 						s := errScore(w0, tg.w0) + errScore(q, tg.q) + errScore(gr, tg.g) + errScore(wz, tg.wz) + damp*damp +
-							noiseWeight*math.Log(onNoise(v, tg.w0))
+							noiseWeight*(math.Log(onNoise(v, tg.w0))+0.5*math.Log(fl))
 						if !finite(s) || !p.wants(s) {
 							continue
 						}
@@ -510,7 +540,7 @@ func (d onDesign) build(tg target, o *options) design {
 	case d.v.c3 > 0:
 		form += ", C3 raises the high-frequency gain"
 	}
-	form += fmt.Sprintf("; notch floor %.3g of the gain per unit error of R1:R2 (limit %d)", d.floor, MaxNotchFloor)
+	form += fmt.Sprintf("; part tolerances leave %.1f dB at the zeros (rms, first order; limit %d dB in auto)", 20*math.Log10(d.floor), MaxNotchResidualDB)
 	return design{stage: b.done("out"), form: form, w0: d.w0, q: d.q, g: d.g, wz: d.wz, zdamp: d.zdamp}
 }
 

@@ -3,6 +3,8 @@ package topology
 import (
 	"math"
 	"math/cmplx"
+	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -74,7 +76,7 @@ func TestOneAmpNotchWorkedExamples(t *testing.T) {
 				require.InDelta(t, 0, cmplx.Abs(got-want), 1e-12*(1+cmplx.Abs(want)), "ω = %g: nodal %v, target %v", w, got, want)
 			}
 			// The closed forms of oneAmpNotch give the same figures.
-			w0, q, g, wz, _ := onFigures(tc.v, tc.kind)
+			w0, q, g, wz := onFigures(tc.v, tc.kind)
 			require.InDelta(t, tc.w0, w0, 1e-12)
 			require.InDelta(t, tc.q, q, 1e-12)
 			require.InDelta(t, tc.g, g, 1e-12)
@@ -90,80 +92,81 @@ func TestOneAmpNotchWorkedExamples(t *testing.T) {
 	}
 }
 
-// TestNotchFloorByPerturbation: notchFloor, |∂H(jωz)/∂ln α|/g, against
-// the stage's nodal analysis with the input split moved by a relative
-// δ = 1e-6 (G1a·(1 + δ), G1 unchanged): the change of H(jωz), over g·δ,
-// agrees within 0.1 %. Designs: the examples of TestOneAmpNotchWorkedExamples and
-// series-value designs of each kind.
-func TestNotchFloorByPerturbation(t *testing.T) {
+// TestNotchResidualByMonteCarlo: notchResidual, the first-order rms of
+// the gain at the design's zero frequency, against a Monte Carlo of the
+// stage's nodal analysis (circuit.Stage.SolveAt, which knows nothing of
+// onCoef): 3000 boards with every part uniform within its tolerance (1 %
+// resistors, 5 % capacitors), |H(jωz)|/g, rms over the boards, agrees
+// within 15 % (the sampling error of an rms over 3000 draws is about
+// 2 %; the rest is second order). Designs: series-value designs of each
+// kind.
+func TestNotchResidualByMonteCarlo(t *testing.T) {
 	t.Parallel()
 	o, err := newOptions(DefaultOptions())
 	require.NoError(t, err)
-	var designs []onParts
+	rng := rand.New(rand.NewPCG(3, 4))
 	for _, sec := range []section.Section{
-		notchSec(1000, 3, 2000, 1.2), notchSec(17.2e3, 0.86, 176e3, 1), notchSec(1000, 3, 500, 0.8), notchSec(50, 0.7, 50, 0.5),
+		notchSec(1000, 3, 2000, 1.2), notchSec(17.2e3, 0.86, 176e3, 1), notchSec(1663, 0.83, 284, 0.89), notchSec(50, 2, 50, 0.5),
 	} {
 		tg, err := newTarget(sec)
 		require.NoError(t, err)
 		d, e := oneAmpNotch(tg, o)
 		require.Nil(t, e)
-		var v onParts
-		for _, p := range d.stage.Parts {
-			switch p.Ref {
-			case "C1":
-				v.c1 = p.Value
-			case "C2":
-				v.c2 = p.Value
-			case "C3":
-				v.c3, v.c3in = p.Value, p.A == circuit.In
+		want := notchResidual(partsOf(t, d.stage), tg.wz, d.g, 1, 5)
+		var sum float64
+		const trials = 3000
+		for range trials {
+			st := d.stage
+			st.Parts = slices.Clone(st.Parts)
+			for j := range st.Parts {
+				tol := 0.01
+				if st.Parts[j].Kind == circuit.Capacitor {
+					tol = 0.05
+				}
+				st.Parts[j].Value *= 1 + tol*(2*rng.Float64()-1)
 			}
+			h, err := st.SolveAt(circuit.Model{Ideal: true}, complex(0, tg.wz))
+			require.NoError(t, err)
+			sum += sq(cmplx.Abs(h) / d.g)
 		}
-		// The resistors in build's order: R1, [R2], R3, [R4, R5], [R6].
-		var rs []circuit.Part
-		for _, p := range d.stage.Parts {
-			if p.Kind == circuit.Resistor {
-				rs = append(rs, p)
-			}
-		}
-		for _, p := range rs {
-			switch {
-			case p.A == circuit.In && p.B == "a":
-				v.r1 = p.Value
-			case p.A == "a":
-				v.r2 = p.Value
-			case p.A == "m" && p.B == "out":
-				v.r3 = p.Value
-			case p.B == "p":
-				v.r4 = p.Value
-			case p.A == "p":
-				v.r5 = p.Value
-			case p.B == "m":
-				v.r6 = p.Value
-			case p.A == "m":
-				v.r6, v.r6g = p.Value, true
-			}
-		}
-		designs = append(designs, v)
+		got := math.Sqrt(sum / trials)
+		t.Logf("%s f0 %.4g Hz Q %.3g fz %.4g Hz: residual predicted %.1f dB, Monte Carlo %.1f dB",
+			sec.Kind(), tg.w0/(2*math.Pi), tg.q, tg.wz/(2*math.Pi), 20*math.Log10(want), 20*math.Log10(got))
+		require.InEpsilon(t, want, got, 0.15)
 	}
-	checked := 0
-	for _, v := range designs {
-		_, _, g, wz, floor := onFigures(v, section.Notch)
-		if v.r2 == 0 {
-			continue // α = 1: no split to move
+}
+
+// partsOf reads the one-amplifier notch's part values back from its stage.
+func partsOf(t *testing.T, st circuit.Stage) onParts {
+	t.Helper()
+	var v onParts
+	for _, p := range st.Parts {
+		switch {
+		case p.Ref == "C1":
+			v.c1 = p.Value
+		case p.Ref == "C2":
+			v.c2 = p.Value
+		case p.Ref == "C3":
+			v.c3, v.c3in = p.Value, p.A == circuit.In
+		case p.A == circuit.In && p.B == "a":
+			v.r1 = p.Value
+		case p.A == "a":
+			v.r2 = p.Value
+		case p.A == "m" && p.B == "out":
+			v.r3 = p.Value
+		case p.B == "p":
+			v.r4 = p.Value
+		case p.A == "p":
+			v.r5 = p.Value
+		case p.B == "m":
+			v.r6 = p.Value
+		case p.A == "m":
+			v.r6, v.r6g = p.Value, true
 		}
-		checked++
-		g1a, g1 := 1/v.r1, 1/v.r1+1/v.r2
-		const delta = 1e-6
-		p := v
-		p.r1 = 1 / (g1a * (1 + delta))
-		p.r2 = 1 / (g1 - g1a*(1+delta))
-		h, err := onStage(p).SolveAt(circuit.Model{Ideal: true}, complex(0, wz))
-		require.NoError(t, err)
-		h0, err := onStage(v).SolveAt(circuit.Model{Ideal: true}, complex(0, wz))
-		require.NoError(t, err)
-		require.InEpsilon(t, floor, cmplx.Abs(h-h0)/(g*delta), 1e-3, "%+v", v)
 	}
-	require.GreaterOrEqual(t, checked, 3)
+	require.Positive(t, v.r1)
+	require.Positive(t, v.r3)
+	return v
 }
 
 // notchSec is a section with poles at f0, Q and zeros at ±j·2π·fz, with

@@ -381,11 +381,12 @@ func TestAutoRule(t *testing.T) {
 		{"bandpass", bp2(1000, 5, 1), topology.MultipleFeedback, true, []string{"bandpass", "limit"}},
 		// 60 > Q²·(1 + 10) = 44 at Q = 2: beyond the multiple-feedback limit.
 		{"bandpass high gain", bp2(1000, 2, 60), topology.StateVariable, false, []string{"exceeds the limit", "state-variable"}},
-		{"notch", notch2(1000, 4, 1000, 1), topology.StateVariable, false, []string{"jω-axis zeros", "notch floor 18.8"}},
-		{"lowpass-notch", notch2(1000, 4, 3000, 1), topology.OneAmpNotch, false, []string{"lowpass-notch", "Q 4 ≤ 5: one op-amp", "notch floor"}},
+		{"notch", notch2(1000, 4, 1000, 1), topology.StateVariable, false, []string{"jω-axis zeros", "would leave -12.4 dB at the zeros", "above the limit -30 dB"}},
+		{"lowpass-notch", notch2(1000, 4, 3000, 1), topology.OneAmpNotch, false, []string{"lowpass-notch", "Q 4 ≤ 5: one op-amp", "part tolerances leave -43.6 dB at the zeros"}},
 		// The symmetric notch at Q = 3 and gain 1.5 needs C3 to raise the
-		// high-frequency gain; its floor is about 11 > MaxNotchFloor.
-		{"notch floor", notch2(1000, 3, 1000, 1.5), topology.StateVariable, false, []string{"notch floor", "above the limit 1", "state-variable (four op-amps)"}},
+		// high-frequency gain; 1 % resistors and 5 % capacitors would leave
+		// about −11 dB at its zero, above MaxNotchResidualDB.
+		{"notch residual", notch2(1000, 3, 1000, 1.5), topology.StateVariable, false, []string{"would leave -10.7 dB at the zeros", "above the limit -30 dB", "state-variable (four op-amps)"}},
 		{"notch Q above 5", notch2(1000, 8, 1000, 1), topology.StateVariable, false, []string{"Q 8 > 5"}},
 		// Gain 2 at Q 0.6: the input split would need α > 1.
 		{"lowpass-notch gain", notch2(400, 0.6, 1500, 2), topology.StateVariable, false, []string{"α = ", "above the form's limit"}},

@@ -32,7 +32,7 @@ type options struct {
 	rties      []float64 // tieLog of each rvals entry
 	rstep      float64   // largest ratio between adjacent resistor series values
 	rname      string    // Series of the resistors ("" when exact)
-	maxFloor   float64   // bound of the one-amplifier notch's floor (+Inf unless auto)
+	maxFloor   float64   // bound of the one-amplifier notch's residual, linear (+Inf unless auto)
 }
 
 func newOptions(opt Options) (*options, error) {

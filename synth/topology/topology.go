@@ -233,7 +233,7 @@ func realizeAuto(tg target, o *options) (Result, error) {
 		tries = []try{{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d, beyond the one-op-amp notch's spread 4Q² and loop-gain need 2Q²: state-variable sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)}}
 	case hasAxisZeros(tg.kind):
 		tries = []try{
-			{OneAmpNotch, fmt.Sprintf("jω-axis zeros at %s (%s), Q %.3g ≤ %d: one op-amp, the fewest that place them within the part windows and the notch-floor limit", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
+			{OneAmpNotch, fmt.Sprintf("jω-axis zeros at %s (%s), Q %.3g ≤ %d: one op-amp, the fewest that place them within the part windows and the notch-residual limit", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
 			{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s): state-variable (four op-amps) sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind)},
 		}
 	case tg.q > AutoMaxQ:
@@ -253,10 +253,10 @@ func realizeAuto(tg target, o *options) (Result, error) {
 		}
 	}
 	var failed []string
-	// In auto the one-amplifier notch also keeps its notch floor within
-	// MaxNotchFloor.
+	// In auto the one-amplifier notch also keeps the residual that part
+	// tolerances leave at its zeros within MaxNotchResidualDB.
 	ao := *o
-	ao.maxFloor = MaxNotchFloor
+	ao.maxFloor = math.Pow(10, MaxNotchResidualDB/20.0)
 	for _, t := range tries {
 		r, e := realizeOne(tg, t.top, &ao)
 		if e != nil {
