@@ -95,6 +95,15 @@ func (d *Design) realize(ordered []section.Section) error {
 			inverting++
 		}
 	}
+	if s.Topology == topology.Auto {
+		d.keepNotchesInMask(ordered, results, opt)
+		inverting = 0
+		for _, r := range results {
+			if r.Inverting {
+				inverting++
+			}
+		}
+	}
 	// Keep the chain's polarity: an odd number of inverting stages is put
 	// right by the first-order stage's inverting form, or else by a
 	// unity-gain inverter after the last stage.
