@@ -48,7 +48,10 @@
 //     to f0 at moderate Q usually exceed it), and when series values keep
 //     its zeros within 1 % with a
 //     damping ζz ≤ 0.01, f0 within 2 % and Q within 3 %; the reason says
-//     which limit failed. Otherwise state-variable ("sums its highpass and
+//     which limit failed (package synth adds a chain-level rule: a
+//     one-op-amp notch whose zeros lie in a stop or alias band stays only
+//     while 3σ of what the tolerances leave there, times the other
+//     stages, is within the band's attenuation). Otherwise state-variable ("sums its highpass and
 //     lowpass outputs": four op-amps, but its zeros stay on the jω axis
 //     whatever the tolerances, as its sum has no bandpass term). The
 //     one-amp form's gain is also bounded (the split α ≤ 1:
