@@ -53,11 +53,20 @@ func deckCases() []synth.Spec {
 		{synth.Bandpass, "elliptic", 2, []float64{800, 1250}},
 		{synth.Bandstop, "chebyshev2", 2, []float64{300, 3000}},
 	}
-	for _, n := range notch {
-		s := baseSpec(n.resp, n.approx)
-		s.Order, s.PassbandHz, s.StopbandAttenDB = n.order, n.pass, 40
-		out = append(out, s)
+	// Each notch design twice: auto, which puts the notch sections that
+	// fit on one op-amp (one-amp-notch), and state-variable for all.
+	for _, top := range []string{"auto", "state-variable"} {
+		for _, n := range notch {
+			s := baseSpec(n.resp, n.approx)
+			s.Topology, s.Order, s.PassbandHz, s.StopbandAttenDB = top, n.order, n.pass, 40
+			out = append(out, s)
+		}
 	}
+	// The symmetric one-op-amp notch, asked for by name (its gain must
+	// stay below about 1/(1 + 1/(2Q²)) without C3).
+	s := baseSpec(synth.Bandstop, "chebyshev2")
+	s.Topology, s.Order, s.PassbandHz, s.StopbandAttenDB, s.GainDB = "one-amp-notch", 1, []float64{700, 1400}, 40, -6
+	out = append(out, s)
 	return out
 }
 
@@ -118,6 +127,32 @@ func TestDeckAgainstNgspice(t *testing.T) {
 				require.InDelta(t, own[i], 20*math.Log10(cmplx.Abs(v[i])), 0.01, "as-built magnitude at %g Hz", f)
 			}
 		})
+	}
+}
+
+// TestDeckCasesCoverOneAmpNotch: TestDeckAgainstNgspice runs one-amp-notch
+// stages of every kind (lowpass-notch, highpass-notch, notch), both with
+// exact values against the ideal transfer function and with series
+// values against the as-built response that response.realized_db is
+// computed from (ch.MagnitudeDB, the same nodal analysis).
+func TestDeckCasesCoverOneAmpNotch(t *testing.T) {
+	t.Parallel()
+	kinds := map[string]int{}
+	for _, s := range deckCases() {
+		for _, values := range []string{"series", "exact"} {
+			s.Values = values
+			d := synthesize(t, s)
+			for _, sec := range d.Sections {
+				if sec.Topology == "one-amp-notch" {
+					kinds[values+"/"+string(sec.Kind)]++
+				}
+			}
+		}
+	}
+	t.Logf("one-amp-notch stages in the decks: %v", kinds)
+	for _, k := range []string{"lowpass-notch", "highpass-notch", "notch"} {
+		require.Positive(t, kinds["series/"+k], k)
+		require.Positive(t, kinds["exact/"+k], k)
 	}
 }
 

@@ -79,7 +79,7 @@ func (d *Design) realize(ordered []section.Section) error {
 	allpassFirst := -1 // a first-order all-pass section, which can invert instead
 	for i, sec := range ordered {
 		top := s.Topology
-		switch {
+		switch k := sec.Kind(); {
 		case sec.IsAllpass():
 			top = topology.Allpass
 			if sec.Order() == 1 && allpassFirst < 0 {
@@ -87,6 +87,10 @@ func (d *Design) realize(ordered []section.Section) error {
 			}
 		case sec.Order() == 1:
 			top, firstOrder = topology.RCBuffer, i
+		case top == topology.OneAmpNotch && k != section.LowpassNotch && k != section.HighpassNotch && k != section.Notch:
+			// one-amp-notch asks for the notch sections; the others
+			// take auto's choice.
+			top = topology.Auto
 		}
 		r, err := topology.Realize(sec, top, opt)
 		if err != nil {
@@ -95,6 +99,15 @@ func (d *Design) realize(ordered []section.Section) error {
 		results[i] = r
 		if r.Inverting {
 			inverting++
+		}
+	}
+	if s.Topology == topology.Auto {
+		d.keepNotchesInMask(ordered, results, opt)
+		inverting = 0
+		for _, r := range results {
+			if r.Inverting {
+				inverting++
+			}
 		}
 	}
 	// Keep the chain's polarity: an odd number of inverting stages is put
@@ -429,13 +442,15 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 	return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
 }
 
-// axisZeroNear returns the zero of zeros in the upper half plane on the jω
-// axis (|Re z| ≤ 1e-6·|z|) nearest to j·w, or 0 when there is none.
+// axisZeroNear returns the zero of zeros in the upper half plane on or
+// next to the jω axis (|Re z| ≤ 0.01·|z|: the one-amplifier notch's part
+// rounding leaves its zeros a damping ζz of up to about 0.01) nearest to
+// j·w, or 0 when there is none.
 func axisZeroNear(zeros []complex128, w float64) complex128 {
 	var best complex128
 	dist := math.Inf(1)
 	for _, z := range zeros {
-		if imag(z) <= 0 || math.Abs(real(z)) > 1e-6*cmplx.Abs(z) {
+		if imag(z) <= 0 || math.Abs(real(z)) > 0.01*cmplx.Abs(z) {
 			continue
 		}
 		if d := math.Abs(cmplx.Abs(z) - w); d < dist {

@@ -42,7 +42,7 @@ func opAmpErrorPct(t *testing.T, st circuit.Stage, gbwHz, dcGainDB float64, sec 
 	// and the built stage's zero nearest it.
 	var zi complex128
 	for _, z := range ideal.Zeros() {
-		if imag(z) > 0 && math.Abs(real(z)) <= 1e-6*cmplx.Abs(z) &&
+		if imag(z) > 0 && math.Abs(real(z)) <= axisTol(st)*cmplx.Abs(z) &&
 			(zi == 0 || math.Abs(cmplx.Abs(z)-2*math.Pi*f0i) < math.Abs(cmplx.Abs(zi)-2*math.Pi*f0i)) {
 			zi = z
 		}
@@ -57,6 +57,16 @@ func opAmpErrorPct(t *testing.T, st circuit.Stage, gbwHz, dcGainDB float64, sec 
 		}
 	}
 	return 100 * math.Max(e, math.Abs(cmplx.Abs(nearest)/cmplx.Abs(zi)-1))
+}
+
+// axisTol is |Re z|/|z| up to which a notch stage's zero counts as on the
+// jω axis: the one-amplifier notch's rounding leaves a damping of up to
+// 0.01 (its Result.ZeroDamping, bounded in package topology's tests).
+func axisTol(st circuit.Stage) float64 {
+	if st.Topology == "one-amp-notch" {
+		return 0.01
+	}
+	return 1e-6
 }
 
 // TestOpAmpNeeds checks each stage's reported gain-bandwidth need against

@@ -319,7 +319,7 @@ func IsFieldError(err error) (*FieldError, bool) {
 var (
 	Responses      = []string{"lowpass", "highpass", "bandpass", "bandstop"}
 	Approximations = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic", "legendre", "gaussian", "linear-phase"}
-	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "auto"}
+	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "one-amp-notch", "auto"}
 	SeriesNames    = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
 	ValueModes     = []string{"series", "exact"}
 	Distributions  = []string{"uniform", "gaussian"}

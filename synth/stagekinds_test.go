@@ -24,8 +24,9 @@ type kindStage struct {
 // everyStageKind lists the labels stageKind gives, one per stage kind the
 // tool builds: the first-order forms, Sallen-Key and multiple-feedback
 // lowpass, highpass and bandpass, the state-variable forms with and
-// without the notch summer and its T-network, and stages that carry the
-// polarity inverter, and the all-pass stages of a delay equaliser.
+// without the notch summer and its T-network, the one-amplifier notch
+// forms, stages that carry the polarity inverter, and the all-pass stages
+// of a delay equaliser.
 var everyStageKind = []string{
 	"rc-buffer/lowpass", "rc-buffer/highpass", "rc-buffer/lowpass+gain",
 	"inverting-rc/lowpass", "inverting-rc/highpass",
@@ -36,6 +37,7 @@ var everyStageKind = []string{
 	"state-variable/lowpass-notch", "state-variable/highpass-notch", "state-variable/notch",
 	"state-variable/lowpass-notch+tee",
 	"allpass/allpass1", "allpass/allpass1+inverted", "allpass/allpass2", "allpass/allpass2+inverter",
+	"one-amp-notch/lowpass-notch", "one-amp-notch/highpass-notch", "one-amp-notch/notch",
 }
 
 // stageKindSpecs are designs (our own choice of specs) whose stages
@@ -73,12 +75,18 @@ func stageKindSpecs() []struct {
 		{"bandpass-2", spec(synth.Bandpass, "butterworth", 1, []float64{900, 1100}, nil)},
 		{"bandpass-4", spec(synth.Bandpass, "butterworth", 2, []float64{900, 1100}, nil)},
 		{"bandpass-2-sv", spec(synth.Bandpass, "butterworth", 1, []float64{900, 1100}, top("state-variable"))},
-		{"bandstop-2", spec(synth.Bandstop, "chebyshev2", 1, []float64{300, 3000}, nil)},
-		{"elliptic-lowpass-4", spec(synth.Lowpass, "elliptic", 4, []float64{1000}, nil)},
-		{"elliptic-highpass-4", spec(synth.Highpass, "elliptic", 4, []float64{1000}, nil)},
+		{"bandstop-2", spec(synth.Bandstop, "chebyshev2", 1, []float64{300, 3000}, top("state-variable"))},
+		{"elliptic-lowpass-4", spec(synth.Lowpass, "elliptic", 4, []float64{1000}, top("state-variable"))},
+		{"elliptic-highpass-4", spec(synth.Highpass, "elliptic", 4, []float64{1000}, top("state-variable"))},
 		{"elliptic-lowpass-2-tee", spec(synth.Lowpass, "elliptic", 2, []float64{500}, func(s *synth.Spec) {
-			s.PassbandRippleDB, s.StopbandAttenDB = 0.1, 60
+			s.PassbandRippleDB, s.StopbandAttenDB, s.Topology = 0.1, 60, "state-variable"
 		})},
+		// auto puts these notch sections on one op-amp.
+		{"bandstop-2-1amp", spec(synth.Bandstop, "chebyshev2", 1, []float64{700, 1400}, func(s *synth.Spec) {
+			s.GainDB, s.Topology = -6, "one-amp-notch"
+		})},
+		{"elliptic-lowpass-4-1amp", spec(synth.Lowpass, "elliptic", 4, []float64{1000}, nil)},
+		{"elliptic-highpass-4-1amp", spec(synth.Highpass, "elliptic", 4, []float64{1000}, nil)},
 		{"chebyshev1-lowpass-8", spec(synth.Lowpass, "chebyshev1", 8, []float64{1000}, nil)},
 		// Delay equalisers (the search's choice, checked by the kinds):
 		// a first-order all-pass; an inverted one that puts the

@@ -86,7 +86,41 @@ func stages() []namedStage {
 				capa("C1", "a", "m", 150e-9), capa("C2", "a", "bp", 27e-9),
 				res("R4", "in", "n", 14.3e3), res("R5", "bp", "n", 14e3), res("R6", "n", "out", 14.3e3)},
 			OpAmps: []circuit.OpAmp{amp("U1", gnd, "m", "bp"), amp("U2", gnd, "n", "out")}, Out: "out"}},
+		// The one-op-amp notch (package topology's oneAmpNotch): the
+		// Delyiannis-Friend core R1, R2, R3, C1, C2, the + input divider
+		// R4, R5 and the feedforward R6 and C3 in each placement.
+		{"one-amp-notch lowpass-notch", oneAmpNotch(true, true, false, true)},
+		{"one-amp-notch highpass-notch", oneAmpNotch(true, false, true, false)},
+		{"one-amp-notch notch without divider", oneAmpNotch(false, true, false, false)},
 	}
+}
+
+// oneAmpNotch is the one-op-amp notch: with divider the + input is the tap
+// p of R4, R5 (else the stage input), r6g puts R6 from m to ground (else
+// from the input), c3 adds C3, c3in from the input to m (else to ground).
+func oneAmpNotch(divider, r6g, c3, c3in bool) circuit.Stage {
+	st := circuit.Stage{Topology: "one-amp-notch",
+		Parts: []circuit.Part{res("R1", "in", "a", 5.9e3), res("R2", "a", gnd, 2.1e3), res("R3", "m", "out", 57.6e3)},
+		Out:   "out"}
+	plus := "in"
+	if divider {
+		plus = "p"
+		st.Parts = append(st.Parts, res("R4", "in", "p", 2e3), res("R5", "p", gnd, 1.1e3))
+	}
+	if r6g {
+		st.Parts = append(st.Parts, res("R6", "m", gnd, 31.6e3))
+	} else {
+		st.Parts = append(st.Parts, res("R6", "in", "m", 31.6e3))
+	}
+	st.Parts = append(st.Parts, capa("C1", "a", "out", 680e-12), capa("C2", "a", "m", 820e-12))
+	switch {
+	case c3in:
+		st.Parts = append(st.Parts, capa("C3", "in", "m", 180e-12))
+	case c3:
+		st.Parts = append(st.Parts, capa("C3", "m", gnd, 180e-12))
+	}
+	st.OpAmps = []circuit.OpAmp{amp("U1", plus, "m", "out")}
+	return st
 }
 
 func sallenKeyLowpass() circuit.Stage {

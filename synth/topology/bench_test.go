@@ -35,6 +35,7 @@ func BenchmarkRealize(b *testing.B) {
 		{"chebyshev8/multiple-feedback", cheb8, topology.MultipleFeedback, opt},
 		{"chebyshev8/state-variable", cheb8, topology.StateVariable, opt},
 		{"lowpass-notch8/auto", notch8, topology.Auto, opt},
+		{"lowpass-notch8/state-variable", notch8, topology.StateVariable, opt},
 	}
 	for _, c := range cases {
 		b.Run(c.name, func(b *testing.B) {

@@ -24,6 +24,12 @@
 //     First order on one op-amp (RC lowpass or, inverted, CR highpass into
 //     the + input, equal R1 and R2); second order on two, a
 //     multiple-feedback bandpass and a summer, A = 1 − 2·bandpass.
+//   - one-amp-notch: lowpass-notch, highpass-notch and notch on one
+//     op-amp, the Delyiannis-Friend bandpass with feedforward from the
+//     input to both op-amp inputs (Friend, Harris and Hilberman's STAR
+//     arrangement); an input split R1:R2 cancels the numerator's s term,
+//     the + input divider and a resistor and capacitor at the inverting
+//     node set the zeros and the gain.
 //
 // A stage realises the section's transfer function with a positive
 // reference gain (the section's own gain, whether above or below one: gain
@@ -38,10 +44,25 @@
 //
 //  1. First order: rc-buffer ("the simplest stage that keeps the sign"),
 //     else inverting-rc.
-//  2. jω-axis zeros (lowpass-notch, highpass-notch, notch): state-variable,
-//     the only form here that places zeros ("sums its highpass and lowpass
-//     outputs"); there is no fallback topology. Instead the state-variable
-//     stage picks its own shape for the section (see Part values): with
+//  2. jω-axis zeros (lowpass-notch, highpass-notch, notch): one-amp-notch
+//     when Q ≤ [OneAmpNotchMaxQ] (5: its core's resistor spread is at
+//     least 4Q² and its op-amp must supply a loop gain of about 2Q² at
+//     f0), when the gain that the part tolerances leave at the zero
+//     frequency (rms, first order, relative to the reference gain) is at
+//     most [MaxNotchResidualDB] (−30 dB; a symmetric notch or zeros close
+//     to f0 at moderate Q usually exceed it), and when series values keep
+//     its zeros within 1 % with a
+//     damping ζz ≤ 0.01, f0 within 2 % and Q within 3 %; the reason says
+//     which limit failed (package synth adds a chain-level rule: a
+//     one-op-amp notch whose zeros lie in a stop or alias band stays only
+//     while 3σ of what the tolerances leave there, times the other
+//     stages, is within the band's attenuation). Otherwise state-variable ("sums its highpass and
+//     lowpass outputs": four op-amps, but its zeros stay on the jω axis
+//     whatever the tolerances, as its sum has no bandpass term). The
+//     one-amp form's gain is also bounded (the split α ≤ 1:
+//     g·(ω0²/ωz² + r/Q²) ≤ 1 for a lowpass-notch without C3, r =
+//     C1/(C1 + C2)). The state-variable stage picks its own shape for the
+//     section (see Part values): with
 //     the default windows it fits zeros from 1/100 to 100 times f0, Q from
 //     0.08 to 50, f0 from 10 Hz to 100 kHz and gains from 0.3 to 3 (the
 //     range the tests sweep), and a section that no shape fits is an
@@ -68,8 +89,22 @@
 //
 // A topology asked for by name that has no form for the section's kind is
 // an error naming the kind (sallen-key has no bandpass or notch form,
-// multiple-feedback no notch form, the first-order stages no second-order
-// form).
+// multiple-feedback no notch form, one-amp-notch no lowpass, highpass or
+// bandpass form, the first-order stages no second-order form). Asked for
+// by name, one-amp-notch applies neither the residual bound nor Q ≤ 5.
+//
+// The one-amp-notch search tries capacitor pairs C2 and C1 (three values
+// at or below C2, two above: C1 < C2 leaves the split more headroom, C1 >
+// C2 lowers the noise gain 1 + Q²·(C1 + C2)/C1 at f0), and for each the
+// feed capacitor C3 (none; to ground, raising the high-frequency gain; or
+// from the input, lowering it) at the values that keep the divider ratio
+// K away from small differences; the divider is rounded first (its
+// smaller resistor near twice the window's least, for low noise), then
+// R3, R6 and the split for the values as built. Its score adds to the
+// squared errors and the zeros' damping ζz² ([Result.ZeroDamping])
+// 1e-4·ln of a noise proxy (op-amp and divider noise times the noise gain
+// at f0, R3 and R6 thermal noise) and 0.5e-4·ln of the tolerance
+// residual at the zeros.
 //
 // # Part values
 //
@@ -151,6 +186,13 @@
 //     IEEE J. Solid-State Circuits SC-2 (1967): the state-variable circuit.
 //   - T. Delyiannis (1969) and J. J. Friend (1970): the single-amplifier
 //     bandpass.
+//   - J. J. Friend, C. A. Harris and D. Hilberman, "STAR: an active
+//     biquadratic filter section", IEEE Trans. Circuits and Systems
+//     CAS-22 (1975), 115–121: the bandpass with feedforward to both
+//     op-amp inputs for the notch kinds (one-amp-notch). S. A. Boctor's
+//     single-amplifier lowpass-notch and highpass-notch circuits (IEEE
+//     Trans. CAS-22, 1975) reach the same transfer functions; this form
+//     was chosen as every constraint of it is a resistor ratio.
 //
 // All were used from memory; every equation was rederived by nodal
 // analysis and is checked in the tests against a full nodal analysis of

@@ -32,11 +32,12 @@ type options struct {
 	rties      []float64 // tieLog of each rvals entry
 	rstep      float64   // largest ratio between adjacent resistor series values
 	rname      string    // Series of the resistors ("" when exact)
+	maxFloor   float64   // bound of the one-amplifier notch's residual, linear (+Inf unless auto)
 }
 
 func newOptions(opt Options) (*options, error) {
 	def := DefaultOptions()
-	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact}
+	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact, maxFloor: math.Inf(1)}
 	if o.rs.Len() == 0 {
 		o.rs = def.ResistorSeries
 	}

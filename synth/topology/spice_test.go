@@ -30,6 +30,8 @@ func TestStagesInNgspice(t *testing.T) {
 		"multiple-feedback/lp-q4-g0.8": true, "multiple-feedback/hp-q0.7071": true, "multiple-feedback/bp-q2-g12": true,
 		"state-variable/lp-q25": true, "state-variable/hp-q3-g0.5": true, "state-variable/bp-q20-g3": true,
 		"state-variable/lowpass-notch": true, "state-variable/highpass-notch": true, "state-variable/notch-q8-g1.5": true,
+		"one-amp-notch/lowpass-notch-g1.2": true, "one-amp-notch/lowpass-notch-far": true, "one-amp-notch/highpass-notch-g0.8": true,
+		"one-amp-notch/highpass-notch-g1.3": true, "one-amp-notch/notch-q3-g1.5": true, "one-amp-notch/notch-q0.7-g0.5": true,
 	}
 	n := 0
 	for _, tc := range cases() {

@@ -20,12 +20,13 @@ const (
 	StateVariable    = "state-variable"
 	RCBuffer         = "rc-buffer"
 	InvertingRC      = "inverting-rc"
+	OneAmpNotch      = "one-amp-notch"
 )
 
 // Names returns the topology names [Realize] accepts, [Auto] first. The
 // slice is a new copy on every call.
 func Names() []string {
-	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC}
+	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch}
 }
 
 // Limits of the design rules (see the package comment).
@@ -117,6 +118,12 @@ type Result struct {
 	// the stage's jω-axis zeros against the section's (notch kinds; 0
 	// otherwise).
 	ZeroErrPct float64
+	// ZeroDamping is ζz of the stage's zeros as built (ideal op-amps):
+	// they lie at ωz·(−ζz ± j·√(1 − ζz²)). It is 0 for the state-variable
+	// stage, whose sum has no bandpass term, and for every exact design;
+	// the one-amplifier notch cancels its numerator's s term by a resistor
+	// ratio, so rounding leaves a small ζz of either sign.
+	ZeroDamping float64
 }
 
 // Sentinel errors wrapped by [Error].
@@ -188,7 +195,7 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 	switch topology {
 	case Auto:
 		return realizeAuto(tg, o)
-	case SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC:
+	case SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch:
 		r, e := realizeOne(tg, topology, o)
 		if e != nil {
 			return Result{}, e
@@ -217,6 +224,8 @@ func realizeOne(tg target, top string, o *options) (Result, *Error) {
 		d, e = multipleFeedback(tg, o)
 	case StateVariable:
 		d, e = stateVariable(tg, o)
+	case OneAmpNotch:
+		d, e = oneAmpNotch(tg, o)
 	}
 	if e != nil {
 		return Result{}, e
@@ -235,8 +244,13 @@ func realizeAuto(tg target, o *options) (Result, error) {
 			{RCBuffer, "first order: RC and a non-inverting buffer, the simplest stage that keeps the sign"},
 			{InvertingRC, "first order: inverting RC stage"},
 		}
+	case hasAxisZeros(tg.kind) && tg.q > OneAmpNotchMaxQ:
+		tries = []try{{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d, beyond the one-op-amp notch's spread 4Q² and loop-gain need 2Q²: state-variable sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)}}
 	case hasAxisZeros(tg.kind):
-		tries = []try{{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s): state-variable sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind)}}
+		tries = []try{
+			{OneAmpNotch, fmt.Sprintf("jω-axis zeros at %s (%s), Q %.3g ≤ %d: one op-amp, the fewest that place them within the part windows and the notch-residual limit", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
+			{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s): state-variable (four op-amps) sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind)},
+		}
 	case tg.q > AutoMaxQ:
 		why := fmt.Sprintf("Q %.3g > %d: state-variable keeps Q insensitive to part spread", tg.q, AutoMaxQ)
 		tries = []try{{StateVariable, why}, {MultipleFeedback, "Q above 10, single-amplifier fallback: multiple-feedback"}, {SallenKey, "Q above 10, single-amplifier fallback: Sallen-Key"}}
@@ -254,8 +268,12 @@ func realizeAuto(tg target, o *options) (Result, error) {
 		}
 	}
 	var failed []string
+	// In auto the one-amplifier notch also keeps the residual that part
+	// tolerances leave at its zeros within MaxNotchResidualDB.
+	ao := *o
+	ao.maxFloor = math.Pow(10, MaxNotchResidualDB/20.0)
 	for _, t := range tries {
-		r, e := realizeOne(tg, t.top, o)
+		r, e := realizeOne(tg, t.top, &ao)
 		if e != nil {
 			failed = append(failed, e.Error())
 			continue
@@ -277,6 +295,7 @@ type design struct {
 	inverting bool
 	w0, q, g  float64 // realised pole ω0, Q and reference gain magnitude
 	wz        float64 // realised jω-axis zero frequency, notch kinds
+	zdamp     float64 // realised ζz of the zeros (one-amplifier notch)
 }
 
 func (d design) result(tg target) Result {
@@ -292,6 +311,7 @@ func (d design) result(tg target) Result {
 	}
 	if hasAxisZeros(tg.kind) {
 		r.ZeroErrPct = 100 * (d.wz/tg.wz - 1)
+		r.ZeroDamping = d.zdamp
 	}
 	return r
 }
