@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
 	"slices"
 
 	"github.com/polewright/polewright/standards/eseries"
@@ -154,10 +153,10 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	if d.Step != nil {
 		t = d.Step.TimeS
 	}
-	// up[f] is the response of the stages before the current one.
-	up := make([]complex128, len(freq))
-	for i := range up {
-		up[i] = 1
+	// up2[f] is the squared magnitude of the stages before the current one.
+	up2 := make([]float64, len(freq))
+	for i := range up2 {
+		up2[i] = 1
 	}
 	var upSteps []step.Stage
 	dcUp := 1.0
@@ -201,11 +200,14 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			n := SwingNode{Node: ch.Node(stage, p.local), Ref: ch.Ref(stage, p.ref), Pin: p.pin}
 			// At DC first: the response grid starts above it.
 			n.GainMax = math.Abs(real(r.At(0)) * dcUp)
+			g2 := n.GainMax * n.GainMax
 			for i, f := range freq {
-				if g := cmplx.Abs(up[i] * r.AtHz(f)); g > n.GainMax {
-					n.GainMax, n.PeakHz = g, f
+				h := r.AtHz(f)
+				if v := up2[i] * (real(h)*real(h) + imag(h)*imag(h)); v > g2 {
+					g2, n.PeakHz = v, f
 				}
 			}
+			n.GainMax = math.Sqrt(g2)
 			n.SineV = [2]float64{ref - amp*n.GainMax, ref + amp*n.GainMax}
 			n.PeakV = n.SineV
 			if len(t) > 1 {
@@ -222,10 +224,16 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 				if err == nil && allFinite(y) {
 					h0 := dcUp * real(r.At(0))
 					lo, hi := ref-amp*h0, ref-amp*h0
+					ymin, ymax := y[0], y[0]
 					for _, v := range y {
-						v = ref - amp*h0 + 2*amp*v
-						lo, hi = math.Min(lo, v), math.Max(hi, v)
+						if v < ymin {
+							ymin = v
+						} else if v > ymax {
+							ymax = v
+						}
 					}
+					lo = math.Min(lo, ref-amp*h0+2*amp*ymin)
+					hi = math.Max(hi, ref-amp*h0+2*amp*ymax)
 					n.StepV = &[2]float64{lo, hi}
 					n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
 				}
@@ -246,7 +254,8 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		}
 		d.Sections[k].Swing = sw
 		for i, f := range freq {
-			up[i] *= tfs[k].AtHz(f)
+			h := tfs[k].AtHz(f)
+			up2[i] *= real(h)*real(h) + imag(h)*imag(h)
 		}
 		upSteps = append(upSteps, step.FromRational(tfs[k]))
 		dcUp *= real(tfs[k].At(0))

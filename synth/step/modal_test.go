@@ -38,21 +38,29 @@ func TestModalResponseMatchesResponse(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			tS := step.Grid(0.02, 400)
-			y, err := step.ModalResponse(tc.stages, tS)
-			if tc.ill {
-				require.True(t, errors.Is(err, step.ErrIllConditioned), "%v", err)
-				return
+			// A uniform grid (the recurrence) and a graded one (one
+			// exponential per term and time).
+			graded := make([]float64, 300)
+			for i := range graded {
+				x := float64(i) / 299
+				graded[i] = 0.02 * x * x
 			}
-			require.NoError(t, err)
-			want, err := step.Response(tc.stages, tS)
-			require.NoError(t, err)
-			scale := 0.0
-			for _, v := range want {
-				scale = math.Max(scale, math.Abs(v))
-			}
-			for i := range tS {
-				require.InDelta(t, want[i], y[i], 1e-9*scale, "t = %g s", tS[i])
+			for _, tS := range [][]float64{step.Grid(0.02, 400), graded} {
+				y, err := step.ModalResponse(tc.stages, tS)
+				if tc.ill {
+					require.True(t, errors.Is(err, step.ErrIllConditioned), "%v", err)
+					return
+				}
+				require.NoError(t, err)
+				want, err := step.Response(tc.stages, tS)
+				require.NoError(t, err)
+				scale := 0.0
+				for _, v := range want {
+					scale = math.Max(scale, math.Abs(v))
+				}
+				for i := range tS {
+					require.InDelta(t, want[i], y[i], 1e-9*scale, "t = %g s", tS[i])
+				}
 			}
 		})
 	}
