@@ -144,14 +144,23 @@ func BenchmarkSynthesizeBoard(b *testing.B) {
 		s.OpAmp.OffsetV, s.OpAmp.BiasA = 1e-3, 50e-9
 		s.OpAmp.InputCapacitanceFarad, s.OpAmp.OutputResistanceOhm = 3e-12, 50
 		s.OpAmp.NoiseCornerHz = 100
-		b.Run(bs.name, func(b *testing.B) {
-			b.ReportAllocs()
-			ctx := context.Background()
-			for b.Loop() {
-				if _, err := synth.Synthesize(ctx, s); err != nil {
-					b.Fatal(err)
+		// -dc: the same without the parasitics (input capacitance,
+		// output resistance), which enlarge every stage's circuit.
+		dc := s
+		dc.OpAmp.InputCapacitanceFarad, dc.OpAmp.OutputResistanceOhm = 0, 0
+		for _, v := range []struct {
+			name string
+			spec synth.Spec
+		}{{bs.name, s}, {bs.name + "-dc", dc}} {
+			b.Run(v.name, func(b *testing.B) {
+				b.ReportAllocs()
+				ctx := context.Background()
+				for b.Loop() {
+					if _, err := synth.Synthesize(ctx, v.spec); err != nil {
+						b.Fatal(err)
+					}
 				}
-			}
-		})
+			})
+		}
 	}
 }
