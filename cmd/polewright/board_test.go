@@ -25,6 +25,10 @@ import (
 // own with every field of the board issue set: rails, reference, signal,
 // headrooms, offset, bias current, input capacitance, output resistance.
 var boardSpecs = []struct{ name, spec string }{
+	{"one-op-amp notches and all-pass equaliser on 5 V", `{"approximation": "elliptic", "passband_hz": 1000, "stopband_hz": 3000, "stopband_atten_db": 30,
+	  "topology": "one-amp-notch", "delay_equalizer": {"max_spread_pct": 5}, "supply": {"positive_v": 5}, "signal_vpp": 3,
+	  "opamp": {"gbw_hz": 5e6, "offset_v": 1e-3, "bias_a": 100e-9, "input_capacitance_farad": 3e-12, "output_resistance_ohm": 50},
+	  "converter": {"bits": 16, "sample_rate_hz": 20000, "full_scale_vpp": 3}}`},
 	{"sallen-key 5 V strain channel", `{"approximation": "butterworth", "passband_hz": 1000, "stopband_hz": 4000, "stopband_atten_db": 40,
 	  "topology": "sallen-key", "supply": {"positive_v": 5, "negative_v": 0},
 	  "opamp": {"gbw_hz": 1e6, "offset_v": 1e-3, "bias_a": 100e-9, "output_headroom_v": 0.1,
