@@ -38,6 +38,9 @@ func FuzzSynthesize(f *testing.F) {
 		`{"passband_hz": 1e-3, "stopband_hz": 1.0001e-3, "approximation": "elliptic"}`,
 		`{"response": "bandpass", "passband_hz": [1e7, 1.00001e7], "order": 20, "approximation": "elliptic", "delay_equalizer": {"max_spread_pct": 0.01}}`,
 		`{"passband_hz": 1e8, "order": 20, "approximation": "chebyshev1", "delay_equalizer": {"max_spread_pct": 100}}`,
+		`{"passband_hz": 1000, "order": 8, "approximation": "elliptic", "supply": {"positive_v": 5}, "opamp": {"gbw_hz": 1e3, "offset_v": 0.1, "bias_a": 1e-3, "input_capacitance_farad": 1e-9, "output_resistance_ohm": 1e4, "noise_corner_hz": 1e6}}`,
+		`{"passband_hz": 1e-3, "order": 4, "supply": {"positive_v": 100, "negative_v": -100, "reference_v": 99.999}, "signal_vpp": 200, "opamp": {"ideal": true, "output_resistance_ohm": 1e4, "input_capacitance_farad": 1e-9}}`,
+		`{"response": "bandstop", "passband_hz": [40, 60], "stopband_hz": [49, 51], "supply": {"positive_v": 3.3}, "opamp": {"output_headroom_v": 1.6, "input_headroom_v": -50}}`,
 		`{"passband_hz": 1e-3, "order": 1, "delay_equalizer": {"max_spread_pct": 0.01}}`,
 		`{"response": "bandpass", "passband_hz": [0.001, 1e8], "order": 3, "delay_equalizer": {"max_spread_pct": 1}}`,
 		`{"passband_hz": 1000, "order": 20, "approximation": "gaussian"}`,
@@ -120,6 +123,12 @@ func FuzzDesignFinite(f *testing.F) {
 		`{"approximation": "linear-phase", "order": 20, "passband_hz": 1000, "phase_error_deg": 0.01, "passband_ripple_db": 0.001}`,
 		`{"response": "bandstop", "approximation": "legendre", "order": 20, "passband_hz": [500, 2000], "stopband_hz": [800, 1250], "passband_ripple_db": 0.01, ` + wide + `}`,
 		`{"response": "bandpass", "approximation": "gaussian", "order": 20, "passband_hz": [900, 1100], "passband_ripple_db": 20, "stopband_atten_db": 60, ` + wide + `}`,
+		// The board at its extremes: rails, every op-amp parasitic and DC
+		// error at its bound, an ideal op-amp with parasitics.
+		`{"response": "bandstop", "approximation": "elliptic", "order": 12, "passband_hz": [500, 2000], "stopband_hz": [800, 1250], "supply": {"positive_v": 5},
+		  "opamp": {"gbw_hz": 1e6, "offset_v": 0.1, "bias_a": 1e-3, "input_capacitance_farad": 1e-9, "output_resistance_ohm": 1e4, "noise_corner_hz": 1e6}, ` + conv + `}`,
+		`{"response": "highpass", "approximation": "chebyshev2", "order": 6, "passband_hz": 1000, "supply": {"positive_v": 1, "negative_v": -1},
+		  "opamp": {"ideal": true, "input_capacitance_farad": 1e-9, "output_resistance_ohm": 1e4}, "signal_vpp": 200}`,
 	} {
 		f.Add([]byte(s))
 	}
