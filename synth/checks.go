@@ -34,6 +34,7 @@ const (
 	CheckSwing     = "swing"
 	CheckInput     = "input-range"
 	CheckDCError   = "dc-error"
+	CheckDelay     = "delay-spread"
 )
 
 // Check is one verdict on a design: what was judged, the figure it came
@@ -128,6 +129,11 @@ func (d *Design) fillChecks() {
 	}
 	if c, ok := d.dcErrorCheck(); ok {
 		d.Checks = append(d.Checks, c)
+	}
+	if e := d.DelayEqualizer; e != nil {
+		ok := e.SpreadPct <= e.TargetPct
+		text := fmt.Sprintf("%d all-pass section(s) bring the passband's group-delay spread from %.3g %% to %.3g %% of its mean (at most %g %% asked).", e.Sections, e.FilterSpreadPct, e.SpreadPct, e.TargetPct)
+		d.Checks = append(d.Checks, newCheck(CheckDelay, ok, SeverityError, e.SpreadPct, e.TargetPct, "%", 0, text))
 	}
 	d.Checks = append(d.Checks, d.cautionChecks()...)
 }

@@ -89,12 +89,15 @@ type Design struct {
 	// MarginSearch says which design margin a spec with target_yield
 	// chose and why; nil without target_yield.
 	MarginSearch *MarginSearch `json:"margin_search,omitempty"`
+	// DelayEqualizer is what the delay equaliser did (nil without one).
+	DelayEqualizer *DelayEqualizerReport `json:"delay_equalizer,omitempty"`
 	// DC is the output's DC error from the op-amps' offsets and bias
 	// currents (nil before verification).
 	DC *DCReport `json:"dc,omitempty"`
 
 	tf       zpk.ZPK
 	eqNote   string // what the delay equaliser did, said in its sections' reasons
+	eqFig    *DelayEqualizerReport
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
 }
@@ -430,12 +433,13 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	}
 
 	eqNote := ""
+	var eqFig *DelayEqualizerReport
 	if s.DelayEqualizer != nil {
-		eq, note, err := equalizeDelay(ctx, s, section.Cascade(ordered))
+		eq, note, fig, err := equalizeDelay(ctx, s, section.Cascade(ordered))
 		if err != nil {
 			return nil, nil, err
 		}
-		eqNote = note
+		eqNote, eqFig = note, fig
 		last := 0.0 // an all-pass stage passes its input's peak on unchanged
 		if len(peaks) > 0 {
 			last = peaks[len(peaks)-1]
@@ -446,7 +450,7 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 		}
 	}
 
-	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask, eqNote: eqNote}
+	d := &Design{Spec: s, Order: order, Gain: gain, Mask: mask, eqNote: eqNote, DelayEqualizer: eqFig}
 	d.tf = section.Cascade(ordered)
 	for i, sec := range ordered {
 		d.Sections = append(d.Sections, newSection(sec, peaks[i]))
@@ -466,7 +470,7 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 // h's group delay over the passband within the spec's delay_equalizer
 // (see package equalize), with a sentence that says what they do, or a
 // field error when none of up to equalize.MaxSections sections can.
-func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, string, error) {
+func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, string, *DelayEqualizerReport, error) {
 	lo, hi := 0.0, s.PassbandHz[0]
 	if s.Response == Bandpass {
 		lo, hi = s.PassbandHz[0], s.PassbandHz[1]
@@ -475,15 +479,28 @@ func equalizeDelay(ctx context.Context, s Spec, h zpk.ZPK) ([]section.Section, s
 	var le *equalize.LimitError
 	switch {
 	case errors.As(err, &le):
-		return nil, "", fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
+		return nil, "", nil, fieldErr("delay_equalizer.max_spread_pct", "%v; ask for a spread of %.4g %% or more, or a filter with a flatter delay (bessel)", err, math.Ceil(le.BestPct*100)/100)
 	case err != nil && ctx.Err() != nil:
-		return nil, "", err
+		return nil, "", nil, err
 	case err != nil:
-		return nil, "", fieldErr("delay_equalizer", "%v", err)
+		return nil, "", nil, fieldErr("delay_equalizer", "%v", err)
 	}
 	note := fmt.Sprintf("delay equaliser: %d all-pass section(s) bring the passband's group-delay spread from %.3g %% to %.3g %% of its mean (asked: at most %g %%)",
 		len(res.Sections), res.FilterSpreadPct, res.SpreadPct, s.DelayEqualizer.MaxSpreadPct)
-	return res.Sections, note, nil
+	fig := &DelayEqualizerReport{Sections: len(res.Sections), FilterSpreadPct: res.FilterSpreadPct,
+		SpreadPct: res.SpreadPct, TargetPct: s.DelayEqualizer.MaxSpreadPct, BandHz: [2]float64{lo, hi}}
+	return res.Sections, note, fig, nil
+}
+
+// DelayEqualizerReport is what the delay equaliser did: the passband's
+// group-delay spread, (max − min)/mean in %, of the filter alone and with
+// its all-pass sections (of the designed sections), against the target.
+type DelayEqualizerReport struct {
+	Sections        int        `json:"sections"`
+	FilterSpreadPct float64    `json:"filter_spread_pct"`
+	SpreadPct       float64    `json:"spread_pct"`
+	TargetPct       float64    `json:"target_pct"`
+	BandHz          [2]float64 `json:"band_hz"`
 }
 
 // needed returns the order MinOrder found or, for an *proto.OrderError,
