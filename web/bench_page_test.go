@@ -145,7 +145,7 @@ func TestBenchFieldsRoundTrip(t *testing.T) {
 		"converter_sample_rate_hz": {"48k"}, "converter_bits": {"16"}, "converter_full_scale_vpp": {"4"},
 		"adc_rate_hz": {""}, "adc_bits": {""}, "adc_band_hz": {""}, "order": {""},
 	}
-	first := do(t, h, "GET", "/design?"+form.Encode(), "")
+	first := followClean(t, h, "/design?"+form.Encode())
 	require.Equal(t, http.StatusOK, first.Code, first.Body.String())
 	spec := specOf(t, first.Body.String())
 	for _, want := range []string{

@@ -8,6 +8,7 @@ import (
 	"log/slog"
 	"net/http"
 	"net/http/httptest"
+	"net/url"
 	"regexp"
 	"strings"
 	"sync"
@@ -141,4 +142,22 @@ func newRequest(method, target string, body io.Reader) *http.Request {
 	req := httptest.NewRequest(method, target, body)
 	req.Host = "localhost"
 	return req
+}
+
+// followClean requests a form submission's target (every field, most of
+// them empty), checks that the workbench answers 303 with the permalink
+// that carries no empty parameter, and returns the response to that.
+func followClean(t testing.TB, h http.Handler, target string) *httptest.ResponseRecorder {
+	t.Helper()
+	rec := do(t, h, http.MethodGet, target, "")
+	require.Equal(t, http.StatusSeeOther, rec.Code, rec.Body.String())
+	loc := rec.Header().Get("Location")
+	u, err := url.Parse(loc)
+	require.NoError(t, err)
+	for k, vs := range u.Query() {
+		for _, v := range vs {
+			require.NotEmpty(t, v, "parameter %s of %s", k, loc)
+		}
+	}
+	return do(t, h, http.MethodGet, loc, "")
 }

@@ -51,6 +51,15 @@ func (h *handler) home(w http.ResponseWriter, r *http.Request) {
 // design serves the result page of the spec in the query, or the form with
 // the error beside its field (400).
 func (h *handler) design(w http.ResponseWriter, r *http.Request) {
+	// A submitted form carries every field, most of them empty: answer
+	// with the permalink that carries only the fields given, so that the
+	// address bar, the history and a bookmark hold the clean one.
+	if q := r.URL.Query(); hasEmptyParam(q) && (r.Method == http.MethodGet || r.Method == http.MethodHead) {
+		if vals, err := readQuery(q); err == nil {
+			http.Redirect(w, r, "/design?"+canonicalQuery(vals), http.StatusSeeOther)
+			return
+		}
+	}
 	vals, d, ok := h.designFromQuery(w, r)
 	if !ok {
 		return
@@ -427,4 +436,17 @@ func downloadLink(d *synth.Design, kind, query string) components.Link {
 		Download: export.DesignFileName(d, kind),
 		Kind:     kind,
 	}
+}
+
+// hasEmptyParam reports whether a query has a parameter with an empty
+// value.
+func hasEmptyParam(q url.Values) bool {
+	for _, vs := range q {
+		for _, v := range vs {
+			if v == "" {
+				return true
+			}
+		}
+	}
+	return false
 }

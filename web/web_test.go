@@ -290,7 +290,7 @@ func TestPermalinkRoundTrip(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			first := do(t, h, "GET", "/design?"+tc.form.Encode(), "")
+			first := followClean(t, h, "/design?"+tc.form.Encode())
 			require.Equal(t, http.StatusOK, first.Code, first.Body.String())
 			page := first.Body.String()
 			wantSpec := specOf(t, page)
