@@ -123,8 +123,10 @@ func TestBrowser(t *testing.T) {
 	step(t, ctx, "open the form", chromedp.Navigate(srv.URL+"/"))
 	step(t, ctx, "fill the form", chromedp.Steps(
 		setField("f-approximation", "chebyshev1"),
-		setField("f-passband_hz", ""),
+		// The passband is left at the form's initial 1000 Hz: the helper
+		// must make it the signal band, not keep it.
 		setField("f-passband_ripple_db", "0.1"),
+		setField("f-converter_full_scale_vpp", "4"),
 		setField("f-opamp_gbw_hz", "50e6"),
 		setField("f-montecarlo_trials", "300"),
 		chromedp.SendKeys(chromedp.CSS("#f-adc_rate_hz"), "200000"),
@@ -136,6 +138,8 @@ func TestBrowser(t *testing.T) {
 	require.Equal(t, "180000", step(t, ctx, "stopband", chromedp.Value(chromedp.CSS("#f-stopband_hz"))))
 	require.Equal(t, "110.12", step(t, ctx, "attenuation", chromedp.Value(chromedp.CSS("#f-stopband_atten_db"))))
 	require.Equal(t, "20000", step(t, ctx, "passband", chromedp.Value(chromedp.CSS("#f-passband_hz"))))
+	require.Equal(t, "200000", step(t, ctx, "converter rate", chromedp.Value(chromedp.CSS("#f-converter_sample_rate_hz"))))
+	require.Equal(t, "18", step(t, ctx, "converter bits", chromedp.Value(chromedp.CSS("#f-converter_bits"))))
 	require.Contains(t, step(t, ctx, "fill note", chromedp.Text(chromedp.CSS("#fill-status"))), "Filled")
 	require.NotContains(t, step(t, ctx, "no round trip", chromedp.Location()), "fill=1", "the embedded script filled the form in place")
 	unlabelled := step(t, ctx, "labels", chromedp.Evaluate[int](

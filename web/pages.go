@@ -282,7 +282,7 @@ func missingConverterField(vals formValues) string {
 }
 
 // helperNote explains the converter helper on the form.
-const helperNote = "For an anti-alias lowpass in front of a converter: the stopband edge becomes " +
+const helperNote = "For an anti-alias lowpass in front of a converter: the passband edge becomes the signal bandwidth fb, the stopband edge " +
 	"fs − fb (the lowest frequency that folds back into the signal band) and the attenuation " +
 	"6.02·N + 1.76 dB (the ideal N-bit quantisation SNR, common practice). Both stay editable. " +
 	"An empty sample rate or resolution is taken from the converter fields above."
@@ -340,12 +340,22 @@ func applyHelper(vals formValues) (map[string]string, string) {
 	// 6.02·N + 1.76 dB, the SNR of an ideal N-bit quantiser for a full-scale
 	// sine (common practice), rounded to 0.01 dB as the form shows it.
 	atten := math.Round((6.02*bits+1.76)*100) / 100
+	// The signal band is the passband: a passband left at another edge
+	// (the form's initial 1000 Hz, say) would design a filter for a band
+	// the converter is not asked to carry.
+	vals["passband_hz"] = plain(fb)
 	vals["stopband_hz"] = plain(fs - fb)
 	vals["stopband_atten_db"] = plain(atten)
-	if strings.TrimSpace(vals["passband_hz"]) == "" {
-		vals["passband_hz"] = plain(fb)
+	// The converter fields take the helper's rate and resolution, so that
+	// the design carries the converter (alias band, LSB, noise) without
+	// typing them twice.
+	vals["converter_sample_rate_hz"] = plain(fs)
+	vals["converter_bits"] = plain(bits)
+	note := fmt.Sprintf("Filled: passband edge %s Hz, stopband edge %s Hz, attenuation %s dB, and the converter's sample rate and resolution.", plain(fb), plain(fs-fb), plain(atten))
+	if strings.TrimSpace(vals["converter_full_scale_vpp"]) == "" {
+		note += " Give the converter's full scale too (its three fields go together)."
 	}
-	return nil, fmt.Sprintf("Filled: stopband edge %s Hz, attenuation %s dB. Edit them if you like, then design.", plain(fs-fb), plain(atten))
+	return nil, note + " Edit them if you like, then design."
 }
 
 // buildForm is the form view of vals, with msgs beside their controls.

@@ -451,9 +451,13 @@ func TestConverterHelper(t *testing.T) {
 		// 200 kHz − 20 kHz = 180 kHz; 6.02·18 + 1.76 = 110.12 dB (common practice).
 		{"18-bit 200 kHz", "fill=1&adc_rate_hz=200000&adc_bits=18&adc_band_hz=20000&passband_hz=&response=lowpass", 200,
 			[]string{`name="stopband_hz" value="180000"`, `name="stopband_atten_db" value="110.12"`, `name="passband_hz" value="20000"`, "Filled:"}},
-		// 48 kHz − 20 kHz = 28 kHz; 6.02·16 + 1.76 = 98.08 dB; a given passband stays.
-		{"16-bit audio keeps passband", "fill=1&adc_rate_hz=48000&adc_bits=16&adc_band_hz=20000&passband_hz=18000", 200,
-			[]string{`name="stopband_hz" value="28000"`, `name="stopband_atten_db" value="98.08"`, `name="passband_hz" value="18000"`}},
+		// 48 kHz − 20 kHz = 28 kHz; 6.02·16 + 1.76 = 98.08 dB; the signal
+		// band becomes the passband (the form's initial 1000 Hz, or any
+		// other edge, would design for a band the converter does not
+		// carry), and the rate and bits go into the converter fields.
+		{"16-bit audio sets the passband and the converter", "fill=1&adc_rate_hz=48000&adc_bits=16&adc_band_hz=20000&passband_hz=1000", 200,
+			[]string{`name="stopband_hz" value="28000"`, `name="stopband_atten_db" value="98.08"`, `name="passband_hz" value="20000"`,
+				`name="converter_sample_rate_hz" value="48000"`, `name="converter_bits" value="16"`, "full scale too"}},
 		{"band above half the rate", "fill=1&adc_rate_hz=48000&adc_bits=16&adc_band_hz=30000", 400,
 			[]string{`data-testid="error-adc_band_hz"`, "half the sample rate"}},
 		{"missing bits", "fill=1&adc_rate_hz=48000&adc_band_hz=20000", 400, []string{`data-testid="error-adc_bits"`}},

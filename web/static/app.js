@@ -148,13 +148,19 @@
     // 6.02·N + 1.76 dB: the quantisation SNR of an ideal N-bit converter
     // for a full-scale sine (common practice), rounded to 0.01 dB.
     set("stopband_atten_db", String(Math.round((6.02 * bits + 1.76) * 100) / 100));
-    if (value("passband_hz") === "") {
-      set("passband_hz", String(fb));
-    }
+    // The signal band is the passband, and the converter fields take the
+    // rate and resolution (as the server does).
+    set("passband_hz", String(fb));
+    set("converter_sample_rate_hz", String(fs));
+    set("converter_bits", String(bits));
     var note = document.getElementById("fill-status");
     if (note) {
-      note.textContent = "Filled: stopband edge " + String(fs - fb) + " Hz, attenuation " +
-        String(Math.round((6.02 * bits + 1.76) * 100) / 100) + " dB. Edit them if you like, then design.";
+      var text = "Filled: passband edge " + String(fb) + " Hz, stopband edge " + String(fs - fb) + " Hz, attenuation " +
+        String(Math.round((6.02 * bits + 1.76) * 100) / 100) + " dB, and the converter's sample rate and resolution.";
+      if (value("converter_full_scale_vpp") === "") {
+        text += " Give the converter's full scale too (its three fields go together).";
+      }
+      note.textContent = text + " Edit them if you like, then design.";
     }
   });
 })();
