@@ -94,7 +94,7 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 			return nil, invalidf("no node %q", node)
 		}
 	}
-	nOps, realCaps := len(st.OpAmps), st.capacitors()
+	own := st
 	st, t = st.withParasitics(m, t)
 	scale, _ := stageScale(st, m)
 	sys := compile(st, m, t, scale)
@@ -131,7 +131,7 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 			c[j] /= d
 		}
 	}
-	order := SectionOrderOf(len(trimPoly(den))-1, nOps, realCaps, m)
+	order := own.SectionOrderOf(len(trimPoly(den))-1, m)
 	out := make([]Rational, len(nodes))
 	for i := range nodes {
 		out[i] = Rational{Num: trimPoly(coef[1+i]), Den: trimPoly(slices.Clone(den)), ScaleRadPerSec: scale, SectionOrder: order}
@@ -148,7 +148,7 @@ func (st Stage) transferFunction(m Model, t *nodeTable, scale float64) (Rational
 // nodeTransfer is transferFunction to the voltage of any node of the
 // stage.
 func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
-	realCaps := st.capacitors()
+	own := st
 	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)
 	if scale == 0 {
@@ -184,7 +184,7 @@ func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) 
 		}
 	}
 	r := Rational{Num: trimPoly(num), Den: trimPoly(den), ScaleRadPerSec: scale}
-	r.SectionOrder = SectionOrderOf(len(r.Den)-1, len(st.OpAmps), realCaps, m)
+	r.SectionOrder = own.SectionOrderOf(len(r.Den)-1, m)
 	return r, nil
 }
 
@@ -556,27 +556,22 @@ func (lt *logTerms) best(j int) (x, ratio float64) {
 	return x, math.Exp(best)
 }
 
-// capacitors returns the number of the stage's capacitors.
-func (st Stage) capacitors() int {
-	n := 0
-	for _, p := range st.Parts {
-		if p.Kind == Capacitor {
-			n++
-		}
-	}
-	return n
-}
-
-// SectionOrderOf returns the section order of a stage's transfer function
-// whose denominator has degree deg: deg less one pole per single-pole
-// op-amp (nOps), and at most the stage's own capacitors (caps), so that
-// the poles the model's parasitics add (input capacitance behind an output
-// resistance) do not count as the section's.
-func SectionOrderOf(deg, nOps, caps int, m Model) int {
+// SectionOrderOf returns the section order of the stage's transfer
+// function whose denominator has degree deg under model m: deg less one
+// pole per single-pole op-amp, and at most the stage's own capacitors, so
+// that the poles the model's parasitics add (input capacitance behind an
+// output resistance) do not count as the section's.
+func (st Stage) SectionOrderOf(deg int, m Model) int {
 	if !m.Ideal {
-		deg -= nOps
+		deg -= len(st.OpAmps)
 	}
 	if m.HasParasitics() {
+		caps := 0
+		for _, p := range st.Parts {
+			if p.Kind == Capacitor {
+				caps++
+			}
+		}
 		deg = min(deg, caps)
 	}
 	return max(0, deg)

@@ -194,7 +194,7 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 			Num:            make([]float64, sm.degNum+1),
 			Den:            make([]float64, sm.degDen+1),
 			ScaleRadPerSec: sm.scale,
-			SectionOrder:   circuit.SectionOrderOf(sm.degDen, sm.nOps, ownCaps(st), m),
+			SectionOrder:   st.SectionOrderOf(sm.degDen, m),
 		}
 		evalExpansion(sm.num, r.Num, sm.y0, alpha, beta)
 		evalExpansion(sm.den, r.Den, sm.y0, alpha, beta)
@@ -533,15 +533,4 @@ func evalExpansion(e expansion, c []float64, y []float64, alpha float64, beta []
 			}
 		}
 	}
-}
-
-// ownCaps returns the number of a stage's own capacitors.
-func ownCaps(st circuit.Stage) int {
-	n := 0
-	for _, p := range st.Parts {
-		if p.Kind == circuit.Capacitor {
-			n++
-		}
-	}
-	return n
 }
