@@ -87,9 +87,10 @@ type SpiceOptions struct {
 	Supply *SpiceSupply
 }
 
-// OpDataFile is the file the deck's operating-point analysis writes (the
-// DC voltage of out, twice, as a one-row table) when SpiceOptions.Supply
-// is set or the model has an offset or a bias current.
+// OpDataFile is the file the deck's operating-point analysis writes (one
+// row: the operating-point plot's first vector, then v(out), the last
+// column) when SpiceOptions.Supply is set or the model has an offset or a
+// bias current; the deck also prints v(out).
 const OpDataFile = "op.data"
 
 // SpiceSupply describes the board's supply for the deck (see
@@ -410,6 +411,18 @@ func checkDataFile(field, name string) error {
 // at the simulator's time points, again as a complex vector with zero
 // imaginary part, to Transient.DataFile. The AC data file is always the
 // first one written; the analyses run in the order ac, noise, tran.
+//
+// The model's parasitics and DC errors go into the subcircuit: Cinp and
+// Cinn (input capacitance to ground), Rout (open-loop output resistance,
+// noiseless, between the amplifier and the out pin), Vos (the offset, in
+// series with the sensed + input) and Ibp, Ibn (bias currents into each
+// input); with an offset or a bias current the .control block also runs
+// `op` and writes v(out) to [OpDataFile]. With opt.Supply (see
+// [SpiceSupply]) the deck has Vpos, Vneg and Vref, every ground connection
+// of the filter (and the source's low side) on node ref, the subcircuit's
+// gain referred to ref (a fourth pin), a smooth output limiter and a
+// .nodeset of the integrators at the reference; with Noise.CornerHz the
+// noise sources carry 1/f noise (see writeFlicker).
 //
 // Values are written in exponent form with at least 12 significant digits
 // and as many as the exact float64 needs (see the package documentation),
