@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+	"strings"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
@@ -82,7 +83,7 @@ func (d *Design) keepNotchesInMask(ordered []section.Section, results []topology
 			continue
 		}
 		sv.Reason = fmt.Sprintf("one-amp-notch would leave about %.1f dB (3σ, first order, with %g %% resistors and %g %% capacitors) at its zeros (%s Hz, %s), where the mask needs −%g dB; state-variable (four op-amps) keeps its zeros on the jω axis: %s",
-			level, s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, fmtHzPlain(fz), what, need, sv.Reason)
+			level, s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, fmtHzPlain(fz), what, need, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
 		results[i] = sv
 	}
 }

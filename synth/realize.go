@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 	"strconv"
+	"strings"
 
 	"github.com/polewright/polewright/standards/eseries"
 	"github.com/polewright/polewright/synth/circuit"
@@ -118,7 +119,7 @@ func (d *Design) realize(ordered []section.Section) error {
 		r, err := topology.Realize(ordered[firstOrder], topology.InvertingRC, opt)
 		if err == nil && r.Inverting {
 			results[firstOrder] = r
-			results[firstOrder].Reason = "inverting first-order form, so that the chain as a whole does not invert; " + r.Reason
+			results[firstOrder].Reason = "inverting first-order form, so that the chain as a whole does not invert; " + strings.TrimPrefix(r.Reason, topology.InvertingRC+" as asked: ")
 			inverting++
 		}
 	}
