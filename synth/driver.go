@@ -35,9 +35,19 @@ const (
 	DriverPhaseMarginDeg = 45
 	// driverMinOhm is the smallest driver resistor tried.
 	driverMinOhm = 1
-	// driverSteps bounds the resistor values tried below the closed
-	// form's.
-	driverSteps = 48
+	// driverScanBelow and driverScanAbove bound the resistor values
+	// tried, as factors below and above the closed form's; driverMaxTries
+	// bounds their number.
+	driverScanBelow = 10
+	driverScanAbove = 3
+	driverMaxTries  = 256
+	// driverCoarse is the stride of the first pass over the candidates.
+	driverCoarse = 8
+	// driverWindowFrac and driverWindowPoints: the settling error is
+	// judged at this many times from the end of the acquisition over
+	// this further share of it.
+	driverWindowFrac   = 0.2
+	driverWindowPoints = 21
 )
 
 // Driver is the R–C between the chain's last op-amp and a SAR
@@ -123,13 +133,36 @@ func driverSettledErrorV(st circuit.Stage, m circuit.Model, csFarad, vfs float64
 	return y, nil
 }
 
+// driverErrorLSB returns the driver's settling error in LSB as the
+// design judges it (window: the largest |error| from the end of the
+// acquisition over a further fifth of it, so that a ringing error that
+// happens to cross zero at the end is not taken for settled) and as it
+// is reported (end: at the end of the acquisition).
+func driverErrorLSB(st circuit.Stage, m circuit.Model, csF, vfs, tacq, lsb float64) (window, end float64, err error) {
+	tS := make([]float64, 0, driverWindowPoints+1)
+	tS = append(tS, 0)
+	for i := range driverWindowPoints {
+		tS = append(tS, tacq*(1+driverWindowFrac*float64(i)/float64(driverWindowPoints-1)))
+	}
+	e, err := driverSettledErrorV(st, m, csF, vfs, tS)
+	if err != nil {
+		return 0, 0, fmt.Errorf("synth: driver settling: %w", err)
+	}
+	for _, v := range e[1:] {
+		window = math.Max(window, math.Abs(v)/lsb)
+	}
+	return window, math.Abs(e[1]) / lsb, nil
+}
+
 // designDriver chooses the driver's R and C for a SAR converter and
 // appends them to the chain's last stage (see [Driver]): C is the first
 // capacitor-series value at least DriverCapRatio times Cs; R starts at
 // the largest resistor-series value whose single-RC settling
-// R·(C + Cs)·ln(kick/(DriverDesignLSB LSB)) fits the acquisition time and
-// steps down the series until the full circuit settles to DriverDesignLSB
-// (the smallest error tried is kept when none does).
+// R·(C + Cs)·ln(kick/(DriverDesignLSB LSB)) fits the acquisition time;
+// then, judged on the full circuit (see [driverErrorLSB]), R is the
+// largest series value from a tenth to three times that whose error
+// stays within DriverDesignLSB (the one that comes closest when none
+// does).
 func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 	s := d.Spec
 	c := s.Converter
@@ -167,31 +200,61 @@ func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 			circuit.Part{Value: r, Exact: rExact, Series: rSeries, TolerancePct: s.Tolerance.ResistorPct},
 			circuit.Part{Value: cF, Exact: cExact, Series: cSeries, TolerancePct: s.Tolerance.CapacitorPct})
 	}
-	tS := []float64{0, tacq}
-	errAt := func(r float64) (float64, error) {
-		e, err := driverSettledErrorV(build(r), m, csF, vfs, tS)
-		if err != nil {
-			return 0, fmt.Errorf("synth: driver settling: %w", err)
-		}
-		return math.Abs(e[1]) / lsb, nil
+	errAt := func(r float64) (window, end float64, err error) {
+		return driverErrorLSB(build(r), m, csF, vfs, tacq, lsb)
 	}
-	bestR, bestErr := rOhm, math.Inf(1)
-	for range driverSteps {
-		e, err := errAt(rOhm)
+	// Every series value from driverScanBelow below to driverScanAbove
+	// above the closed form's R: the largest that settles within
+	// DriverDesignLSB, else the one that comes closest. Both ways
+	// matter: below the closed form a slow op-amp's ringing can grow as
+	// R shrinks, above it the op-amp's own settling can help.
+	cands := []float64{rOhm}
+	if !exact {
+		cands = cands[:0]
+		for r, _ := rs.Neighbours(rExact * driverScanAbove); r >= rExact/driverScanBelow && r >= driverMinOhm && len(cands) < driverMaxTries; {
+			cands = append(cands, r)
+			next, _ := rs.Neighbours(r * (1 - 1e-6))
+			if math.IsNaN(next) || next >= r {
+				break
+			}
+			r = next
+		}
+		if len(cands) == 0 {
+			cands = append(cands, rOhm)
+		}
+	}
+	// Coarse to fine: every driverCoarse-th candidate, then the ones
+	// between the first coarse one that settles and the one above it.
+	bestR, bestWin, bestErr := math.NaN(), math.Inf(1), math.Inf(1)
+	try := func(i int) (bool, error) {
+		w, end, err := errAt(cands[i])
+		if err != nil {
+			return false, err
+		}
+		if w <= DriverDesignLSB || w < bestWin && bestWin > DriverDesignLSB {
+			bestR, bestWin, bestErr = cands[i], w, end
+		}
+		return w <= DriverDesignLSB, nil
+	}
+	prev := -1
+	for i := 0; i < len(cands); i += driverCoarse {
+		ok, err := try(i)
 		if err != nil {
 			return err
 		}
-		if e < bestErr {
-			bestR, bestErr = rOhm, e
-		}
-		if e <= DriverDesignLSB || exact || rOhm <= driverMinOhm {
+		if ok {
+			for j := prev + 1; j < i; j++ {
+				ok, err := try(j)
+				if err != nil {
+					return err
+				}
+				if ok {
+					break
+				}
+			}
 			break
 		}
-		next, _ := rs.Neighbours(rOhm * (1 - 1e-6))
-		if math.IsNaN(next) || next >= rOhm {
-			break
-		}
-		rOhm = next
+		prev = i
 	}
 	rOhm = bestR
 	st := build(rOhm)
@@ -214,22 +277,35 @@ func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 		}
 	}
 	ch.Stages[last] = st
-	dr.Reason = d.driverReason(dr, csF, lsb, lnDesign)
+	dr.Reason = d.driverReason(dr, csF, rExact, bestWin <= DriverDesignLSB, lnDesign)
 	d.Driver = dr
 	return nil
 }
 
-// driverReason says how the driver was chosen.
-func (d *Design) driverReason(dr *Driver, csF, lsb, lnDesign float64) string {
+// driverReason says how the driver was chosen: rClosed is the
+// single-RC closed form's R for DriverDesignLSB, met whether the full
+// circuit settles within it.
+func (d *Design) driverReason(dr *Driver, csF, rClosed float64, met bool, lnDesign float64) string {
 	s := d.Spec
-	text := fmt.Sprintf("C = %s (C0G), the first %s value at least %d × the %s sampling capacitor (common practice: 10 to 20 ×), so that a full-scale kick is Vfs·Cs/(Cs + C) = %s; "+
-		"R = %s, the largest %s value with which the single-RC settling R·(C + Cs)·ln(kick/¼ LSB) fits the %s acquisition, and the full circuit leaves %.3g LSB at its end (designed to ¼ LSB; the check allows ½ LSB).",
-		si.Format(dr.CFarad, "F", 3), s.CapacitorSeries, DriverCapRatio, si.Format(csF, "F", 3), si.Format(dr.KickbackV, "V", 3),
-		si.Format(dr.ROhm, "Ω", 3), s.ResistorSeries, si.Format(dr.AcquisitionTimeS, "s", 3), dr.SettledErrorLSB)
+	series := s.CapacitorSeries + " value"
 	if s.Values == "exact" {
-		text = fmt.Sprintf("C = %s (C0G), %d × the %s sampling capacitor (common practice: 10 to 20 ×), so that a full-scale kick is Vfs·Cs/(Cs + C) = %s; R = %s, with which R·(C + Cs)·ln(kick/¼ LSB) is the %s acquisition; the full circuit leaves %.3g LSB at its end.",
-			si.Format(dr.CFarad, "F", 3), DriverCapRatio, si.Format(csF, "F", 3), si.Format(dr.KickbackV, "V", 3), si.Format(dr.ROhm, "Ω", 3), si.Format(dr.AcquisitionTimeS, "s", 3), dr.SettledErrorLSB)
+		series = "value (exact)"
 	}
+	text := fmt.Sprintf("C = %s (C0G), the first %s at least %d × the %s sampling capacitor (common practice: 10 to 20 ×), so that a full-scale kick is Vfs·Cs/(Cs + C) = %s. ",
+		si.Format(dr.CFarad, "F", 3), series, DriverCapRatio, si.Format(csF, "F", 3), si.Format(dr.KickbackV, "V", 3))
+	closed := fmt.Sprintf("the single-RC closed form R·(C + Cs)·ln(kick/¼ LSB) = %s gives R = %s", si.Format(dr.AcquisitionTimeS, "s", 3), si.Format(rClosed, "Ω", 3))
+	switch {
+	case s.Values == "exact":
+		text += fmt.Sprintf("R = %s: %s; ", si.Format(dr.ROhm, "Ω", 3), closed)
+	case met:
+		text += fmt.Sprintf("R = %s: %s, and of the %s values from a tenth to three times that, %s is the largest with which the full circuit (the last stage with the spec's op-amp, R, C and Cs) stays within ¼ LSB at the end of the acquisition and over a further fifth of it; ",
+			si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
+	default:
+		text += fmt.Sprintf("R = %s: %s, and of the %s values from a tenth to three times that, none lets the full circuit settle within ¼ LSB; %s comes closest; ",
+			si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
+	}
+	text += fmt.Sprintf("the full circuit leaves %.3g LSB at the end of the %s acquisition (the check allows ½ LSB; ¼ LSB leaves room for the parts' spread).",
+		dr.SettledErrorLSB, si.Format(dr.AcquisitionTimeS, "s", 3))
 	// The filter's real pole, considered as the R–C's.
 	for _, sec := range d.Sections {
 		if sec.Order != 1 {

@@ -88,44 +88,66 @@ func (st Stage) LoopGain(m Model, k int, s complex128) (complex128, error) {
 	if cmplx.IsNaN(s) || cmplx.IsInf(s) {
 		return 0, invalidf("s %v is not finite", s)
 	}
-	if err := m.Validate(); err != nil {
-		return 0, err
-	}
-	if m.Ideal {
-		return 0, invalidf("loop gain: the model is ideal")
-	}
-	t, err := st.check()
+	l, err := st.newLoop(m, k)
 	if err != nil {
 		return 0, err
 	}
+	return l.at(s)
+}
+
+// loop is a stage compiled for the loop gain of one op-amp.
+type loop struct {
+	sys    *system
+	row, o int
+	pl, mi int
+	invA0  float64
+	invWt  float64
+	scale  float64
+}
+
+// newLoop checks and compiles the stage for op-amp k's loop gain.
+func (st Stage) newLoop(m Model, k int) (*loop, error) {
+	if err := m.Validate(); err != nil {
+		return nil, err
+	}
+	if m.Ideal {
+		return nil, invalidf("loop gain: the model is ideal")
+	}
+	t, err := st.check()
+	if err != nil {
+		return nil, err
+	}
 	if k < 1 || k > len(st.OpAmps) {
-		return 0, invalidf("loop gain: no op-amp %d", k)
+		return nil, invalidf("loop gain: no op-amp %d", k)
 	}
 	st, t = st.withParasitics(m, t)
 	scale, _ := stageScale(st, m)
-	sys := compile(st, m, t, scale)
-	sys.fill(s / complex(scale, 0))
-	n := sys.n
-	nodes := len(t.names) - 1
-	row := nodes + 1 + k - 1
 	u := st.OpAmps[k-1]
-	o := t.unknown(u.Out)
+	return &loop{sys: compile(st, m, t, scale), row: len(t.names) - 1 + k, o: t.unknown(u.Out),
+		pl: t.unknown(u.Plus), mi: t.unknown(u.Minus), invA0: 1 / m.a0(), invWt: 1 / (2 * math.Pi * m.GBWHz), scale: scale}, nil
+}
+
+// at returns the loop gain at s (rad/s).
+func (l *loop) at(s complex128) (complex128, error) {
+	sys := l.sys
+	sys.fill(s / complex(l.scale, 0))
+	n := sys.n
 	// The op-amp's equation becomes V(out) = 1: the test source.
 	for j := range n {
-		sys.a[row*n+j] = 0
+		sys.a[l.row*n+j] = 0
 	}
-	sys.a[row*n+o] = 1
-	if err := factorSolve(sys, row); err != nil {
+	sys.a[l.row*n+l.o] = 1
+	if err := factorSolve(sys, l.row); err != nil {
 		return 0, err
 	}
 	vd := complex128(0)
-	if pl := t.unknown(u.Plus); pl >= 0 {
-		vd += sys.x[pl]
+	if l.pl >= 0 {
+		vd += sys.x[l.pl]
 	}
-	if mi := t.unknown(u.Minus); mi >= 0 {
-		vd -= sys.x[mi]
+	if l.mi >= 0 {
+		vd -= sys.x[l.mi]
 	}
-	invA := complex(1/m.a0(), 0) + s*complex(1/(2*math.Pi*m.GBWHz), 0)
+	invA := complex(l.invA0, 0) + s*complex(l.invWt, 0)
 	return -vd / invA, nil
 }
 
@@ -133,14 +155,18 @@ func (st Stage) LoopGain(m Model, k int, s complex128) (complex128, error) {
 // [Stage.LoopGain]) and its crossover frequency: 180° plus the loop
 // gain's phase, unwrapped from the grid's first point, at the lowest
 // frequency where its magnitude falls through 1, found on a logarithmic
-// grid from 1e-6 to 1e3 times the gain-bandwidth (50 points a decade) and
+// grid from 1e-6 to 1e3 times the gain-bandwidth (20 points a decade) and
 // refined by bisection in log frequency. ok is false when the loop gain is
 // below 1 at the grid's first point or never falls through 1 on the grid.
 // Errors are those of [Stage.LoopGain].
 func (st Stage) PhaseMarginDeg(m Model, k int) (pmDeg, crossHz float64, ok bool, err error) {
-	const perDecade, decades = 50, 9
+	const perDecade, decades = 20, 9
 	lo := m.GBWHz * 1e-6
-	at := func(f float64) (complex128, error) { return st.LoopGain(m, k, complex(0, 2*math.Pi*f)) }
+	l, err := st.newLoop(m, k)
+	if err != nil {
+		return 0, 0, false, err
+	}
+	at := func(f float64) (complex128, error) { return l.at(complex(0, 2*math.Pi*f)) }
 	prev, err := at(lo)
 	if err != nil {
 		return 0, 0, false, err
