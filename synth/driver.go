@@ -33,8 +33,9 @@ const (
 	// by more than about 25 %, so the ringing lengthens the settling of
 	// each kick and part spreads push it towards oscillation).
 	DriverPhaseMarginDeg = 45
-	// driverMinOhm is the smallest driver resistor tried.
+	// driverMinOhm and driverMaxOhm bound the driver resistors tried.
 	driverMinOhm = 1
+	driverMaxOhm = 100e3
 	// driverScanBelow and driverScanAbove bound the resistor values
 	// tried, as factors below and above the closed form's; driverMaxTries
 	// bounds their number.
@@ -182,14 +183,14 @@ func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 	kick := vfs * csF / (csF + cF)
 	lnDesign := math.Max(math.Log(kick/(DriverDesignLSB*lsb)), 1e-3)
 	rExact := tacq / ((cF + csF) * lnDesign)
-	rOhm := rExact
+	// The scan stays within [driverMinOhm, driverMaxOhm] (common practice
+	// for a converter driver's R: ohms to kilohms).
+	center := min(max(rExact, driverMinOhm), driverMaxOhm)
+	rOhm := center
 	rSeries := "exact"
 	if !exact {
-		rOhm, _ = rs.Neighbours(rExact)
+		rOhm = rs.Nearest(center)
 		rSeries = rs.Name()
-		if math.IsNaN(rOhm) {
-			rOhm = rExact
-		}
 	}
 	last := len(ch.Stages) - 1
 	base := ch.Stages[last]
@@ -211,7 +212,7 @@ func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 	cands := []float64{rOhm}
 	if !exact {
 		cands = cands[:0]
-		for r, _ := rs.Neighbours(rExact * driverScanAbove); r >= rExact/driverScanBelow && r >= driverMinOhm && len(cands) < driverMaxTries; {
+		for r, _ := rs.Neighbours(min(center*driverScanAbove, driverMaxOhm)); r >= center/driverScanBelow && r >= driverMinOhm && len(cands) < driverMaxTries; {
 			cands = append(cands, r)
 			next, _ := rs.Neighbours(r * (1 - 1e-6))
 			if math.IsNaN(next) || next >= r {
@@ -226,35 +227,27 @@ func (d *Design) designDriver(ch *circuit.Chain, rs, cs eseries.Series) error {
 	// Coarse to fine: every driverCoarse-th candidate, then the ones
 	// between the first coarse one that settles and the one above it.
 	bestR, bestWin, bestErr := math.NaN(), math.Inf(1), math.Inf(1)
-	try := func(i int) (bool, error) {
+	try := func(i int) bool {
 		w, end, err := errAt(cands[i])
 		if err != nil {
-			return false, err
+			return false // a candidate whose circuit cannot be analysed is passed over
 		}
 		if w <= DriverDesignLSB || w < bestWin && bestWin > DriverDesignLSB {
 			bestR, bestWin, bestErr = cands[i], w, end
 		}
-		return w <= DriverDesignLSB, nil
+		return w <= DriverDesignLSB
 	}
 	prev := -1
 	for i := 0; i < len(cands); i += driverCoarse {
-		ok, err := try(i)
-		if err != nil {
-			return err
-		}
-		if ok {
-			for j := prev + 1; j < i; j++ {
-				ok, err := try(j)
-				if err != nil {
-					return err
-				}
-				if ok {
-					break
-				}
+		if try(i) {
+			for j := prev + 1; j < i && !try(j); j++ {
 			}
 			break
 		}
 		prev = i
+	}
+	if math.IsNaN(bestR) {
+		return fieldErr("converter.sampling_capacitance_farad", "the driver R–C for this sampling capacitor and acquisition time cannot be analysed with the last stage (R from %g to %g Ohm)", cands[len(cands)-1], cands[0])
 	}
 	rOhm = bestR
 	st := build(rOhm)
