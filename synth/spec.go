@@ -348,12 +348,16 @@ func IsFieldError(err error) (*FieldError, bool) {
 
 // Accepted names of the enumerated fields.
 var (
-	Responses       = []string{"lowpass", "highpass", "bandpass", "bandstop"}
-	Approximations  = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic", "legendre", "gaussian", "linear-phase"}
-	Topologies      = []string{"sallen-key", "multiple-feedback", "state-variable", "one-amp-notch", "auto"}
-	SeriesNames     = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
-	ValueModes      = []string{"series", "exact"}
-	Distributions   = []string{"uniform", "gaussian"}
+	Responses      = []string{"lowpass", "highpass", "bandpass", "bandstop"}
+	Approximations = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic", "legendre", "gaussian", "linear-phase"}
+	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "one-amp-notch", "auto"}
+	SeriesNames    = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
+	ValueModes     = []string{"series", "exact"}
+	Distributions  = []string{"uniform", "gaussian"}
+)
+
+// Accepted names of the converter's architecture and input.
+var (
 	Architectures   = []string{"sar", "sigma-delta", "other"}
 	ConverterInputs = []string{"single-ended", "differential"}
 )
