@@ -35,6 +35,10 @@ const (
 	CheckInput     = "input-range"
 	CheckDCError   = "dc-error"
 	CheckDelay     = "delay-spread"
+	// CheckDriverSettling and CheckDriverStability judge a SAR
+	// converter's driver ([Driver]).
+	CheckDriverSettling  = "driver-settling"
+	CheckDriverStability = "driver-stability"
 )
 
 // Check is one verdict on a design: what was judged, the figure it came
@@ -135,6 +139,12 @@ func (d *Design) fillChecks() {
 		text := fmt.Sprintf("%d all-pass section(s) bring the passband's group-delay spread from %.3g %% to %.3g %% of its mean (at most %g %% asked).", e.Sections, e.FilterSpreadPct, e.SpreadPct, e.TargetPct)
 		d.Checks = append(d.Checks, newCheck(CheckDelay, ok, SeverityError, e.SpreadPct, e.TargetPct, "%", 0, text))
 	}
+	if c, ok := d.driverSettlingCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.driverStabilityCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
 	d.Checks = append(d.Checks, d.cautionChecks()...)
 }
 
@@ -212,6 +222,43 @@ func (d *Design) dcErrorCheck() (Check, bool) {
 		}
 	}
 	return newCheck(CheckDCError, ok, SeverityWarning, lsb, dcBudgetLSB, "LSB", 0, text), true
+}
+
+// driverSettlingCheck judges the error the SAR driver leaves at the end
+// of the acquisition against ½ LSB; present with a driver.
+func (d *Design) driverSettlingCheck() (Check, bool) {
+	dr := d.Driver
+	if dr == nil {
+		return Check{}, false
+	}
+	ok := dr.SettledErrorLSB <= DriverSettleLimitLSB
+	text := fmt.Sprintf("The sampling capacitor's %s kick settles through %s and %s to %.3g LSB by the end of the %s acquisition, within ½ LSB.",
+		si.Format(dr.KickbackV, "V", 3), si.Format(dr.ROhm, "Ω", 3), si.Format(dr.CFarad, "F", 3), dr.SettledErrorLSB, si.Format(dr.AcquisitionTimeS, "s", 3))
+	if !ok {
+		text = fmt.Sprintf("The sampling capacitor's %s kick is still %.3g LSB off at the end of the %s acquisition, more than ½ LSB: the op-amp is too slow for the R–C, or the acquisition too short; a faster op-amp or a longer acquisition cures it.",
+			si.Format(dr.KickbackV, "V", 3), dr.SettledErrorLSB, si.Format(dr.AcquisitionTimeS, "s", 3))
+	}
+	return newCheck(CheckDriverSettling, ok, SeverityError, dr.SettledErrorLSB, DriverSettleLimitLSB, "LSB", len(d.Sections), text), true
+}
+
+// driverStabilityCheck judges the phase margin of the last op-amp with
+// the driver's R–C as its load; present with a driver and a finite
+// op-amp.
+func (d *Design) driverStabilityCheck() (Check, bool) {
+	dr := d.Driver
+	if dr == nil || dr.PhaseMarginDeg == nil {
+		return Check{}, false
+	}
+	pm := *dr.PhaseMarginDeg
+	ok := pm >= DriverPhaseMarginDeg
+	ro := si.Format(d.Spec.OpAmp.OutputResistanceOhm, "Ω", 3)
+	text := fmt.Sprintf("With %s and %s as its load and its %s output resistance, the last op-amp's loop keeps %.0f° of phase margin at %s (at least %d° asked).",
+		si.Format(dr.ROhm, "Ω", 3), si.Format(dr.CFarad, "F", 3), ro, pm, si.Format(*dr.CrossoverHz, "Hz", 3), DriverPhaseMarginDeg)
+	if !ok {
+		text = fmt.Sprintf("With %s and %s as its load and its %s output resistance, the last op-amp's loop has only %.0f° of phase margin at %s, under %d°: it rings at each kick; a larger R (with a longer acquisition) or an op-amp made for capacitive loads cures it.",
+			si.Format(dr.ROhm, "Ω", 3), si.Format(dr.CFarad, "F", 3), ro, pm, si.Format(*dr.CrossoverHz, "Hz", 3), DriverPhaseMarginDeg)
+	}
+	return newCheck(CheckDriverStability, ok, SeverityWarning, pm, DriverPhaseMarginDeg, "deg", len(d.Sections), text), true
 }
 
 // idealMaskCheck judges the ideal response (meets_mask).

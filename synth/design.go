@@ -94,6 +94,10 @@ type Design struct {
 	// DC is the output's DC error from the op-amps' offsets and bias
 	// currents (nil before verification).
 	DC *DCReport `json:"dc,omitempty"`
+	// Driver is the R–C between the last stage and a SAR converter's
+	// input (nil without a sar converter); it is part of the chain as
+	// built and so of every figure computed from it.
+	Driver *Driver `json:"driver,omitempty"`
 
 	tf       zpk.ZPK
 	eqNote   string // what the delay equaliser did, said in its sections' reasons

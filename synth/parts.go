@@ -33,7 +33,9 @@ func (d *Design) partFigures(ch circuit.Chain, i int) error {
 	// The stage as built: the spec's op-amp, as everything beside them
 	// (realized, the Monte Carlo). Exact derivatives by the adjoint of the
 	// stage's nodal system, at the cost of one transfer function.
-	sens, err := verify.Sensitivities(ch.Stages[i], ch.Model)
+	// The section's own circuit: the converter driver (on the last stage)
+	// is not part of the section's f0 and Q.
+	sens, err := verify.Sensitivities(ch.Stages[i].WithoutDriver(), ch.Model)
 	if err != nil {
 		return fmt.Errorf("synth: stage %d sensitivities: %w", i+1, err)
 	}
@@ -71,6 +73,16 @@ func (d *Design) failAt(ch circuit.Chain) error {
 		for j := range comps {
 			l := limits[k][j]
 			comps[j].FailAtPct = [2]*float64{finitePtr(l.DownPct), finitePtr(l.UpPct)}
+		}
+	}
+	if dr := d.Driver; dr != nil {
+		// The driver's parts follow the last stage's own.
+		k := len(d.Sections) - 1
+		for j := range dr.Components {
+			if n := len(d.Sections[k].Components) + j; n < len(limits[k]) {
+				l := limits[k][n]
+				dr.Components[j].FailAtPct = [2]*float64{finitePtr(l.DownPct), finitePtr(l.UpPct)}
+			}
 		}
 	}
 	return nil

@@ -184,6 +184,9 @@ func (d *Design) realize(ordered []section.Section) error {
 			return err
 		}
 	}
+	if err := d.designDriver(&chain, rs, cs); err != nil {
+		return err
+	}
 	d.chain = &chain
 	return nil
 }

@@ -170,7 +170,38 @@ type Converter struct {
 	// (common practice: the ideal converter's full-scale SNR) when the
 	// spec leaves it out.
 	AliasAttenDB float64 `json:"alias_atten_db"`
+	// Architecture is "sar", "sigma-delta" or "other"; "" (left out)
+	// means other. A "sar" converter gets a driver RC
+	// between the last stage and its input ([Driver]).
+	Architecture string `json:"architecture,omitempty"`
+	// Input is "single-ended" ("", left out, means the same) or
+	// "differential" (refused for now: the differential stages are not
+	// built).
+	Input string `json:"input,omitempty"`
+	// SamplingCapacitanceFarad is the converter's sampling capacitor (a
+	// SAR's charge-redistribution array as its input sees it), needed
+	// for a sar converter's driver.
+	SamplingCapacitanceFarad float64 `json:"sampling_capacitance_farad,omitempty"`
+	// AcquisitionTimeS is how long the sampling capacitor stays connected
+	// to the input in each conversion, needed for a sar converter's
+	// driver.
+	AcquisitionTimeS float64 `json:"acquisition_time_s,omitempty"`
+	// InputCommonModeV is the common mode the converter's input wants
+	// (for a differential input), or nil.
+	InputCommonModeV *float64 `json:"input_common_mode_v,omitempty"`
 }
+
+// IsSAR reports whether the converter is a SAR, whose input needs a
+// driver RC.
+func (c *Converter) IsSAR() bool { return c != nil && c.Architecture == ArchitectureSAR }
+
+// The converter architectures and inputs.
+const (
+	ArchitectureSAR   = "sar"
+	ArchitectureOther = "other"
+	InputSingleEnded  = "single-ended"
+	InputDifferential = "differential"
+)
 
 // DefaultAliasAttenDB returns 6.02·bits + 1.76 dB, the full-scale sine's
 // SNR of an ideal converter of that resolution (common practice), the
@@ -325,6 +356,12 @@ var (
 	Distributions  = []string{"uniform", "gaussian"}
 )
 
+// Accepted names of the converter's architecture and input.
+var (
+	Architectures   = []string{"sar", "sigma-delta", "other"}
+	ConverterInputs = []string{"single-ended", "differential"}
+)
+
 func validPhaseError(deg float64) error {
 	if err := finite("phase_error_deg", deg); err != nil {
 		return err
@@ -430,11 +467,16 @@ type rawMonteCarlo struct {
 }
 
 type rawConverter struct {
-	Bits         *json.Number `json:"bits"`
-	SampleRateHz *float64     `json:"sample_rate_hz"`
-	FullScaleVpp *float64     `json:"full_scale_vpp"`
-	OutputRateHz *float64     `json:"output_rate_hz"`
-	AliasAttenDB *float64     `json:"alias_atten_db"`
+	Bits                     *json.Number `json:"bits"`
+	SampleRateHz             *float64     `json:"sample_rate_hz"`
+	FullScaleVpp             *float64     `json:"full_scale_vpp"`
+	OutputRateHz             *float64     `json:"output_rate_hz"`
+	AliasAttenDB             *float64     `json:"alias_atten_db"`
+	Architecture             *string      `json:"architecture"`
+	Input                    *string      `json:"input"`
+	SamplingCapacitanceFarad *float64     `json:"sampling_capacitance_farad"`
+	AcquisitionTimeS         *float64     `json:"acquisition_time_s"`
+	InputCommonModeV         *float64     `json:"input_common_mode_v"`
 }
 
 // decodeObject decodes the nested object msg of field into dst, strictly:
@@ -760,7 +802,7 @@ func (raw rawSpec) build() (Spec, error) {
 	}
 	var cv rawConverter
 	if ok, err := decodeObject("converter", raw.Converter, &cv, `{"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 4}`,
-		"bits, sample_rate_hz, full_scale_vpp, output_rate_hz, alias_atten_db"); err != nil {
+		"bits, sample_rate_hz, full_scale_vpp, output_rate_hz, alias_atten_db, architecture, input, sampling_capacitance_farad, acquisition_time_s, input_common_mode_v"); err != nil {
 		return Spec{}, err
 	} else if ok {
 		if cv.Bits == nil || cv.SampleRateHz == nil || cv.FullScaleVpp == nil {
@@ -778,6 +820,31 @@ func (raw rawSpec) build() (Spec, error) {
 		if cv.AliasAttenDB != nil {
 			c.AliasAttenDB = *cv.AliasAttenDB
 		}
+		// Left out, architecture and input stay "" (other, single-ended),
+		// so that the spec as echoed is the spec as given.
+		if cv.Architecture != nil {
+			if c.Architecture, err = oneOf("converter.architecture", *cv.Architecture, Architectures); err != nil {
+				return Spec{}, err
+			}
+		}
+		if cv.Input != nil {
+			if c.Input, err = oneOf("converter.input", *cv.Input, ConverterInputs); err != nil {
+				return Spec{}, err
+			}
+		}
+		if cv.SamplingCapacitanceFarad != nil {
+			c.SamplingCapacitanceFarad = *cv.SamplingCapacitanceFarad
+			if !(c.SamplingCapacitanceFarad > 0) {
+				return Spec{}, fieldErr("converter.sampling_capacitance_farad", "must be above 0 F (got %g)", c.SamplingCapacitanceFarad)
+			}
+		}
+		if cv.AcquisitionTimeS != nil {
+			c.AcquisitionTimeS = *cv.AcquisitionTimeS
+			if !(c.AcquisitionTimeS > 0) {
+				return Spec{}, fieldErr("converter.acquisition_time_s", "must be above 0 s (got %g)", c.AcquisitionTimeS)
+			}
+		}
+		c.InputCommonModeV = cv.InputCommonModeV
 		s.Converter = c
 		if s.Response == Lowpass && s.StopbandHz == nil {
 			// The stopband comes from the converter: everything from
@@ -1007,6 +1074,68 @@ func (s Spec) validateBoard() error {
 	return nil
 }
 
+// The bounds of the converter's input fields.
+const (
+	MinSamplingCapacitanceFarad = 0.1e-12
+	MaxSamplingCapacitanceFarad = 1e-6
+	MinAcquisitionTimeS         = 1e-9
+)
+
+// validateConverterInput checks the converter's architecture, input and
+// the fields a SAR's driver needs (issue 12).
+func (s Spec) validateConverterInput() error {
+	c := s.Converter
+	if c.Architecture != "" {
+		if _, err := oneOf("converter.architecture", c.Architecture, Architectures); err != nil {
+			return err
+		}
+	}
+	if c.Input != "" {
+		if _, err := oneOf("converter.input", c.Input, ConverterInputs); err != nil {
+			return err
+		}
+	}
+	if c.Input == InputDifferential {
+		return fieldErr("converter.input", "differential is not built yet: the fully differential stages are still to come; use single-ended")
+	}
+	if v := c.SamplingCapacitanceFarad; v != 0 {
+		if err := finite("converter.sampling_capacitance_farad", v); err != nil {
+			return err
+		}
+		if v < MinSamplingCapacitanceFarad || v > MaxSamplingCapacitanceFarad {
+			return fieldErr("converter.sampling_capacitance_farad", "must be from 0.1 pF to 1 µF (got %g)", v)
+		}
+	}
+	if v := c.AcquisitionTimeS; v != 0 {
+		if err := finite("converter.acquisition_time_s", v); err != nil {
+			return err
+		}
+		if v < MinAcquisitionTimeS || !(v < 1/c.SampleRateHz) {
+			return fieldErr("converter.acquisition_time_s", "must be from 1 ns to less than one sample period, %g s (got %g)", 1/c.SampleRateHz, v)
+		}
+	}
+	if c.Architecture == ArchitectureSAR {
+		if c.SamplingCapacitanceFarad == 0 {
+			return fieldErr("converter.sampling_capacitance_farad", "is needed for a sar converter: the driver RC is sized against the sampling capacitor")
+		}
+		if c.AcquisitionTimeS == 0 {
+			return fieldErr("converter.acquisition_time_s", "is needed for a sar converter: the driver RC must settle the sampling capacitor's kick within it")
+		}
+	}
+	if p := c.InputCommonModeV; p != nil {
+		if err := finite("converter.input_common_mode_v", *p); err != nil {
+			return err
+		}
+		if math.Abs(*p) > MaxRailV {
+			return fieldErr("converter.input_common_mode_v", "must be within ±%d V (got %g)", MaxRailV, *p)
+		}
+		if sup := s.Supply; sup != nil && !(*p >= sup.NegativeV && *p <= sup.PositiveV) {
+			return fieldErr("converter.input_common_mode_v", "must lie between the rails, %g and %g V (got %g)", sup.NegativeV, sup.PositiveV, *p)
+		}
+	}
+	return nil
+}
+
 func (s Spec) validateDelayEqualizer() error {
 	de := s.DelayEqualizer
 	if de == nil {
@@ -1204,6 +1333,9 @@ func (s Spec) validateVerification() error {
 		}
 		if top := slices.Max(s.PassbandHz); s.Response != Highpass && s.Response != Bandstop && !(c.SampleRateHz > 2*top) {
 			return fieldErr("converter.sample_rate_hz", "must be above twice the passband's upper edge, %g Hz, or the passband folds onto itself (got %g)", 2*top, c.SampleRateHz)
+		}
+		if err := s.validateConverterInput(); err != nil {
+			return err
 		}
 	}
 	if g := s.GainToleranceDB; g != nil {

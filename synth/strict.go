@@ -64,6 +64,8 @@ var specSchema = []schemaField{
 	{name: "converter", kind: kindObject, fields: []schemaField{
 		{name: "bits", kind: kindNum}, {name: "sample_rate_hz", kind: kindNum}, {name: "full_scale_vpp", kind: kindNum},
 		{name: "output_rate_hz", kind: kindNum}, {name: "alias_atten_db", kind: kindNum},
+		{name: "architecture"}, {name: "input"}, {name: "sampling_capacitance_farad", kind: kindNum},
+		{name: "acquisition_time_s", kind: kindNum}, {name: "input_common_mode_v", kind: kindNum},
 	}},
 	{name: "gain_tolerance_db", kind: kindNum},
 	{name: "design_margin", kind: kindObject, fields: []schemaField{{name: "passband_db", kind: kindNum}, {name: "stopband_db", kind: kindNum}}},

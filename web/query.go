@@ -43,6 +43,11 @@ type field struct {
 	// selected when the field is absent.
 	Choices []string
 	Default string
+	// OmitDefault leaves a choice out of the spec JSON when it is the
+	// default: a select always submits a value, and an object that holds
+	// only a default (the converter's architecture) is not an object the
+	// spec asked for.
+	OmitDefault bool
 	// Placeholder is shown in an empty control; Hint under it.
 	Placeholder, Hint string
 	// Initial is the value on the blank form of GET /.
@@ -144,6 +149,16 @@ var specFields = []field{
 		Placeholder: "the sample rate", Hint: "below the sample rate for an oversampling converter; the noise its words carry is folded into half of it", Group: groupConv},
 	{Name: "converter_alias_atten_db", Path: []string{"converter", "alias_atten_db"}, Label: "Alias attenuation (dB)", Noun: "the alias attenuation", Kind: kindNumber,
 		Placeholder: "6.02·bits + 1.76", Hint: "least attenuation of everything sampling folds onto the passband; with a converter the stopband may be left empty (fs − passband edge)", Group: groupConv},
+	{Name: "converter_architecture", Path: []string{"converter", "architecture"}, Label: "Architecture", Noun: "the converter's architecture", Kind: kindChoice,
+		Choices: synth.Architectures, Default: "other", OmitDefault: true, Hint: "sar: an R–C driver is designed between the last op-amp and the converter's input", Group: groupConv},
+	{Name: "converter_input", Path: []string{"converter", "input"}, Label: "Input", Noun: "the converter's input", Kind: kindChoice,
+		Choices: synth.ConverterInputs, Default: "single-ended", OmitDefault: true, Hint: "differential is not built yet", Group: groupConv},
+	{Name: "converter_sampling_capacitance_farad", Path: []string{"converter", "sampling_capacitance_farad"}, Label: "Sampling capacitor (F)", Noun: "the converter's sampling capacitor", Kind: kindNumber,
+		Placeholder: "e.g. 30p", Hint: "sar: the capacitor the input charges at each acquisition", Group: groupConv},
+	{Name: "converter_acquisition_time_s", Path: []string{"converter", "acquisition_time_s"}, Label: "Acquisition time (s)", Noun: "the converter's acquisition time", Kind: kindNumber,
+		Placeholder: "e.g. 290n", Hint: "sar: how long the sampling capacitor is connected; the driver settles its kick to ½ LSB within it", Group: groupConv},
+	{Name: "converter_input_common_mode_v", Path: []string{"converter", "input_common_mode_v"}, Label: "Input common mode (V)", Noun: "the converter's input common mode", Kind: kindNumber,
+		Placeholder: "none", Hint: "for a differential input", Group: groupConv},
 	{Name: "supply_positive_v", Path: []string{"supply", "positive_v"}, Label: "Positive rail (V)", Noun: "the positive rail", Kind: kindNumber,
 		Placeholder: "none: no rail checks", Hint: "e.g. 5 for a single 5 V supply; gives the swing and input-range checks", Group: groupBoard},
 	{Name: "supply_negative_v", Path: []string{"supply", "negative_v"}, Label: "Negative rail (V)", Noun: "the negative rail", Kind: kindNumber,
@@ -310,6 +325,9 @@ func specJSON(vals formValues) ([]byte, error) {
 				return nil, &synth.FieldError{Field: f.jsonName(), Reason: fmt.Sprintf("must be 1 (ticked) or 0 (got %q)", clip(text))}
 			}
 		case kindChoice:
+			if f.OmitDefault && strings.EqualFold(text, f.Default) {
+				continue
+			}
 			v = text
 		}
 		put(obj, f.Path, v)
@@ -391,7 +409,7 @@ func canonicalQuery(vals formValues) string {
 	var b strings.Builder
 	for _, f := range allFields {
 		v := strings.TrimSpace(vals[f.Name])
-		if v == "" {
+		if v == "" || f.OmitDefault && strings.EqualFold(v, f.Default) {
 			continue
 		}
 		if b.Len() > 0 {

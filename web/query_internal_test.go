@@ -32,6 +32,10 @@ func TestSpecJSON(t *testing.T) {
 			"&converter_bits=16&converter_sample_rate_hz=48k&converter_full_scale_vpp=4&opamp_noise_v_per_rthz=4n&opamp_noise_a_per_rthz=1p&opamp_slew_v_per_s=20M",
 			want: `{"tolerance":{"resistor_pct":0.1,"capacitor_pct":1,"distribution":"gaussian"},"montecarlo":{"trials":1000,"seed":7},` +
 				`"converter":{"bits":16,"sample_rate_hz":48000,"full_scale_vpp":4},"opamp":{"noise_v_per_rthz":4e-9,"noise_a_per_rthz":1e-12,"slew_v_per_s":20000000}}`},
+		{name: "converter input fields flatten with _", query: "converter_architecture=sar&converter_input=single-ended&converter_sampling_capacitance_farad=30p&converter_acquisition_time_s=290n&converter_input_common_mode_v=2.5",
+			want: `{"converter":{"architecture":"sar","sampling_capacitance_farad":3e-11,"acquisition_time_s":2.9e-7,"input_common_mode_v":2.5}}`},
+		{name: "default converter choices alone are no converter", query: "converter_architecture=other&converter_input=single-ended", want: `{}`},
+		{name: "sampling capacitor not a number", query: "converter_sampling_capacitance_farad=big", field: "converter.sampling_capacitance_farad"},
 		{name: "delay equaliser flattens with _", query: "delay_equalizer_max_spread_pct=2", want: `{"delay_equalizer":{"max_spread_pct":2}}`},
 		{name: "delay equaliser not a number", query: "delay_equalizer_max_spread_pct=flat", field: "delay_equalizer.max_spread_pct"},
 		{name: "trials not a number", query: "montecarlo_trials=many", field: "montecarlo.trials"},

@@ -64,6 +64,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 	}
 	res.Bench = benchView(d)
 	res.Board = boardView(d)
+	res.Driver = driverView(d)
 	res.TableNote = "Gain is the stage's own gain at its reference frequency (DC for lowpass kinds, high frequency for highpass, f0 for bandpass). " +
 		"Peak at output is the highest level over frequency at the stage's output, relative to the filter's passband gain: at or below 0 dB, no stage clips before the output does."
 	if hasChain {

@@ -39,6 +39,12 @@ type Part struct {
 	// capacitance or output resistance ([Stage.WithParasitics]): it is
 	// analysed like any part but is not bought, drawn or toleranced.
 	Parasitic bool
+	// Driver marks a part of the converter driver: the R–C between the
+	// chain's last op-amp and a sampling converter's input, appended to
+	// the last stage by [Stage.WithDriver]. It is bought, drawn,
+	// toleranced and in the deck like any part; [Stage.WithoutDriver]
+	// gives the section's own circuit back.
+	Driver bool
 }
 
 // OpAmp is one amplifier of a stage, by its stage-local nodes.
@@ -51,7 +57,9 @@ type OpAmp struct {
 }
 
 // Stage is the circuit of one section. Its nodes are local: [In] is the
-// input, [Ground] the reference, Out the output (an op-amp output).
+// input, [Ground] the reference, Out the output (an op-amp output, or,
+// in the last stage of a chain with a converter driver, the driver's
+// capacitor node: see [Stage.WithDriver]).
 type Stage struct {
 	// Topology names the circuit ("sallen-key", "multiple-feedback",
 	// "state-variable", "rc-buffer", "inverting-rc", ...).

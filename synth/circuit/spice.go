@@ -85,7 +85,32 @@ type SpiceOptions struct {
 	// limiter at each op-amp output and an operating-point analysis (see
 	// [SpiceSupply]).
 	Supply *SpiceSupply
+	// Sampler, when set, puts a sampling converter's input on node out
+	// (see [SpiceSampler]).
+	Sampler *SpiceSampler
 }
+
+// DefaultAcqDataFile is the file the acquisition analysis writes when
+// SpiceSampler.DataFile is empty.
+const DefaultAcqDataFile = "acq.data"
+
+// SpiceSampler describes a SAR converter's input for the deck: its
+// sampling capacitor behind a switch on node out (see [Chain.WriteSPICE]).
+type SpiceSampler struct {
+	// CapacitanceFarad is the sampling capacitor; AcquisitionS how long
+	// the switch stays closed (the analysis' length); KickV the voltage
+	// the capacitor holds before the switch closes, relative to out's
+	// operating point (−Vfs: the other end of the range).
+	CapacitanceFarad, AcquisitionS, KickV float64
+	// SwitchOhm is the closed switch's resistance (> 0).
+	SwitchOhm float64
+	// DataFile is the acquisition analysis' data file;
+	// DefaultAcqDataFile when empty.
+	DataFile string
+}
+
+// SamplerNode is the deck's node of the sampling capacitor.
+const SamplerNode = "acq_samp"
 
 // OpDataFile is the file the deck's operating-point analysis writes (one
 // row: the operating-point plot's first vector, then v(out), the last
@@ -424,6 +449,18 @@ func checkDataFile(field, name string) error {
 // .nodeset of the integrators at the reference; with Noise.CornerHz the
 // noise sources carry 1/f noise (see writeFlicker).
 //
+// With opt.Sampler the deck carries a sampling converter's input on node
+// out: the sampling capacitor Cacqs (node acq_samp to ground) behind switch
+// Sacq (ron Sampler.SwitchOhm, roff 1e12 Ohm), held at KickV relative to
+// the reference through a second switch until the acquisition. Both
+// switches follow acq_arm, 0 V in every analysis but the last: there Sacq
+// is open, so the .ac, noise and step analyses see the filter alone (out
+// loaded by 1e12 Ohm). The .control block then runs one acquisition: it
+// holds the source at its DC level (alter @vin[pwl]), sets acq_arm to 1 V,
+// runs `tran` over Sampler.AcquisitionS (2000 steps, the switch closing
+// over its first 1e-4) and writes v(acq_samp) and v(out) to
+// Sampler.DataFile.
+//
 // Values are written in exponent form with at least 12 significant digits
 // and as many as the exact float64 needs (see the package documentation),
 // with no scale suffixes. The chain is validated first; an
@@ -456,6 +493,21 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	sup, err := resolveSupply(opt.Supply)
 	if err != nil {
 		return err
+	}
+	smp := opt.Sampler
+	acqFile := ""
+	if smp != nil {
+		if !finitePositive(smp.CapacitanceFarad) || !finitePositive(smp.AcquisitionS) || !finitePositive(smp.SwitchOhm) ||
+			math.IsNaN(smp.KickV) || math.IsInf(smp.KickV, 0) {
+			return invalidf("spice options: Sampler needs finite CapacitanceFarad, AcquisitionS, SwitchOhm > 0 and a finite KickV")
+		}
+		acqFile = smp.DataFile
+		if acqFile == "" {
+			acqFile = DefaultAcqDataFile
+		}
+		if err := checkDataFile("Sampler.DataFile", acqFile); err != nil {
+			return err
+		}
 	}
 	title := opt.Title
 	if title == "" {
@@ -529,6 +581,29 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 			fmt.Fprintf(b, "%s %s %s %s %s%s\n", SpiceName(c.Ref(stage, u.Ref)),
 				node(stage, u.Plus), node(stage, u.Minus), node(stage, u.Out), refPin, opAmpSubckt)
 		}
+	}
+	if smp != nil {
+		// The converter's input: the sampling capacitor, held at the kick
+		// voltage through Sacqpre until the acquisition starts, then
+		// switched onto out through Sacq. acq_arm is 0 V in every
+		// analysis but the acquisition, which sets it to 1 V: until then
+		// Sacq is open (1e12 Ohm) and the capacitor sits at 0 V.
+		fmt.Fprintf(b, "* converter input: sampling capacitor %s F behind a %s Ohm switch, closed for\n", spiceNum(smp.CapacitanceFarad), spiceNum(smp.SwitchOhm))
+		fmt.Fprintf(b, "* %s s from t = 0 in the acquisition analysis, charged %s V from out before.\n", spiceNum(smp.AcquisitionS), spiceNum(smp.KickV))
+		rise := smp.AcquisitionS * 1e-4
+		b.WriteString("Vacqarm acq_arm 0 DC 0\n")
+		fmt.Fprintf(b, "Vacqramp acq_ramp 0 DC 0 PWL(0 0 %s 1)\n", spiceNum(rise))
+		b.WriteString("Bacqctl acq_ctl 0 V = V(acq_arm)*V(acq_ramp)\n")
+		b.WriteString("Bacqctln acq_ctln 0 V = 1 - V(acq_ctl)\n")
+		if sup != nil {
+			fmt.Fprintf(b, "Bacqpre acq_pre 0 V = V(ref) + V(acq_arm)*(%s)\n", spiceNum(smp.KickV))
+		} else {
+			fmt.Fprintf(b, "Bacqpre acq_pre 0 V = V(acq_arm)*(%s)\n", spiceNum(smp.KickV))
+		}
+		fmt.Fprintf(b, "Sacqpre acq_pre %s acq_ctln 0 pw_acqsw\n", SamplerNode)
+		fmt.Fprintf(b, "Sacq out %s acq_ctl 0 pw_acqsw\n", SamplerNode)
+		fmt.Fprintf(b, "Cacqs %s %s %s\n", SamplerNode, gnd, spiceNum(smp.CapacitanceFarad))
+		fmt.Fprintf(b, ".model pw_acqsw sw(vt=0.5 vh=0 ron=%s roff=1e12)\n", spiceNum(smp.SwitchOhm))
 	}
 	fmt.Fprintf(b, ".subckt %s inp inn out%s\n", opAmpSubckt, strings.TrimSuffix(" "+refPin, " "))
 	if m.InputCapacitanceFarad > 0 {
@@ -651,6 +726,19 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		// the analyses before it).
 		b.WriteString("let vout_c = v(out) + j(0)\n")
 		fmt.Fprintf(b, "wrdata %s vout_c\n", tr.file)
+	}
+	if smp != nil {
+		// One acquisition: the input held at its DC level, the switch
+		// closed at t = 0; v(acq_samp) and v(out).
+		if tr != nil {
+			b.WriteString("alter @vin[pwl] = [ 0 0 1 0 ]\n")
+		}
+		b.WriteString("alter vacqarm dc = 1\n")
+		st := smp.AcquisitionS / 2000
+		fmt.Fprintf(b, "tran %s %s 0 %s\n", spiceNum(st), spiceNum(smp.AcquisitionS), spiceNum(st))
+		fmt.Fprintf(b, "let vsamp_c = v(%s) + j(0)\n", SamplerNode)
+		b.WriteString("let vout_a = v(out) + j(0)\n")
+		fmt.Fprintf(b, "wrdata %s vsamp_c vout_a\n", acqFile)
 	}
 	b.WriteString("quit\n")
 	b.WriteString(".endc\n")

@@ -206,6 +206,7 @@ func TestDeckFormat(t *testing.T) {
 
 func TestSpiceOptions(t *testing.T) {
 	t.Parallel()
+	sampler := circuit.SpiceSampler{CapacitanceFarad: 30e-12, AcquisitionS: 290e-9, KickV: -4.096, SwitchOhm: 0.05}
 	chain := circuit.Chain{Model: ideal, Stages: []circuit.Stage{sallenKeyLP(skR1, skR2, skC1, skC2)}}
 	tests := []struct {
 		name string
@@ -248,6 +249,16 @@ func TestSpiceOptions(t *testing.T) {
 		{"bad-tran-step", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, StepS: 2}}, "Transient.StepS", true},
 		{"bad-tran-rise", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, RiseS: 1}}, "Transient.RiseS", true},
 		{"bad-tran-data", circuit.SpiceOptions{Transient: &circuit.SpiceTransient{StopS: 1, DataFile: "a'b"}}, "Transient.DataFile", true},
+		// Sampler: the sampling capacitor behind its switch, one acquisition.
+		{"sampler-cap", circuit.SpiceOptions{Sampler: &sampler}, "Cacqs acq_samp 0 3.00000000000e-11", false},
+		{"sampler-switch", circuit.SpiceOptions{Sampler: &sampler}, "Sacq out acq_samp acq_ctl 0 pw_acqsw", false},
+		{"sampler-kick", circuit.SpiceOptions{Sampler: &sampler}, "Bacqpre acq_pre 0 V = V(acq_arm)*(-4.09600000000e+00)", false},
+		{"sampler-tran", circuit.SpiceOptions{Sampler: &sampler}, "tran 1.45000000000e-10 2.90000000000e-07 0 1.45000000000e-10", false},
+		{"sampler-data", circuit.SpiceOptions{Sampler: &sampler}, "wrdata " + circuit.DefaultAcqDataFile + " vsamp_c vout_a", false},
+		{"sampler-holds-the-step", circuit.SpiceOptions{Sampler: &sampler, Transient: &circuit.SpiceTransient{StopS: 1e-2}}, "alter @vin[pwl] = [ 0 0 1 0 ]", false},
+		{"bad-sampler-cap", circuit.SpiceOptions{Sampler: &circuit.SpiceSampler{AcquisitionS: 1e-6, SwitchOhm: 1}}, "Sampler", true},
+		{"bad-sampler-kick", circuit.SpiceOptions{Sampler: &circuit.SpiceSampler{CapacitanceFarad: 1e-12, AcquisitionS: 1e-6, SwitchOhm: 1, KickV: math.Inf(1)}}, "Sampler", true},
+		{"bad-sampler-data", circuit.SpiceOptions{Sampler: &circuit.SpiceSampler{CapacitanceFarad: 1e-12, AcquisitionS: 1e-6, SwitchOhm: 1, DataFile: "a b"}}, "Sampler.DataFile", true},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -54,7 +54,8 @@ func (m Model) a0() float64 { return math.Pow(10, m.DCGainDB/20) }
 // and > 0, its tolerance finite and ≥ 0, and its two nodes differ; every
 // op-amp has three nodes, distinct inputs, and an output that is neither
 // [In] nor [Ground] nor another op-amp's output; Out is set and is an
-// op-amp output; every node is connected to at least two terminals and,
+// op-amp output or a converter driver's node (a node of a part with
+// Driver set, see [Stage.WithDriver]); every node is connected to at least two terminals and,
 // through parts and op-amp outputs (an op-amp output is a source referred
 // to ground), to [Ground] — so no node floats.
 func (st Stage) Validate() error {
@@ -156,7 +157,7 @@ func (st Stage) check() (*nodeTable, error) {
 	if st.Out == "" {
 		return nil, invalidf("Out is not set")
 	}
-	if k := t.index(st.Out); k < 0 || !slices.Contains(outs, k) {
+	if k := t.index(st.Out); k < 0 || !slices.Contains(outs, k) && !st.drivesOut() {
 		return nil, invalidf("Out %q is not an op-amp output", st.Out)
 	}
 	for i, n := range t.names {
@@ -174,7 +175,8 @@ func (st Stage) check() (*nodeTable, error) {
 }
 
 // Validate checks the whole chain: at least one stage, the model (see
-// [Model.Validate]) and every stage (see [Stage.Validate]). Errors name the
+// [Model.Validate]) and every stage (see [Stage.Validate]), and that no
+// stage but the last carries converter driver parts. Errors name the
 // stage (1-based) and the field, and wrap [ErrInvalid].
 func (c Chain) Validate() error {
 	if len(c.Stages) == 0 {
@@ -186,6 +188,9 @@ func (c Chain) Validate() error {
 	for k, st := range c.Stages {
 		if err := st.Validate(); err != nil {
 			return fmt.Errorf("stage %d (%s): %w", k+1, st.Topology, err)
+		}
+		if k < len(c.Stages)-1 && st.HasDriver() {
+			return invalidf("stage %d (%s): only the last stage may carry the converter driver", k+1, st.Topology)
 		}
 	}
 	return nil

@@ -92,6 +92,9 @@ func TestSensitivitiesAgainstCentralDifferences(t *testing.T) {
 	var cases []stageCase
 	for name, ch := range exampleChains(t) {
 		for i, st := range ch.Stages {
+			// A SAR converter's driver R–C is not part of the section
+			// whose f0 and Q synth reads the sensitivities of.
+			st = st.WithoutDriver()
 			cases = append(cases, stageCase{fmt.Sprintf("%s/stage%d", name, i+1), st, []circuit.Model{ideal, singlePole, ch.Model}})
 		}
 	}

@@ -138,6 +138,9 @@ type Result struct {
 	// Board is the panel on the board around the filter: the signal's
 	// extremes at every op-amp and the DC error; nil before verification.
 	Board *BoardView
+	// Driver is the panel on the R–C that drives a SAR converter's input;
+	// nil without one.
+	Driver *DriverView
 	// Downloads are the export links.
 	Downloads []Link
 	// Permalink is the address of this result page.
@@ -343,4 +346,12 @@ type BoardView struct {
 type BoardRow struct {
 	Cells []string
 	Bad   bool
+}
+
+// DriverView is the "Into the converter" panel: the SAR driver's R–C, the
+// kick it absorbs, how far it settles and the op-amp's phase margin with
+// it, and synth's reason for the values.
+type DriverView struct {
+	Figures []Figure
+	Reason  string
 }

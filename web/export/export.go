@@ -153,5 +153,13 @@ func writeSpice(w io.Writer, d *synth.Design) error {
 		opt.Supply = &circuit.SpiceSupply{PositiveV: p.PositiveV, NegativeV: p.NegativeV, ReferenceV: p.ReferenceV,
 			OutputHeadroomV: d.Spec.OpAmp.OutputHeadroomV, StepLowV: -a, StepHighV: a}
 	}
+	if dr, c := d.Driver, d.Spec.Converter; dr != nil && c != nil {
+		// The converter's sampling capacitor at the other end of the
+		// range, switched on for one acquisition; the switch's own
+		// resistance is not in the spec, so it is 1/1000 of R's, too
+		// small to change the settling.
+		opt.Sampler = &circuit.SpiceSampler{CapacitanceFarad: c.SamplingCapacitanceFarad, AcquisitionS: c.AcquisitionTimeS,
+			KickV: -c.FullScaleVpp, SwitchOhm: dr.ROhm / 1000}
+	}
 	return ch.WriteSPICE(w, opt)
 }

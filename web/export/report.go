@@ -67,9 +67,11 @@ type report struct {
 	Noise           []pair
 	Contributors    []pair
 	Yield           []pair
-	Cautions        []string
-	SpecJSON        string
-	Notes           []string
+	// Driver are the SAR driver's figures and reason; nil without one.
+	Driver   []pair
+	Cautions []string
+	SpecJSON string
+	Notes    []string
 }
 
 // pair is a label and its value.
@@ -242,6 +244,20 @@ func newReport(d *synth.Design) (*report, error) {
 			{"Seed", strconv.FormatUint(mc.Seed, 10)},
 			{"Yield (boards passing the acceptance rule)", strconv.FormatFloat(100*mc.Yield, 'f', 1, 64) + " %"},
 			{"Part tolerances drawn", fmt.Sprintf("resistors %g %%, capacitors %g %%, %s", s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, s.Tolerance.Distribution)},
+		}
+	}
+	if dr := d.Driver; dr != nil && len(dr.Components) == 2 {
+		pm := "not judged (ideal op-amp)"
+		if dr.PhaseMarginDeg != nil {
+			pm = fmt.Sprintf("%.0f°", *dr.PhaseMarginDeg)
+		}
+		r.Driver = []pair{
+			{"R", dr.Components[0].Ref + " " + si.Format(dr.ROhm, "Ω", 3)},
+			{"C", dr.Components[1].Ref + " " + si.Format(dr.CFarad, "F", 3) + " " + dr.Dielectric},
+			{"Kick of a full-scale step, Vfs·Cs/(Cs + C)", si.Format(dr.KickbackV, "V", 3)},
+			{"Left at the end of the acquisition", fmt.Sprintf("%.3g LSB after %s", dr.SettledErrorLSB, si.Format(dr.AcquisitionTimeS, "s", 3))},
+			{"Phase margin of the last op-amp with R–C", pm},
+			{"Why", dr.Reason},
 		}
 	}
 	for _, c := range d.Checks {

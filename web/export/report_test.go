@@ -25,6 +25,9 @@ var reportSpecs = []struct{ name, spec string }{
 	{"mains notch at 100 Vpp", `{"response": "bandstop", "passband_hz": [40, 62], "stopband_hz": [48, 52], "passband_ripple_db": 3, "stopband_atten_db": 30,
 		"gain_db": -20, "converter": {"bits": 16, "sample_rate_hz": 1000, "full_scale_vpp": 10}, "resistor_range_ohm": [1000, 10000000]}`},
 	{"exact highpass", `{"response": "highpass", "approximation": "chebyshev2", "passband_hz": 300, "stopband_hz": 100, "values": "exact"}`},
+	{"SAR driver", `{"approximation": "butterworth", "passband_hz": 20000, "passband_ripple_db": 0.1,
+		"converter": {"bits": 16, "sample_rate_hz": 1000000, "full_scale_vpp": 4.096, "alias_atten_db": 80,
+		"architecture": "sar", "sampling_capacitance_farad": 30e-12, "acquisition_time_s": 290e-9}, "opamp": {"gbw_hz": 50e6, "output_resistance_ohm": 40}}`},
 }
 
 // outside finds what would make a browser fetch something: a src, href
@@ -90,6 +93,15 @@ func TestReport(t *testing.T) {
 				i := strings.Index(page, id)
 				require.Greater(t, i, last, "%s after the section before it", id)
 				last = i
+			}
+			// A SAR driver: its figures and synth's reason in the stages
+			// section.
+			if d.Driver != nil {
+				stages := page[strings.Index(page, `id="stages"`):strings.Index(page, `data-testid="bom"`)]
+				require.Contains(t, stages, `data-testid="driver"`)
+				require.Contains(t, html.UnescapeString(stages), d.Driver.Reason)
+			} else {
+				require.NotContains(t, page, `data-testid="driver"`)
 			}
 			cautions := page[strings.Index(page, `data-testid="cautions"`):]
 			for _, c := range d.Checks {

@@ -19,7 +19,7 @@ const schematicGapPx = 24
 
 // StageTitle returns the caption of stage k (1-based) of d's chain ch:
 // its number, topology and, when the design has a section for it, its
-// f0 and Q.
+// f0 and Q, and, on the last stage, the SAR converter's driver parts.
 func StageTitle(d *synth.Design, ch circuit.Chain, k int) string {
 	t := fmt.Sprintf("Stage %d: %s", k, ch.Stages[k-1].Topology)
 	if k-1 < len(d.Sections) {
@@ -28,6 +28,9 @@ func StageTitle(d *synth.Design, ch circuit.Chain, k int) string {
 		if s.Q != nil {
 			t += ", Q " + strconv.FormatFloat(*s.Q, 'g', 4, 64)
 		}
+	}
+	if dr := d.Driver; dr != nil && k == len(ch.Stages) && len(dr.Components) == 2 {
+		t += fmt.Sprintf("; %s and %s drive the SAR converter's input", dr.Components[0].Ref, dr.Components[1].Ref)
 	}
 	return t
 }
