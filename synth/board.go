@@ -19,9 +19,8 @@ import (
 //
 // Every ground connection of the filter is the reference on a board with
 // a supply (the deck's node ref), so the circuit is linear around it: a
-// node's voltage is the reference plus its small-signal voltage. Offsets
-// and bias currents are left out of the extremes (Design.DC gives the
-// output's).
+// node's voltage is the reference plus its DC error (the op-amps' offsets
+// and bias currents, SwingNode.DCV) plus its small-signal voltage.
 
 // Pin kinds of a SwingNode.
 const (
@@ -59,6 +58,10 @@ type SwingNode struct {
 	// signal_vpp/2 to reference + signal_vpp/2 (nil when the board as
 	// built is unstable).
 	StepV *[2]float64 `json:"step_v"`
+	// DCV is the node's DC error from the op-amps' offsets and bias
+	// currents (as Design.DC computes the output's): the sine and the step
+	// swing around the reference plus DCV.
+	DCV float64 `json:"dc_v"`
 	// GainMax is the largest |V(node)/V(in)| over frequency, at PeakHz.
 	GainMax float64 `json:"gain_max"`
 	PeakHz  float64 `json:"peak_hz"`
@@ -135,6 +138,44 @@ func (d *Design) board(ch circuit.Chain, tfs circuit.Cascade) error {
 	return d.swing(ch, tfs)
 }
 
+// pinAt is a node the swing lists: its stage-local name, its kind and
+// the op-amp it belongs to.
+type pinAt struct {
+	local, pin, ref string
+}
+
+// swingPins lists a stage's op-amp non-inverting inputs (but those on the
+// reference) and outputs, in the op-amps' order, and the stage's output
+// when it is not an op-amp's (the converter's driver R–C after the last
+// op-amp), under the op-amp that drives it: out is always listed.
+func swingPins(st circuit.Stage) []pinAt {
+	var pins []pinAt
+	for _, u := range st.OpAmps {
+		if u.Plus != circuit.Ground {
+			pins = append(pins, pinAt{u.Plus, PinInput, u.Ref})
+		}
+		pins = append(pins, pinAt{u.Out, PinOutput, u.Ref})
+	}
+	if !slices.ContainsFunc(st.OpAmps, func(u circuit.OpAmp) bool { return u.Out == st.Out }) {
+		ref := ""
+		for _, part := range st.Parts {
+			other := part.A
+			if other == st.Out {
+				other = part.B
+			} else if part.B != st.Out {
+				continue
+			}
+			for _, u := range st.OpAmps {
+				if u.Out == other {
+					ref = u.Ref
+				}
+			}
+		}
+		pins = append(pins, pinAt{st.Out, PinOutput, ref})
+	}
+	return pins
+}
+
 // reference returns the signal's zero, in V.
 func (d *Design) reference() float64 {
 	if p := d.Spec.Supply; p != nil {
@@ -165,17 +206,8 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		sw := &Swing{Nodes: []SwingNode{}}
 		// The stage's listed nodes, and their transfers from its input in
 		// one nodal interpolation (the output's is tfs[k]).
-		type pinAt struct {
-			local, pin, ref string
-		}
-		var pins []pinAt
+		pins := swingPins(st)
 		var others []string
-		for _, u := range st.OpAmps {
-			if u.Plus != circuit.Ground {
-				pins = append(pins, pinAt{u.Plus, PinInput, u.Ref})
-			}
-			pins = append(pins, pinAt{u.Out, PinOutput, u.Ref})
-		}
 		for _, p := range pins {
 			if p.local != st.Out && !slices.Contains(others, p.local) {
 				others = append(others, p.local)
@@ -208,7 +240,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 				}
 			}
 			n.GainMax = math.Sqrt(g2)
-			n.SineV = [2]float64{ref - amp*n.GainMax, ref + amp*n.GainMax}
+			n.DCV = d.nodeDC[n.Node]
+			mid := ref + n.DCV // the node's DC level: the reference and its offset
+			n.SineV = [2]float64{mid - amp*n.GainMax, mid + amp*n.GainMax}
 			n.PeakV = n.SineV
 			if len(t) > 1 {
 				last := step.FromRational(r)
@@ -223,7 +257,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 				}
 				if err == nil && allFinite(y) {
 					h0 := dcUp * real(r.At(0))
-					lo, hi := ref-amp*h0, ref-amp*h0
+					lo, hi := mid-amp*h0, mid-amp*h0
 					ymin, ymax := y[0], y[0]
 					for _, v := range y {
 						if v < ymin {
@@ -232,8 +266,8 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 							ymax = v
 						}
 					}
-					lo = math.Min(lo, ref-amp*h0+2*amp*ymin)
-					hi = math.Max(hi, ref-amp*h0+2*amp*ymax)
+					lo = math.Min(lo, mid-amp*h0+2*amp*ymin)
+					hi = math.Max(hi, mid-amp*h0+2*amp*ymax)
 					n.StepV = &[2]float64{lo, hi}
 					n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
 				}
@@ -381,5 +415,48 @@ func (d *Design) dcReport(ch circuit.Chain) error {
 		rep.BudgetLSB = &b
 	}
 	d.DC = rep
+	return d.nodeOffsets(ch)
+}
+
+// nodeOffsets fills d.nodeDC: the DC error of every node the swing lists,
+// stage by stage, from the stage input's (the previous output's) through
+// the node's DC gain and the stage's own sources, by one factorization of
+// each stage's nodal matrix at s = 0.
+func (d *Design) nodeOffsets(ch circuit.Chain) error {
+	m := ch.Model
+	d.nodeDC = map[string]float64{}
+	offIn := 0.0
+	for k, st := range ch.Stages {
+		var srcs []circuit.Source
+		var vals []float64
+		for q, u := range st.OpAmps {
+			srcs = append(srcs, circuit.Source{OpAmp: q + 1})
+			vals = append(vals, m.OffsetV)
+			for _, node := range []string{u.Plus, u.Minus} {
+				if node != circuit.Ground {
+					srcs = append(srcs, circuit.Source{To: circuit.Ground, From: node})
+					vals = append(vals, m.BiasA)
+				}
+			}
+		}
+		nodes := []string{st.Out}
+		for _, p := range swingPins(st) {
+			if !slices.Contains(nodes, p.local) {
+				nodes = append(nodes, p.local)
+			}
+		}
+		fromIn, per, err := st.DCNodeTransfers(m, srcs, nodes)
+		if err != nil {
+			return fmt.Errorf("synth: DC error, stage %d: %w", k+1, err)
+		}
+		for i, node := range nodes {
+			v := fromIn[i] * offIn
+			for j, x := range vals {
+				v += per[i][j] * x
+			}
+			d.nodeDC[ch.Node(k+1, node)] = finiteOr(v, 0)
+		}
+		offIn = d.nodeDC[ch.Node(k+1, st.Out)]
+	}
 	return nil
 }

@@ -102,6 +102,7 @@ type Design struct {
 	tf       zpk.ZPK
 	eqNote   string // what the delay equaliser did, said in its sections' reasons
 	eqFig    *DelayEqualizerReport
+	nodeDC   map[string]float64 // DC error of each swing node, by deck node name
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
 }

@@ -66,7 +66,7 @@ func boardView(d *synth.Design) *components.BoardView {
 		}
 	}
 	b.Notes = append(b.Notes, "Lowest and highest are the extremes of a full-size sine at every frequency and of the step, at each op-amp output and non-inverting input "+
-		"(an input tied to the reference is left out); offsets are not added. Outputs are allowed the rails less the output headroom, inputs the rails less the input headroom. "+
+		"(an input tied to the reference is left out), around the reference plus the node's DC error. Outputs are allowed the rails less the output headroom, inputs the rails less the input headroom. "+
 		"Every ground connection of the filter goes to the reference.")
 	if s.OpAmp.InputCapacitanceFarad > 0 || s.OpAmp.OutputResistanceOhm > 0 {
 		b.Notes = append(b.Notes, fmt.Sprintf("The response, noise, Monte Carlo and deck include the op-amp's input capacitance (%s at each input) and open-loop output resistance (%s).",

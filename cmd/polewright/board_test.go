@@ -25,6 +25,11 @@ import (
 // own with every field of the board issue set: rails, reference, signal,
 // headrooms, offset, bias current, input capacitance, output resistance.
 var boardSpecs = []struct{ name, spec string }{
+	{"SAR driver on 5 V", `{"approximation": "butterworth", "passband_hz": 20000, "passband_ripple_db": 0.5, "topology": "multiple-feedback",
+	  "converter": {"bits": 16, "sample_rate_hz": 500000, "full_scale_vpp": 4, "alias_atten_db": 60, "architecture": "sar",
+	                "sampling_capacitance_farad": 30e-12, "acquisition_time_s": 500e-9},
+	  "supply": {"positive_v": 5}, "signal_vpp": 3,
+	  "opamp": {"gbw_hz": 50e6, "offset_v": 0.5e-3, "bias_a": 1e-6, "input_capacitance_farad": 2e-12, "output_resistance_ohm": 30}}`},
 	{"one-op-amp notches and all-pass equaliser on 5 V", `{"approximation": "elliptic", "passband_hz": 1000, "stopband_hz": 3000, "stopband_atten_db": 30,
 	  "topology": "one-amp-notch", "delay_equalizer": {"max_spread_pct": 5}, "supply": {"positive_v": 5}, "signal_vpp": 3,
 	  "opamp": {"gbw_hz": 5e6, "offset_v": 1e-3, "bias_a": 100e-9, "input_capacitance_farad": 3e-12, "output_resistance_ohm": 50},
@@ -59,6 +64,7 @@ type boardDesign struct {
 				SineV   [2]float64  `json:"sine_v"`
 				StepV   *[2]float64 `json:"step_v"`
 				GainMax float64     `json:"gain_max"`
+				DCV     float64     `json:"dc_v"`
 				LimitV  *[2]float64 `json:"limit_v"`
 			} `json:"nodes"`
 		} `json:"swing"`
@@ -145,6 +151,8 @@ func TestBoardAgainstNgspice(t *testing.T) {
 			opOut := readOp(t, filepath.Join(dir, circuit.OpDataFile))
 			require.InDelta(t, d.DC.OutputOffsetV, opOut-ref, 0.01*math.Abs(d.DC.OutputOffsetV)+1e-9,
 				"dc offset: design %g V, ngspice %g V", d.DC.OutputOffsetV, opOut-ref)
+			last := d.Sections[len(d.Sections)-1].Swing.Nodes
+			require.InDelta(t, d.DC.OutputOffsetV, last[len(last)-1].DCV, 1e-9+1e-6*math.Abs(d.DC.OutputOffsetV), "out's dc_v is the output offset")
 
 			// .ac at the swing nodes
 			k := 1
@@ -155,7 +163,7 @@ func TestBoardAgainstNgspice(t *testing.T) {
 						peak = math.Max(peak, cmplx.Abs(x))
 					}
 					require.InEpsilon(t, n.GainMax, peak, 0.02, "node %s", n.Node)
-					require.InDelta(t, ref+d.Spec.SignalVppV()/2*peak, n.SineV[1], 0.02*math.Abs(n.SineV[1]-ref)+1e-9, "node %s sine", n.Node)
+					require.InDelta(t, ref+n.DCV+d.Spec.SignalVppV()/2*peak, n.SineV[1], 0.02*math.Abs(n.SineV[1]-ref)+1e-9, "node %s sine", n.Node)
 					k++
 				}
 			}
@@ -183,7 +191,6 @@ func TestBoardAgainstNgspice(t *testing.T) {
 
 			// .tran of the full-scale step, clipped by the limiter.
 			tmin, tmax := readTranExtremes(t, filepath.Join(dir, circuit.DefaultTranDataFile))
-			last := d.Sections[len(d.Sections)-1].Swing.Nodes
 			outNode := last[len(last)-1]
 			require.Equal(t, "out", outNode.Node)
 			require.NotNil(t, outNode.StepV)

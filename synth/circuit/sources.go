@@ -43,13 +43,13 @@ type sourceRHS struct {
 // compileSources checks the stage, the model and the sources and compiles
 // the stage (with the model's parasitics) with each source as a
 // right-hand side; scale is the system's p unit in rad/s.
-func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, float64, error) {
+func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, float64, *nodeTable, error) {
 	if err := m.Validate(); err != nil {
-		return nil, nil, 0, err
+		return nil, nil, 0, nil, err
 	}
 	t, err := st.check()
 	if err != nil {
-		return nil, nil, 0, err
+		return nil, nil, 0, nil, err
 	}
 	nOps := len(st.OpAmps)
 	st, t = st.withParasitics(m, t)
@@ -62,19 +62,19 @@ func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, fl
 	for i, s := range srcs {
 		if s.OpAmp != 0 {
 			if s.OpAmp < 1 || s.OpAmp > nOps {
-				return nil, nil, 0, invalidf("source %d: no op-amp %d", i+1, s.OpAmp)
+				return nil, nil, 0, nil, invalidf("source %d: no op-amp %d", i+1, s.OpAmp)
 			}
 			bs[i] = sourceRHS{a: nodes + s.OpAmp, b: -1, w: 1}
 			continue
 		}
 		for _, name := range []string{s.To, s.From} {
 			if t.index(name) < 0 {
-				return nil, nil, 0, invalidf("source %d: no node %q", i+1, name)
+				return nil, nil, 0, nil, invalidf("source %d: no node %q", i+1, name)
 			}
 		}
 		a, b := t.unknown(s.To), t.unknown(s.From)
 		if a == b {
-			return nil, nil, 0, invalidf("source %d: To and From are both %q", i+1, s.To)
+			return nil, nil, 0, nil, invalidf("source %d: To and From are both %q", i+1, s.To)
 		}
 		if a < 0 {
 			a, b = b, -1
@@ -83,7 +83,7 @@ func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, fl
 		}
 		bs[i] = sourceRHS{a: a, b: b, w: rn}
 	}
-	return sys, bs, scale, nil
+	return sys, bs, scale, t, nil
 }
 
 // SourceTransfers returns the transfer of each source of srcs to the
@@ -101,7 +101,7 @@ func (st Stage) compileSources(m Model, srcs []Source) (*system, []sourceRHS, fl
 // or a source naming no node or op-amp of the stage, and one wrapping
 // [ErrSingular] when the nodal determinant vanishes identically.
 func (st Stage) SourceTransfers(m Model, srcs []Source) (SourceTransfers, error) {
-	sys, bs, scale, err := st.compileSources(m, srcs)
+	sys, bs, scale, _, err := st.compileSources(m, srcs)
 	if err != nil {
 		return SourceTransfers{}, err
 	}
@@ -182,29 +182,53 @@ func (s SourceTransfers) AtAxis(x float64, dst []float64) float64 {
 // wrapping [ErrSingular] when the stage has no DC solution (a node
 // without a DC path).
 func (st Stage) DCSourceTransfers(m Model, srcs []Source) ([]float64, error) {
-	sys, bs, _, err := st.compileSources(m, srcs)
+	_, per, err := st.DCNodeTransfers(m, srcs, []string{st.Out})
 	if err != nil {
 		return nil, err
+	}
+	return per[0], nil
+}
+
+// DCNodeTransfers is [Stage.DCSourceTransfers] to the voltage of each of
+// nodes: for node i, fromIn[i] is V(node)/V(In) at DC and perSource[i][j]
+// the transfer of source j, from one factorization of the nodal matrix at
+// s = 0 and one transposed solve per node.
+func (st Stage) DCNodeTransfers(m Model, srcs []Source, nodes []string) (fromIn []float64, perSource [][]float64, err error) {
+	sys, bs, _, t, err := st.compileSources(m, srcs)
+	if err != nil {
+		return nil, nil, err
+	}
+	cols := make([]int, len(nodes))
+	for i, node := range nodes {
+		if node == Ground || t.index(node) < 0 {
+			return nil, nil, invalidf("no node %q", node)
+		}
+		cols[i] = t.unknown(node)
 	}
 	n := sys.n
 	a := make([]complex128, n*n)
 	for j, g := range sys.g {
 		a[j] = complex(g, 0)
 	}
-	// Aᵀ·y = e_out: V(out) per unit of each right-hand side is y·b.
+	// Aᵀ·y = e_node: V(node) per unit of each right-hand side is y·b.
 	if lu.Factor(a, n, sys.piv) == 0 {
-		return nil, fmt.Errorf("%w: the nodal matrix is singular at DC (a node without a DC path)", ErrSingular)
+		return nil, nil, fmt.Errorf("%w: the nodal matrix is singular at DC (a node without a DC path)", ErrSingular)
 	}
 	y := make([]complex128, n)
-	y[sys.outCol] = 1
-	lu.SolveTransposed(a, n, sys.piv, y)
-	out := make([]float64, len(bs))
-	for i, b := range bs {
-		v := y[b.a]
-		if b.b >= 0 {
-			v -= y[b.b]
+	for _, c := range cols {
+		clear(y)
+		y[c] = 1
+		lu.SolveTransposed(a, n, sys.piv, y)
+		fromIn = append(fromIn, real(y[sys.srcRow]))
+		out := make([]float64, len(bs))
+		for i, b := range bs {
+			v := y[b.a]
+			if b.b >= 0 {
+				v -= y[b.b]
+			}
+			out[i] = real(v) * b.w
 		}
-		out[i] = real(v) * b.w
+		perSource = append(perSource, out)
 	}
-	return out, nil
+	return fromIn, perSource, nil
 }
