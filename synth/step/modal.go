@@ -103,51 +103,10 @@ func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 	if zero {
 		return make([]float64, len(tS)), nil
 	}
-	type term struct {
-		p, r complex128
-		pair bool
+	me, err := newModalEval(stages, rs)
+	if err != nil {
+		return nil, err
 	}
-	var terms []term
-	sumAbs := 0.0
-	for k, r := range rs {
-		for m, x := range r.poles {
-			if !(real(x) < 0) {
-				return nil, ErrUnstable
-			}
-			if imag(x) < 0 {
-				continue
-			}
-			p := x * complex(r.ws, 0)
-			res := complex(r.ws*r.k, 0)
-			for _, z := range r.zeros {
-				res *= x - z
-			}
-			for i, q := range r.poles {
-				if i != m {
-					res /= x - q
-				}
-			}
-			for l, st := range stages {
-				if l != k {
-					res *= st.At(p)
-				}
-			}
-			res /= p
-			if cmplx.IsNaN(res) || cmplx.IsInf(res) {
-				return nil, ErrIllConditioned
-			}
-			pair := imag(x) > 0
-			a := cmplx.Abs(res)
-			if pair {
-				a *= 2
-			}
-			sumAbs += a
-			terms = append(terms, term{p: p, r: res, pair: pair})
-		}
-	}
-	final := DCGain(stages)
-	start := highGain(stages)
-	scale := math.Max(math.Abs(final), math.Abs(start))
 	t1 := 0.0
 	for _, t := range tS {
 		if t > 0 {
@@ -155,77 +114,23 @@ func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 			break
 		}
 	}
-	kept := terms[:0]
-	for _, tm := range terms {
-		a := cmplx.Abs(tm.r)
+	if !me.conditioned(t1) {
+		return nil, ErrIllConditioned
+	}
+	// Modes that have decayed below 1e-12 of the residues' sum by t1 are
+	// left out after it.
+	kept := me.terms[:0:0]
+	for _, tm := range me.terms {
+		a := cmplx.Abs(tm.r) * math.Exp(real(tm.p)*t1)
 		if tm.pair {
 			a *= 2
 		}
-		if t1 > 0 {
-			a *= math.Exp(real(tm.p) * t1)
-		}
-		scale = math.Max(scale, a)
-		if t1 == 0 || a >= 1e-12*sumAbs {
+		if t1 == 0 || a >= 1e-12*me.sumAbs {
 			kept = append(kept, tm)
 		}
 	}
-	if !(scale > 0) || math.IsNaN(sumAbs) || sumAbs > modalCancellation*scale {
-		return nil, ErrIllConditioned
-	}
+	me.terms = kept
 	y := make([]float64, len(tS))
-	if uniformFromZero(tS) {
-		// t_i = i·Δ: each term advances by one factor e^(p·Δ) a step,
-		// a complex product instead of an exponential (the rounding grows
-		// by about one unit per step, far below the 1e-9 promised).
-		dt := tS[len(tS)-1] / float64(len(tS)-1)
-		for i := range y {
-			y[i] = final
-		}
-		y[0] = start
-		for _, tm := range kept {
-			f := cmplx.Exp(tm.p * complex(dt, 0))
-			e := tm.r
-			w := 1.0
-			if tm.pair {
-				w = 2
-			}
-			for i := 1; i < len(y); i++ {
-				e *= f
-				y[i] += w * real(e)
-			}
-		}
-		return y, nil
-	}
-	for i, t := range tS {
-		if t == 0 {
-			y[i] = start
-			continue
-		}
-		v := final
-		for _, tm := range kept {
-			e := cmplx.Exp(tm.p*complex(t, 0)) * tm.r
-			if tm.pair {
-				v += 2 * real(e)
-			} else {
-				v += real(e)
-			}
-		}
-		y[i] = v
-	}
+	me.eval(tS, y)
 	return y, nil
-}
-
-// uniformFromZero reports whether tS is 0, Δ, 2Δ, … to rounding.
-func uniformFromZero(tS []float64) bool {
-	n := len(tS)
-	if n < 3 || tS[0] != 0 || !(tS[n-1] > 0) {
-		return false
-	}
-	dt := tS[n-1] / float64(n-1)
-	for i, t := range tS {
-		if math.Abs(t-float64(i)*dt) > 1e-12*tS[n-1] {
-			return false
-		}
-	}
-	return true
 }
