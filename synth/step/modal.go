@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
+	"slices"
 )
 
 // ErrIllConditioned is returned by [ModalResponse] when the partial
@@ -49,6 +50,12 @@ type Modal struct {
 	stages []Stage
 	roots  []rooted
 	zero   bool
+	// The poles of the last stage given to With, by its denominator and
+	// scale: the node transfers of one stage share their denominator, so
+	// a run of With calls for them finds the poles once.
+	lastDen   []float64
+	lastWs    float64
+	lastPoles []complex128
 }
 
 // NewModal validates and factors the stages (see [ModalResponse]).
@@ -67,7 +74,9 @@ func NewModal(stages []Stage) (*Modal, error) {
 }
 
 // With returns the step response at tS of the model's cascade followed by
-// last, as [ModalResponse] does.
+// last, as [ModalResponse] does. Successive calls whose last stages share
+// a denominator (the voltages of several nodes of one stage) find its
+// poles once; a Modal is not safe for concurrent use.
 func (m *Modal) With(last Stage, tS []float64) ([]float64, error) {
 	if err := validTimes(tS); err != nil {
 		return nil, err
@@ -87,12 +96,37 @@ func rootStage(st Stage) (rooted, bool, error) {
 	return r.roots, zero, nil
 }
 
+// rootLast validates and factors the stage given to With: its roots as
+// realise finds them (without realise's blocks, which the partial
+// fractions do not need), the poles taken from the previous call when the
+// denominator and scale are the same.
+func (m *Modal) rootLast(st Stage) (rooted, bool, error) {
+	if err := st.validate(); err != nil {
+		return rooted{}, false, err
+	}
+	dn, dd := degree(st.Num), degree(st.Den)
+	if dn < 0 {
+		return rooted{}, true, nil
+	}
+	rat := st.rational()
+	rat.Num, rat.Den = st.Num[:dn+1], st.Den[:dd+1]
+	rat.ScaleRadPerSec = 1
+	if m.lastPoles == nil || m.lastWs != st.ScaleRadPerSec || !slices.Equal(m.lastDen, rat.Den) {
+		m.lastDen, m.lastWs, m.lastPoles = slices.Clone(rat.Den), st.ScaleRadPerSec, rat.Poles()
+	}
+	xp, xz := m.lastPoles, rat.Zeros()
+	if len(xp) != dd || len(xz) != dn {
+		return rooted{}, false, invalidf("the roots of a stage of degree %d/%d cannot be found", dn, dd)
+	}
+	return rooted{poles: xp, zeros: xz, k: st.Num[dn] / st.Den[dd], ws: st.ScaleRadPerSec}, false, nil
+}
+
 // response is the modal step response of the cascade and, when not nil,
 // last after it.
 func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 	stages, rs, zero := m.stages, m.roots, m.zero
 	if last != nil {
-		r, z, err := rootStage(*last)
+		r, z, err := m.rootLast(*last)
 		if err != nil {
 			return nil, invalidf("last stage: %v", err)
 		}
