@@ -200,6 +200,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		up2[i] = 1
 	}
 	var upSteps []step.Stage
+	// The partial fractions of the stages before the current one, each
+	// factored once (nil when one cannot be: the exact state space then).
+	modal, _ := step.NewModal(nil)
 	dcUp := 1.0
 	for k, st := range ch.Stages {
 		stage := k + 1
@@ -222,10 +225,6 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			for i, n := range others {
 				nodeTF[n] = rs[i]
 			}
-		}
-		var modal *step.Modal
-		if len(t) > 1 {
-			modal, _ = step.NewModal(upSteps)
 		}
 		for _, p := range pins {
 			r := nodeTF[p.local]
@@ -292,6 +291,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			up2[i] *= real(h)*real(h) + imag(h)*imag(h)
 		}
 		upSteps = append(upSteps, step.FromRational(tfs[k]))
+		if modal != nil && modal.Extend(upSteps[k]) != nil {
+			modal = nil
+		}
 		dcUp *= real(tfs[k].At(0))
 	}
 	return nil

@@ -61,16 +61,27 @@ type Modal struct {
 // NewModal validates and factors the stages (see [ModalResponse]).
 func NewModal(stages []Stage) (*Modal, error) {
 	m := &Modal{}
-	for k, st := range stages {
-		r, zero, err := rootStage(st)
-		if err != nil {
-			return nil, invalidf("stage %d: %v", k, err)
+	for _, st := range stages {
+		if err := m.Extend(st); err != nil {
+			return nil, err
 		}
-		m.zero = m.zero || zero
-		m.stages = append(m.stages, st)
-		m.roots = append(m.roots, r)
 	}
 	return m, nil
+}
+
+// Extend appends st to the model's cascade, factoring only st (its poles
+// taken from the last With call when it has the same denominator). It
+// returns an error wrapping [ErrInvalid] for an invalid stage and leaves
+// the cascade as it was.
+func (m *Modal) Extend(st Stage) error {
+	r, zero, err := m.rootLast(st)
+	if err != nil {
+		return invalidf("stage %d: %v", len(m.stages), err)
+	}
+	m.zero = m.zero || zero
+	m.stages = append(m.stages, st)
+	m.roots = append(m.roots, r)
+	return nil
 }
 
 // With returns the step response at tS of the model's cascade followed by
@@ -82,18 +93,6 @@ func (m *Modal) With(last Stage, tS []float64) ([]float64, error) {
 		return nil, err
 	}
 	return m.response(&last, tS)
-}
-
-// rootStage validates and factors one stage.
-func rootStage(st Stage) (rooted, bool, error) {
-	if err := st.validate(); err != nil {
-		return rooted{}, false, err
-	}
-	r, zero, err := realise(st)
-	if err != nil {
-		return rooted{}, false, err
-	}
-	return r.roots, zero, nil
 }
 
 // rootLast validates and factors the stage given to With: its roots as
