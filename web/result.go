@@ -194,6 +194,13 @@ var plotKinds = []struct {
 		func(p Plots, w io.Writer, d *synth.Design) error { return p.Step(w, d) }},
 }
 
+// FigureWidthPx is the width, in CSS pixels, at which the result page
+// draws its plots on a wide screen (a 1440 px window, and wider): the
+// style sheet's --figure-width, the content column's width less the
+// panel's padding. On a narrower screen a plot shrinks with the column
+// (about 350 px on a 390 px phone). Plots size their text for it.
+const FigureWidthPx = 1100
+
 // benchPlots are the kinds of plotKinds that the page shows among the
 // bench figures rather than with the response (when it has a bench panel).
 var benchPlots = map[string]bool{"step-svg": true}
