@@ -166,6 +166,7 @@ func (d *Design) realize(ordered []section.Section) error {
 		if polarity != "" && i == len(results)-1 {
 			sec.TopologyReason += "; " + polarity
 		}
+		sec.TopologyReason = chainWideRefs(sec.TopologyReason, chain, i+1)
 		sec.Inverting = r.Inverting
 		for _, p := range r.Stage.Parts {
 			series := p.Series
