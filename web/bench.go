@@ -478,7 +478,7 @@ func fillPartBench(card *components.StageCard, sec synth.Section, tol tolerances
 	card.Sensitive = true
 	for i := range card.Parts {
 		p := &card.Parts[i]
-		p.Tolerance, p.SensF0, p.SensQ, p.Needs = "—", "—", "—", "—"
+		p.Tolerance, p.SensF0, p.SensQ, p.Needs, p.FailsAt = "—", "—", "—", "—", "—"
 		if t, ok := tol.of(p.Ref); ok {
 			p.Tolerance = "±" + num(t) + " %"
 		}

@@ -516,7 +516,7 @@ func stageCard(d *synth.Design, ch circuit.Chain, k int) components.StageCard {
 		if !ch.Model.Ideal {
 			v = si(ch.Model.GBWHz, "Hz", 3) + " GBW"
 		}
-		card.Parts = append(card.Parts, components.PartRow{Ref: ch.Ref(k+1, u.Ref), Kind: "op-amp", Value: v, Exact: "—", Deviation: "—", Series: "—"})
+		card.Parts = append(card.Parts, components.PartRow{Ref: ch.Ref(k+1, u.Ref), Kind: "op-amp", Value: v, Exact: "—", Deviation: "—", Series: "—", FailsAt: "—"})
 	}
 	return card
 }
