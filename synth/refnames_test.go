@@ -4,6 +4,7 @@ import (
 	"context"
 	"regexp"
 	"slices"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -70,5 +71,42 @@ func TestReasonsNameChainWidePartsSeen(t *testing.T) {
 		// Sallen-Key at unity gain: C1/C2 ≥ 4Q², so C101/C102 in stage 1.
 		want := []string{"C" + string(rune('1'+i)) + "01", "C" + string(rune('1'+i)) + "02"}
 		require.True(t, slices.Contains(got, want[0]) && slices.Contains(got, want[1]), "stage %d: %q", i+1, s.TopologyReason)
+	}
+}
+
+// TestReasonsAsAsked checks that a reason says "as asked" only of a form
+// the spec asked for: under auto none does, and when the spec asks for
+// Sallen-Key its first-order stage (always an RC and a follower) does not
+// claim to be asked for.
+func TestReasonsAsAsked(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name, spec string
+		asked      int // reasons that say "as asked"
+	}{
+		{"auto, odd order", `{"approximation": "butterworth", "passband_hz": 1000, "order": 5}`, 0},
+		{"auto, highpass", `{"response": "highpass", "approximation": "chebyshev1", "passband_hz": 1000, "order": 5}`, 0},
+		// Two second-order Sallen-Key stages and the first-order one.
+		{"sallen-key asked", `{"approximation": "butterworth", "passband_hz": 1000, "order": 5, "topology": "sallen-key"}`, 2},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			spec, err := synth.ParseSpecBytes([]byte(tc.spec))
+			require.NoError(t, err)
+			d, err := synth.Synthesize(context.Background(), spec)
+			require.NoError(t, err)
+			asked, first := 0, 0
+			for _, s := range d.Sections {
+				if strings.Contains(s.TopologyReason, "as asked") {
+					asked++
+				}
+				if s.Order == 1 {
+					first++
+					require.True(t, strings.HasPrefix(s.TopologyReason, "first-order section, built as rc-buffer: "), s.TopologyReason)
+				}
+			}
+			require.Equal(t, tc.asked, asked)
+			require.Equal(t, 1, first, "the odd order's first-order stage")
+		})
 	}
 }
