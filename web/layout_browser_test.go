@@ -22,6 +22,13 @@ import (
 const layoutQuery = vibrationQuery + "&converter_sample_rate_hz=200000&converter_bits=18&converter_full_scale_vpp=4" +
 	"&opamp_gbw_hz=50e6&montecarlo_trials=300&supply_positive_v=5&supply_negative_v=0"
 
+// wideQuery is a page with the widest schematics: an elliptic lowpass
+// on state-variable stages (notches: four op-amps) in front of a SAR
+// converter, whose driver sits on the last stage.
+const wideQuery = "approximation=elliptic&passband_hz=20000&order=6&stopband_atten_db=80&topology=state-variable" +
+	"&converter_sample_rate_hz=1000000&converter_bits=16&converter_full_scale_vpp=4&converter_architecture=sar" +
+	"&converter_sampling_capacitance_farad=30p&converter_acquisition_time_s=290n"
+
 // overflowJS lists every table that is wider than the box it sits in,
 // and every table container whose content overflows it, as
 // "what: width > room" (empty: everything fits).
@@ -147,6 +154,33 @@ func TestBrowserLayout(t *testing.T) {
 		step(t, ctx, "close", chromedp.Click(chromedp.CSS(`#stage-1-schematic a.close`)))
 		pos := step(t, ctx, "closed", chromedp.Evaluate[string](`getComputedStyle(document.getElementById("stage-1-schematic")).position`))
 		require.Equal(t, "static", pos)
+	})
+
+	t.Run("wide schematics and every column", func(t *testing.T) {
+		// State-variable notch stages (four op-amps) and a SAR driver on
+		// the last: the widest schematics; notches add the stage table's
+		// "Zero at" column.
+		for _, v := range []struct {
+			name string
+			vp   chromedp.Action[chromedp.Void]
+			px   float64
+		}{{"1440", desktop, 1440}, {"390", phone, 390}} {
+			step(t, ctx, "viewport "+v.name, v.vp)
+			step(t, ctx, "open", chromedp.Navigate(srv.URL+"/design?"+wideQuery))
+			step(t, ctx, "result", chromedp.WaitVisible(chromedp.CSS(`[data-testid="result"]`)))
+			require.Empty(t, step(t, ctx, "tables", chromedp.Evaluate[[]string](overflowJS)), "every table fits its container at %s px", v.name)
+			width := step(t, ctx, "page width", chromedp.Evaluate[float64](`document.scrollingElement.scrollWidth`))
+			require.LessOrEqual(t, width, v.px, "no sideways scrolling at %s px", v.name)
+			if v.name == "1440" {
+				zero := step(t, ctx, "zero column", chromedp.Evaluate[bool](`[...document.querySelectorAll('[data-testid="stage-table"] th')].some(th => th.textContent === "Zero at")`))
+				require.True(t, zero, "the notches' column is there")
+				m := step(t, ctx, "schematic text", chromedp.Evaluate[[]float64](schematicTextJS))
+				t.Logf("widest schematics at 1440 px: %.0f text nodes, boxes at least %.1f px high, fonts at least %.1f px", m[2], m[0], m[1])
+				require.GreaterOrEqual(t, m[0], 11.0)
+				require.GreaterOrEqual(t, m[1], 11.0)
+			}
+		}
+		step(t, ctx, "desktop", desktop)
 	})
 
 	if os.Getenv("POLEWRIGHT_SCREENSHOTS") == "1" {
