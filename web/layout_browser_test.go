@@ -198,6 +198,22 @@ func TestBrowserLayout(t *testing.T) {
 		inner := step(t, ctx, "window", chromedp.Evaluate[float64](`window.innerWidth`))
 		require.LessOrEqual(t, inner, 390.0, "the viewport stayed at the phone's width")
 		require.Empty(t, step(t, ctx, "tables", chromedp.Evaluate[[]string](overflowJS)), "every table fits its container")
+		if realDeps().Plots != nil {
+			// A tap lays the plot over the page at 900 px, scrolled in its
+			// own box; the page itself still does not scroll sideways.
+			step(t, ctx, "enlarge the plot", chromedp.Click(chromedp.CSS(`#plot-bode-svg a.enlarge`)))
+			got := step(t, ctx, "enlarged", chromedp.Evaluate[[]float64](`(() => {
+				const f = document.getElementById("plot-bode-svg");
+				return [getComputedStyle(f).position === "fixed" ? 1 : 0, f.querySelector("svg").getBoundingClientRect().width,
+					document.scrollingElement.scrollWidth];
+			})()`))
+			require.Equal(t, 1.0, got[0], "the plot is laid over the page")
+			require.GreaterOrEqual(t, got[1], 900.0, "at a readable width")
+			require.LessOrEqual(t, got[2], 390.0, "the page does not scroll sideways")
+			step(t, ctx, "close", chromedp.Click(chromedp.CSS(`#plot-bode-svg a.close`)))
+			pos := step(t, ctx, "closed", chromedp.Evaluate[string](`getComputedStyle(document.getElementById("plot-bode-svg")).position`))
+			require.Equal(t, "static", pos)
+		}
 		if os.Getenv("POLEWRIGHT_SCREENSHOTS") == "1" {
 			shot(t, ctx, srv.URL, phone, "workbench-390.png")
 		}
