@@ -74,7 +74,7 @@ func boardView(d *synth.Design) *components.BoardView {
 			}
 			b.Rows = append(b.Rows, components.BoardRow{Bad: bad, Cells: []string{
 				fmt.Sprint(i + 1), n.Ref, n.Node, pin, si(n.PeakV[0], "V", 4), si(n.PeakV[1], "V", 4),
-				fmt.Sprintf("%.4g at %s", n.GainMax, si(n.PeakHz, "Hz", 3)), allowed, room,
+				fmt.Sprintf("%.4g V/V at %s", n.GainMax, si(n.PeakHz, "Hz", 3)), allowed, room,
 			}})
 		}
 	}
