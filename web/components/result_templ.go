@@ -1081,7 +1081,7 @@ func stageCard(c StageCard, cols []Column) templ.Component {
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
 			}
-			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 99, "</div></a><figcaption><span class=\"when-small\">Click the schematic to enlarge it.</span> <a class=\"close\" href=\"")
+			templ_7745c5c3_Err = templruntime.WriteString(templ_7745c5c3_Buffer, 99, "</div></a><figcaption><span class=\"when-small\">Click or tap the schematic to enlarge it.</span> <a class=\"close\" href=\"")
 			if templ_7745c5c3_Err != nil {
 				return templ_7745c5c3_Err
 			}
