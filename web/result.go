@@ -270,7 +270,7 @@ func headline(res *components.Result, d *synth.Design) {
 // summary are the headline figures of d.
 func summary(d *synth.Design, ch circuit.Chain, hasChain bool) []components.Figure {
 	order := components.Figure{Label: "Order", Value: strconv.Itoa(d.Order), TestID: "fig-order",
-		Hint: "the filter's order: the number of poles, one per reactive part of the ideal filter"}
+		Hint: "the filter's order: the number of poles of its transfer function (the all-pass delay equaliser's not counted)"}
 	switch mo := d.Mask.MinOrder; {
 	case d.Spec.Order == 0:
 		order.Detail = "the lowest that meets the mask"
@@ -368,7 +368,7 @@ var partColumns = []components.Column{
 	{Label: "Ref", Hint: "the part's designator, as on the schematic, in the SPICE deck and on the bill of materials (R: resistor, C: capacitor, U: op-amp; the hundreds are the stage)"},
 	{Label: "Value", Hint: "the value to fit (Ω, F), from the series in the next column"},
 	{Label: "Exact", Hint: "the unrounded value the design asks for, given the parts already chosen (capacitors are picked from their series first, so theirs equal Value)"},
-	{Label: "Off by", Hint: "(Value − Exact)/Exact in %: how far the fitted value is from the unrounded one; resistors are picked together to keep f0 and Q closest, so one may sit a step from its nearest series value"},
+	{Label: "Off by", Hint: "(Value − Exact)/Exact in %: how far the fitted value is from the unrounded one; resistors may be picked together to keep f0 and Q closest, so one can sit a step from its nearest series value"},
 	{Label: "Series", Hint: "the IEC 60063 series the value comes from; exact: unrounded"},
 	{Label: "Tolerance", Hint: "the tolerance the Monte Carlo draws this part within (± %)"},
 	{Label: "S f0", Hint: "the sensitivity of the stage's f0 to this part: ∂ln f0/∂ln x, the % change of f0 for a 1 % change of the part"},
