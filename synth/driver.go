@@ -284,18 +284,28 @@ func (d *Design) driverReason(dr *Driver, csF, rClosed float64, met bool, lnDesi
 	if s.Values == "exact" {
 		series = "value (exact)"
 	}
-	text := fmt.Sprintf("C = %s (C0G), the first %s at least %d × the %s sampling capacitor (common practice: 10 to 20 ×), so that a full-scale kick is Vfs·Cs/(Cs + C) = %s. ",
-		si.Format(dr.CFarad, "F", 3), series, DriverCapRatio, si.Format(csF, "F", 3), si.Format(dr.KickbackV, "V", 3))
+	// R and C carry their designators, as on the schematic and the BOM.
+	rName, cName := "R", "C"
+	for _, c := range dr.Components {
+		switch c.Kind {
+		case string(circuit.Resistor):
+			rName = "R (" + c.Ref + ")"
+		case string(circuit.Capacitor):
+			cName = "C (" + c.Ref + ")"
+		}
+	}
+	text := fmt.Sprintf("%s = %s (C0G), the first %s at least %d × the %s sampling capacitor (common practice: 10 to 20 ×), so that a full-scale kick is Vfs·Cs/(Cs + C) = %s. ",
+		cName, si.Format(dr.CFarad, "F", 3), series, DriverCapRatio, si.Format(csF, "F", 3), si.Format(dr.KickbackV, "V", 3))
 	closed := fmt.Sprintf("the single-RC closed form R·(C + Cs)·ln(kick/¼ LSB) = %s gives R = %s", si.Format(dr.AcquisitionTimeS, "s", 3), si.Format(rClosed, "Ω", 3))
 	switch {
 	case s.Values == "exact":
-		text += fmt.Sprintf("R = %s: %s; ", si.Format(dr.ROhm, "Ω", 3), closed)
+		text += fmt.Sprintf("%s = %s: %s; ", rName, si.Format(dr.ROhm, "Ω", 3), closed)
 	case met:
-		text += fmt.Sprintf("R = %s: %s, and of the %s values from a tenth to three times that, %s is the largest with which the full circuit (the last stage with the spec's op-amp, R, C and Cs) stays within ¼ LSB at the end of the acquisition and over a further fifth of it; ",
-			si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
+		text += fmt.Sprintf("%s = %s: %s, and of the %s values from a tenth to three times that, %s is the largest with which the full circuit (the last stage with the spec's op-amp, R, C and Cs) stays within ¼ LSB at the end of the acquisition and over a further fifth of it; ",
+			rName, si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
 	default:
-		text += fmt.Sprintf("R = %s: %s, and of the %s values from a tenth to three times that, none lets the full circuit settle within ¼ LSB; %s comes closest; ",
-			si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
+		text += fmt.Sprintf("%s = %s: %s, and of the %s values from a tenth to three times that, none lets the full circuit settle within ¼ LSB; %s comes closest; ",
+			rName, si.Format(dr.ROhm, "Ω", 3), closed, s.ResistorSeries, si.Format(dr.ROhm, "Ω", 3))
 	}
 	text += fmt.Sprintf("the full circuit leaves %.3g LSB at the end of the %s acquisition (the check allows ½ LSB; ¼ LSB leaves room for the parts' spread).",
 		dr.SettledErrorLSB, si.Format(dr.AcquisitionTimeS, "s", 3))

@@ -97,6 +97,12 @@ func (d *Design) realize(ordered []section.Section) error {
 		if err != nil {
 			return realizeError(i, d.Sections[i], s.Topology, err)
 		}
+		if top != s.Topology {
+			// The form was chosen here, not asked for by the spec.
+			if rest, ok := strings.CutPrefix(r.Reason, top+" as asked: "); ok {
+				r.Reason = "first-order section, built as " + top + ": " + rest
+			}
+		}
 		results[i] = r
 		if r.Inverting {
 			inverting++
@@ -167,6 +173,7 @@ func (d *Design) realize(ordered []section.Section) error {
 		if polarity != "" && i == len(results)-1 {
 			sec.TopologyReason += "; " + polarity
 		}
+		sec.TopologyReason = chainWideRefs(sec.TopologyReason, chain, i+1)
 		sec.Inverting = r.Inverting
 		for _, p := range r.Stage.Parts {
 			series := p.Series

@@ -65,6 +65,7 @@ func benchView(d *synth.Design) *components.Bench {
 			b.Figures = append(b.Figures, components.Figure{Label: "Quantisation noise", Value: "—", Detail: "give a converter for LSB figures", TestID: "fig-quant"})
 		}
 		b.Contributors, b.ContributorsNote = contributorRows(n)
+		b.ContributorColumns = contributorColumns
 	}
 
 	// Step.
@@ -131,12 +132,32 @@ func settlingBand(d *synth.Design) string {
 	return "±" + pctOf(st.SettlingFrac) + " of the peak"
 }
 
+// monteCarloColumns are the headings of the Monte Carlo's per-stage
+// table, with their hints.
+var monteCarloColumns = []components.Column{
+	{Label: "Stage", Hint: "the stage, input first"},
+	{Label: "f0 mean", Hint: "the mean of the stage's f0 over the trials (Hz)"},
+	{Label: "σ f0", Hint: "the standard deviation of f0 over the trials, in % of its mean"},
+	{Label: "σ f0, first order", Hint: "the same predicted from the sensitivities, √(Σ S²·σ²) (%), for comparison"},
+	{Label: "Q mean", Hint: "the mean of the stage's Q over the trials (no unit; — for a first-order stage)"},
+	{Label: "σ Q", Hint: "the standard deviation of Q over the trials, in % of its mean"},
+	{Label: "σ Q, first order", Hint: "the same predicted from the sensitivities (%)"},
+}
+
+// contributorColumns are the headings of the noise contributors' table.
+var contributorColumns = []components.Column{
+	{Label: "Part", Hint: "the designator, as on the schematic and the bill of materials"},
+	{Label: "Source", Hint: "the part's noise: a resistor's thermal noise, an op-amp's input voltage and current noise"},
+	{Label: "Share of power", Hint: "this part's share of the output noise power over the band (%)"},
+	{Label: "rms at output", Hint: "this part's own noise at the output, rms over the band (V)"},
+}
+
 // monteCarloView lays out the Monte Carlo of d.
 func monteCarloView(d *synth.Design, tol tolerances) *components.MonteCarloView {
 	mc := d.MonteCarlo
 	v := &components.MonteCarloView{
 		Summary: fmt.Sprintf("%d trials, seed %d; %s.", mc.Trials, mc.Seed, tol.describe()),
-		Columns: []string{"#", "f0 mean", "σ f0", "σ f0, first order", "Q mean", "σ Q", "σ Q, first order"},
+		Columns: monteCarloColumns,
 	}
 	for i, st := range mc.Stages {
 		row := []string{strconv.Itoa(i + 1), si(st.F0MeanHz, "Hz", 5), pctValue(st.F0StdPct), "—", "—", "—", "—"}
@@ -457,7 +478,7 @@ func fillPartBench(card *components.StageCard, sec synth.Section, tol tolerances
 	card.Sensitive = true
 	for i := range card.Parts {
 		p := &card.Parts[i]
-		p.Tolerance, p.SensF0, p.SensQ, p.Needs = "—", "—", "—", "—"
+		p.Tolerance, p.SensF0, p.SensQ, p.Needs, p.FailsAt = "—", "—", "—", "—", "—"
 		if t, ok := tol.of(p.Ref); ok {
 			p.Tolerance = "±" + num(t) + " %"
 		}

@@ -109,7 +109,7 @@ func TestBenchPanel(t *testing.T) {
 	require.Contains(t, page, "Slew needed")
 	require.Contains(t, page, "GBW needed (rule of thumb)")
 	require.Regexp(t, `[0-9.]+ V/µs`, page)
-	require.Contains(t, page, `<th scope="col">S f0</th>`)
+	require.Regexp(t, `<th scope="col" title="[^"]+"><span class="hinted">S f0</span></th>`, page, "the heading carries its hint")
 
 	// The envelope is on the magnitude plot.
 	require.Contains(t, page, "Monte Carlo 1–99 %")

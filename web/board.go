@@ -8,6 +8,19 @@ import (
 	"github.com/polewright/polewright/web/components"
 )
 
+// boardColumns are the headings of the swing table, with their hints.
+var boardColumns = []components.Column{
+	{Label: "Stage", Hint: "the stage, input first"},
+	{Label: "Op-amp", Hint: "the op-amp's designator, as on the schematic"},
+	{Label: "Node", Hint: "the node's name in the SPICE deck"},
+	{Label: "Pin", Hint: "the op-amp's output or its non-inverting (+) input"},
+	{Label: "Lowest", Hint: "the lowest voltage the node reaches for the largest input (V, against 0 V)"},
+	{Label: "Highest", Hint: "the highest voltage the node reaches for the largest input (V)"},
+	{Label: "Largest gain", Hint: "the node's largest gain from the input (V/V) and the frequency where it peaks"},
+	{Label: "Allowed", Hint: "the range the node may swing in: the rails less the output or input headroom (V)"},
+	{Label: "Room", Hint: "how far the extremes stay inside the allowed range (V); negative: the node clips"},
+}
+
 // boardView lays out the design's board figures (synth's Section.Swing and
 // Design.DC) as the "On its rails" panel; nil before verification. The
 // verdicts on them are synth's checks, shown with the others.
@@ -17,7 +30,7 @@ func boardView(d *synth.Design) *components.BoardView {
 	}
 	s := d.Spec
 	b := &components.BoardView{
-		Columns: []string{"Stage", "Op-amp", "Node", "Pin", "Lowest", "Highest", "Largest gain", "Allowed", "Room"},
+		Columns: boardColumns,
 	}
 	supply := "none given: signals around 0 V, no rail checks"
 	if p := s.Supply; p != nil {
@@ -61,7 +74,7 @@ func boardView(d *synth.Design) *components.BoardView {
 			}
 			b.Rows = append(b.Rows, components.BoardRow{Bad: bad, Cells: []string{
 				fmt.Sprint(i + 1), n.Ref, n.Node, pin, si(n.PeakV[0], "V", 4), si(n.PeakV[1], "V", 4),
-				fmt.Sprintf("%.4g at %s", n.GainMax, si(n.PeakHz, "Hz", 3)), allowed, room,
+				fmt.Sprintf("%.4g V/V at %s", n.GainMax, si(n.PeakHz, "Hz", 3)), allowed, room,
 			}})
 		}
 	}

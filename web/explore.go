@@ -143,7 +143,9 @@ func (h *handler) explorePage(w http.ResponseWriter, r *http.Request) {
 	if !ok {
 		return
 	}
-	h.render(w, r, http.StatusOK, components.ExplorePage(buildForm(vals, nil), exploreView(vals, res)))
+	form := buildForm(vals, nil)
+	form.ResetOnShow = true // the form holds the spec explored
+	h.render(w, r, http.StatusOK, components.ExplorePage(form, exploreView(vals, res)))
 }
 
 // exploreProgress streams an exploration as server-sent events, as

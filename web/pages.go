@@ -10,6 +10,7 @@ import (
 	"math"
 	"net/http"
 	"net/url"
+	"strconv"
 	"strings"
 	"sync"
 
@@ -60,7 +61,7 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 			return
 		}
 	}
-	vals, d, ok := h.designFromQuery(w, r)
+	vals, d, ok := h.designFromQuery(w, r, r.URL.Query())
 	if !ok {
 		return
 	}
@@ -74,23 +75,53 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 		h.synthFailed(w, r, err)
 		return
 	}
-	h.render(w, r, http.StatusOK, components.DesignPage(buildForm(vals, nil), res))
+	form := buildForm(vals, nil)
+	form.ResetOnShow = true
+	h.render(w, r, http.StatusOK, components.DesignPage(form, res))
 }
 
 // download serves one export of the spec in the query as a file, named
-// after the design ([export.DesignFileName]).
+// after the design ([export.DesignFileName]). The schematic takes a
+// parameter of its own besides the spec's: stage=N gives stage N's
+// schematic alone.
 func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 	kind := chi.URLParam(r, "kind")
 	if !export.Known(kind) {
 		h.fail(w, r, http.StatusNotFound, fmt.Sprintf("there is no download %q (kinds: %s)", clip(kind), strings.Join(export.Kinds, ", ")), "")
 		return
 	}
-	_, d, ok := h.designFromQuery(w, r)
+	q := r.URL.Query()
+	stage := 0
+	if vs, ok := q[paramStage]; ok && kind == "schematic-svg" {
+		n, err := strconv.Atoi(vs[0])
+		if len(vs) != 1 || err != nil || n < 1 || n > synth.MaxOrder {
+			h.fail(w, r, http.StatusBadRequest, fmt.Sprintf("stage must be a stage's number, 1 to %d (got %q)", synth.MaxOrder, clip(strings.Join(vs, ","))), paramStage)
+			return
+		}
+		stage = n
+		q.Del(paramStage)
+	}
+	_, d, ok := h.designFromQuery(w, r, q)
 	if !ok {
 		return
 	}
 	var buf bytes.Buffer
-	if err := h.export(&buf, d, kind); err != nil {
+	name := export.DesignFileName(d, kind)
+	if stage > 0 {
+		ch, err := d.Chain()
+		if err == nil && stage > len(ch.Stages) {
+			h.fail(w, r, http.StatusBadRequest, fmt.Sprintf("stage must be a stage's number, 1 to %d (got %d)", len(ch.Stages), stage), paramStage)
+			return
+		}
+		if err == nil {
+			err = export.WriteStageSchematic(&buf, d, stage)
+		}
+		if err != nil {
+			h.exportFailed(w, r, kind, err)
+			return
+		}
+		name = export.StageFileName(d, stage)
+	} else if err := h.export(&buf, d, kind); err != nil {
 		h.exportFailed(w, r, kind, err)
 		return
 	}
@@ -99,7 +130,7 @@ func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	w.Header().Set("Content-Type", export.ContentType(kind))
-	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", export.DesignFileName(d, kind)))
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", name))
 	w.Header().Set("Cache-Control", "no-store")
 	_, _ = w.Write(buf.Bytes())
 }
@@ -108,8 +139,8 @@ func (h *handler) download(w http.ResponseWriter, r *http.Request) {
 // its design from the cache). On failure
 // it has answered (the form with the error for a bad spec) and returns
 // ok = false.
-func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request) (formValues, *synth.Design, bool) {
-	vals, spec, err := parseQuery(r.URL.Query())
+func (h *handler) designFromQuery(w http.ResponseWriter, r *http.Request, q url.Values) (formValues, *synth.Design, bool) {
+	vals, spec, err := parseQuery(q)
 	var d *synth.Design
 	if err == nil {
 		d, err = h.cache.design(r.Context(), spec)

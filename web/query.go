@@ -198,6 +198,8 @@ const (
 	paramBits = "adc_bits"
 	paramBand = "adc_band_hz"
 	paramFill = "fill" // the helper's submit button
+	// paramStage picks one stage's schematic on the schematic's download.
+	paramStage = "stage"
 )
 
 var helperFields = []field{

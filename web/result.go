@@ -8,7 +8,9 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"regexp"
 	"runtime/debug"
+	"slices"
 	"strconv"
 	"sync"
 
@@ -59,9 +61,6 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 	}
 	res.Columns, res.Stages = stageTable(d, ch, hasChain, views)
 	tol := newTolerances(d)
-	for i := range res.Stages {
-		res.Stages[i].Details = stageDetails(d.Sections[i], tol)
-	}
 	res.Bench = benchView(d)
 	res.Board = boardView(d)
 	res.Driver = driverView(d)
@@ -111,16 +110,23 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 	}
 	if hasChain {
 		res.Cards = make([]components.StageCard, len(ch.Stages))
+		res.PartColumns = partColumns
 		for k := range ch.Stages {
-			res.Cards[k] = stageCard(ch, k)
+			res.Cards[k] = stageCard(d, ch, k)
 			if k < len(d.Sections) {
 				fillPartBench(&res.Cards[k], d.Sections[k], tol)
+				res.Cards[k].Reason = views[k].TopologyReason
+				res.Cards[k].Warnings = views[k].Warnings
+				res.Cards[k].Details = stageDetails(d.Sections[k], tol)
+			}
+			if k < len(res.Stages) {
+				res.Stages[k].Href = "#" + res.Cards[k].ID
 			}
 			if h.deps.Schematics == nil {
 				continue
 			}
 			wg.Go(func() {
-				svg, err := drawSVG(func(w io.Writer) error {
+				svg, err := drawSVGText(func(w io.Writer) error {
 					if rs, ok := h.deps.Schematics.(ReferenceSchematics); ok && d.Spec.Supply != nil {
 						return rs.StageOnReference(w, ch, k+1, "ref")
 					}
@@ -130,7 +136,9 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 					h.logWarn(ctx, "schematic failed", err, slog.Int("stage", k+1))
 					return
 				}
-				res.Cards[k].SVG = svg
+				res.Cards[k].SVG = templ.Raw(svg)
+				res.Cards[k].SchematicStyle = templ.SafeCSS(schematicStyle(svg))
+				res.Cards[k].Download = stageDownload(d, k+1, query)
 			})
 		}
 	}
@@ -139,11 +147,15 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 		res.Bench.NoisePlot = noisePlot
 	}
 	for _, p := range plots {
-		if p.SVG != nil {
+		switch {
+		case p.SVG == nil:
+		case benchPlots[p.Download.Kind] && res.Bench != nil:
+			res.Bench.Plots = append(res.Bench.Plots, p)
+		default:
 			res.Plots = append(res.Plots, p)
 		}
 	}
-	if h.deps.Plots != nil && len(res.Plots) < len(plotKinds) {
+	if h.deps.Plots != nil && slices.ContainsFunc(plots, func(p components.Plot) bool { return p.SVG == nil }) {
 		res.Notes = append(res.Notes, "Some plots could not be drawn and are left out.")
 	}
 	if h.deps.Plots == nil {
@@ -182,26 +194,47 @@ var plotKinds = []struct {
 		func(p Plots, w io.Writer, d *synth.Design) error { return p.Step(w, d) }},
 }
 
+// FigureWidthPx is the width, in CSS pixels, at which the result page
+// draws its plots on a wide screen (a 1440 px window, and wider): the
+// style sheet's --figure-width, the content column's width less the
+// panel's padding. On a narrower screen a plot shrinks with the column
+// (about 350 px on a 390 px phone). Plots size their text for it.
+const FigureWidthPx = 1100
+
+// benchPlots are the kinds of plotKinds that the page shows among the
+// bench figures rather than with the response (when it has a bench panel).
+var benchPlots = map[string]bool{"step-svg": true}
+
 // drawSVG runs draw into a buffer and returns the SVG as a component to
-// inline, its XML prolog and doctype removed. A panic in draw (which runs
-// on its own goroutine, out of reach of the recovery middleware) is
-// returned as an error carrying its stack, for the log.
-func drawSVG(draw func(io.Writer) error) (c templ.Component, err error) {
+// inline, its XML prolog and doctype removed (see [drawSVGText]).
+func drawSVG(draw func(io.Writer) error) (templ.Component, error) {
+	text, err := drawSVGText(draw)
+	if err != nil {
+		return nil, err
+	}
+	return templ.Raw(text), nil
+}
+
+// drawSVGText runs draw into a buffer and returns the SVG to inline, its
+// XML prolog and doctype removed. A panic in draw (which runs on its own
+// goroutine, out of reach of the recovery middleware) is returned as an
+// error carrying its stack, for the log.
+func drawSVGText(draw func(io.Writer) error) (text string, err error) {
 	defer func() {
 		if rec := recover(); rec != nil {
-			c, err = nil, fmt.Errorf("web: drawing panicked: %v\n%s", rec, debug.Stack())
+			text, err = "", fmt.Errorf("web: drawing panicked: %v\n%s", rec, debug.Stack())
 		}
 	}()
 	buf := getBuffer()
 	defer putBuffer(buf)
 	if err := draw(buf); err != nil {
-		return nil, err
+		return "", err
 	}
 	b := inlineSVG(buf.Bytes())
 	if !bytes.HasPrefix(b, []byte("<svg")) {
-		return nil, errors.New("web: the drawing is not an SVG document")
+		return "", errors.New("web: the drawing is not an SVG document")
 	}
-	return templ.Raw(string(b)), nil // a copy: buf goes back to the pool
+	return string(b), nil // a copy: buf goes back to the pool
 }
 
 // inlineSVG strips what precedes the <svg element of an SVG document: the
@@ -236,7 +269,8 @@ func headline(res *components.Result, d *synth.Design) {
 
 // summary are the headline figures of d.
 func summary(d *synth.Design, ch circuit.Chain, hasChain bool) []components.Figure {
-	order := components.Figure{Label: "Order", Value: strconv.Itoa(d.Order), TestID: "fig-order"}
+	order := components.Figure{Label: "Order", Value: strconv.Itoa(d.Order), TestID: "fig-order",
+		Hint: "the filter's order: the number of poles of its transfer function (the all-pass delay equaliser's not counted)"}
 	switch mo := d.Mask.MinOrder; {
 	case d.Spec.Order == 0:
 		order.Detail = "the lowest that meets the mask"
@@ -247,14 +281,17 @@ func summary(d *synth.Design, ch circuit.Chain, hasChain bool) []components.Figu
 	}
 	figs := []components.Figure{order}
 	figs = append(figs, components.Figure{Label: "Passband margin", Value: db(d.Mask.PassbandMarginDB, true),
-		Detail: "Amax less the worst passband loss", TestID: "fig-passband-margin"})
+		Detail: "Amax less the worst passband loss", TestID: "fig-passband-margin",
+		Hint: "of the ideal filter (dB): how much more loss the passband could take before it breaks Amax; positive: met"})
 	if m := d.Mask.StopbandMarginDB; m != nil {
 		figs = append(figs, components.Figure{Label: "Stopband margin", Value: db(*m, true),
-			Detail: "least stopband loss less Amin", TestID: "fig-stopband-margin"})
+			Detail: "least stopband loss less Amin", TestID: "fig-stopband-margin",
+			Hint: "of the ideal filter (dB): how far the least stopband loss exceeds Amin; positive: met"})
 	} else {
 		figs = append(figs, components.Figure{Label: "Stopband margin", Value: "—", Detail: "no stopband given", TestID: "fig-stopband-margin"})
 	}
-	figs = append(figs, components.Figure{Label: "Stages", Value: strconv.Itoa(len(d.Sections)), TestID: "fig-stages"})
+	figs = append(figs, components.Figure{Label: "Stages", Value: strconv.Itoa(len(d.Sections)), TestID: "fig-stages",
+		Hint: "first- and second-order sections in cascade, one op-amp circuit each"})
 	opamps, parts := "—", "—"
 	detail := "with the circuit mapping"
 	if hasChain {
@@ -266,8 +303,8 @@ func summary(d *synth.Design, ch circuit.Chain, hasChain bool) []components.Figu
 		opamps, parts, detail = strconv.Itoa(nu), strconv.Itoa(np), ""
 	}
 	figs = append(figs,
-		components.Figure{Label: "Op-amps", Value: opamps, Detail: detail, TestID: "fig-opamps"},
-		components.Figure{Label: "Passive parts", Value: parts, Detail: detail, TestID: "fig-parts"},
+		components.Figure{Label: "Op-amps", Value: opamps, Detail: detail, TestID: "fig-opamps", Hint: "op-amps on the board, every stage's together"},
+		components.Figure{Label: "Passive parts", Value: parts, Detail: detail, TestID: "fig-parts", Hint: "resistors and capacitors on the board"},
 	)
 	return figs
 }
@@ -308,9 +345,41 @@ func sectionViews(d *synth.Design) ([]sectionView, error) {
 	return out, nil
 }
 
+// Columns of the stage table, with their hints.
+var (
+	colStage   = components.Column{Label: "Stage", Hint: "the stage's place in the chain, input first; it links to the stage's card below"}
+	colKind    = components.Column{Label: "Kind", Hint: "the section the stage builds: lowpass, highpass, bandpass, notch (lowpass-notch, highpass-notch), all-pass"}
+	colF0      = components.Column{Label: "f0", Hint: "the section's natural frequency (Hz): where its poles sit, |p|/2π"}
+	colQ       = components.Column{Label: "Q", Hint: "the section's quality factor (no unit): |p|/(2·|Re p|); 0.5 to 0.7 is gentle, above 5 needs care"}
+	colZero    = components.Column{Label: "Zero at", Hint: "the frequency of the section's transmission zeros (Hz), where it blocks the signal; — for none"}
+	colCircuit = components.Column{Label: "Circuit", Hint: "the op-amp circuit that builds the section"}
+	colGain    = components.Column{Label: "Gain", Hint: "the stage's own gain at its reference frequency (dB): DC for lowpass kinds, high frequency for highpass, f0 for bandpass"}
+	colPeak    = components.Column{Label: "Peak at output", Hint: "the highest level over frequency at the stage's output, relative to the filter's passband gain (dB); above 0 dB this stage clips before the output does"}
+	colF0Built = components.Column{Label: "f0 built (error)", Hint: "the f0 of the stage as built, with the exported part values and the spec's op-amp (Hz), and its error against f0 (%)"}
+	colQBuilt  = components.Column{Label: "Q built (error)", Hint: "the Q of the stage as built, and its error against Q (%)"}
+	colGBW     = components.Column{Label: "GBW needed (rule of thumb)", Hint: "the least op-amp gain-bandwidth (Hz) that keeps the op-amp's own effect on f0, Q and gain within 1 %; in brackets 100·Q·f0, a common-practice rule of thumb"}
+	colSlew    = components.Column{Label: "Slew needed", Hint: "the slew rate (V/µs) a full-scale sine at the passband edge needs at this stage's output: 2π·f·Vpeak"}
+)
+
+// partColumns are the headings of a stage card's part table: the first
+// five always, the rest when the design has tolerances and
+// sensitivities.
+var partColumns = []components.Column{
+	{Label: "Ref", Hint: "the part's designator, as on the schematic, in the SPICE deck and on the bill of materials (R: resistor, C: capacitor, U: op-amp; the hundreds are the stage)"},
+	{Label: "Value", Hint: "the value to fit (Ω, F), from the series in the next column"},
+	{Label: "Exact", Hint: "the unrounded value the design asks for, given the parts already chosen (capacitors are picked from their series first, so theirs equal Value)"},
+	{Label: "Off by", Hint: "(Value − Exact)/Exact in %: how far the fitted value is from the unrounded one; resistors may be picked together to keep f0 and Q closest, so one can sit a step from its nearest series value"},
+	{Label: "Series", Hint: "the IEC 60063 series the value comes from; exact: unrounded"},
+	{Label: "Tolerance", Hint: "the tolerance the Monte Carlo draws this part within (± %)"},
+	{Label: "S f0", Hint: "the sensitivity of the stage's f0 to this part: ∂ln f0/∂ln x, the % change of f0 for a 1 % change of the part"},
+	{Label: "S Q", Hint: "the sensitivity of the stage's Q to this part: ∂ln Q/∂ln x"},
+	{Label: "Needs", Hint: "the tolerance (± %) this part needs for f0 within 1 % and Q within 2 % on 99 % of boards"},
+	{Label: "Fails at", Hint: "how far this part alone may move down / up (%) before the board fails the mask, every other part nominal"},
+}
+
 // stageTable is the header and rows of the stage table of d. The as-built
 // and op-amp columns appear only when the design has them.
-func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectionView) ([]string, []components.StageRow) {
+func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectionView) ([]components.Column, []components.StageRow) {
 	built, needs, zeros, slews := false, false, false, false
 	for i, v := range views {
 		built = built || v.Realized != nil
@@ -318,19 +387,19 @@ func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectio
 		slews = slews || (v.OpAmpNeeds != nil && v.OpAmpNeeds.SlewVPerS != nil && *v.OpAmpNeeds.SlewVPerS > 0)
 		zeros = zeros || d.Sections[i].ZeroHz != nil
 	}
-	cols := []string{"#", "Kind", "f0", "Q"}
+	cols := []components.Column{colStage, colKind, colF0, colQ}
 	if zeros {
-		cols = append(cols, "Zero at")
+		cols = append(cols, colZero)
 	}
-	cols = append(cols, "Circuit", "Gain", "Peak at output")
+	cols = append(cols, colCircuit, colGain, colPeak)
 	if built {
-		cols = append(cols, "f0 built (error)", "Q built (error)")
+		cols = append(cols, colF0Built, colQBuilt)
 	}
 	if needs {
-		cols = append(cols, "GBW needed (rule of thumb)")
+		cols = append(cols, colGBW)
 	}
 	if slews {
-		cols = append(cols, "Slew needed")
+		cols = append(cols, colSlew)
 	}
 	rows := make([]components.StageRow, len(d.Sections))
 	for i, s := range d.Sections {
@@ -389,7 +458,7 @@ func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectio
 				case n.GBWHz != nil:
 					g = si(*n.GBWHz, "Hz", 3)
 				default:
-					g = "none up to 1 THz"
+					g = "over 1 THz (the op-amp's DC gain alone moves it by more than 1 %)"
 				}
 				if n.RuleOfThumbGBWHz > 0 {
 					g += " (" + si(n.RuleOfThumbGBWHz, "Hz", 3) + ")"
@@ -404,20 +473,26 @@ func stageTable(d *synth.Design, ch circuit.Chain, hasChain bool, views []sectio
 			}
 			cells = append(cells, sl)
 		}
-		reason := v.TopologyReason
-		if reason == "" {
-			reason = "—"
-		}
-		rows[i] = components.StageRow{Cells: cells, Reason: reason, Warnings: v.Warnings}
+		rows[i] = components.StageRow{Cells: cells}
 	}
 	return cols, rows
 }
 
-// stageCard lists the parts of stage k (0-based) of ch with their
-// chain-wide designators; the schematic is added by the caller.
-func stageCard(ch circuit.Chain, k int) components.StageCard {
+// stageCard lists the parts of stage k (0-based) of d's chain ch with
+// their chain-wide designators; the schematic, the reason and the bench
+// figures are added by the caller.
+func stageCard(d *synth.Design, ch circuit.Chain, k int) components.StageCard {
 	st := ch.Stages[k]
-	card := components.StageCard{Title: fmt.Sprintf("Stage %d · %s", k+1, st.Topology)}
+	id := fmt.Sprintf("stage-%d", k+1)
+	title := fmt.Sprintf("Stage %d · %s", k+1, st.Topology)
+	if k < len(d.Sections) {
+		s := d.Sections[k]
+		title += fmt.Sprintf(" %s, f0 %s", s.Kind, si(s.F0Hz, "Hz", 5))
+		if s.Q != nil {
+			title += ", Q " + strconv.FormatFloat(*s.Q, 'f', 4, 64)
+		}
+	}
+	card := components.StageCard{ID: id, SchematicID: id + "-schematic", Title: title}
 	for _, p := range st.Parts {
 		unit := "Ω"
 		if p.Kind == circuit.Capacitor {
@@ -441,7 +516,44 @@ func stageCard(ch circuit.Chain, k int) components.StageCard {
 		if !ch.Model.Ideal {
 			v = si(ch.Model.GBWHz, "Hz", 3) + " GBW"
 		}
-		card.Parts = append(card.Parts, components.PartRow{Ref: ch.Ref(k+1, u.Ref), Kind: "op-amp", Value: v, Exact: "—", Deviation: "—", Series: "—"})
+		card.Parts = append(card.Parts, components.PartRow{Ref: ch.Ref(k+1, u.Ref), Kind: "op-amp", Value: v, Exact: "—", Deviation: "—", Series: "—", FailsAt: "—"})
 	}
 	return card
+}
+
+// schematicScale is how much larger than its own size (about a pixel per
+// SVG unit, 10-unit text) the page draws a stage's schematic when the card
+// has the room: 15 px text. A narrower card shrinks it to fit; its
+// enlarged view is twice the own size.
+const schematicScale = 1.5
+
+// svgSize matches the width and height attributes of an SVG's root
+// element, in plain user units as package schematic writes them.
+var svgSize = regexp.MustCompile(`^<svg[^>]*? width="([0-9.]+)" height="([0-9.]+)"`)
+
+// schematicStyle is the style of a schematic's figure: its own width and
+// height (in SVG units, unitless) as the custom properties --sw and --sh,
+// and the scale --schematic-scale, from which the style sheet sizes it.
+// Empty when the SVG states no size.
+func schematicStyle(svg string) string {
+	m := svgSize.FindStringSubmatch(svg)
+	if m == nil {
+		return ""
+	}
+	w, errW := strconv.ParseFloat(m[1], 64)
+	h, errH := strconv.ParseFloat(m[2], 64)
+	if errW != nil || errH != nil || !(w > 0 && h > 0) || w > 1e5 || h > 1e5 {
+		return ""
+	}
+	return "--sw: " + m[1] + "; --sh: " + m[2] + "; --schematic-scale: " + strconv.FormatFloat(schematicScale, 'f', -1, 64)
+}
+
+// stageDownload is the link to stage k's (1-based) schematic alone.
+func stageDownload(d *synth.Design, k int, query string) components.Link {
+	return components.Link{
+		Label:    fmt.Sprintf("Download stage %d's schematic (SVG)", k),
+		Href:     fmt.Sprintf("/download/schematic-svg?%s=%d&%s", paramStage, k, query),
+		Download: export.StageFileName(d, k),
+		Kind:     "schematic-svg",
+	}
 }

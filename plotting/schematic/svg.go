@@ -237,7 +237,9 @@ func (d *drawing) writeSVG(b *bytes.Buffer, name string) {
 		}
 		w.s("\"/>\n")
 		if d.groundLabel != "" {
-			w.s(`<text class="label ground-label" font-size="10" x="`)
+			// Filled, not stroked: the text sits inside the wires' group,
+			// whose 1.5-unit stroke would blur it.
+			w.s(`<text class="label ground-label" fill="currentColor" stroke="none" font-size="10" x="`)
 			w.n(g.x + 10)
 			w.s(`" y="`)
 			w.n(g.y + 14)

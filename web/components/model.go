@@ -30,6 +30,12 @@ type Form struct {
 	// page's script follows the run on GET /design/progress, showing its
 	// progress and offering to cancel it.
 	SlowTrials int
+	// ResetOnShow marks the form of a result page: it holds the spec of
+	// the design shown, so the page's script resets it to the values the
+	// server rendered whenever the page is shown, including from the
+	// browser's history (back/forward), where edits made before leaving
+	// would otherwise stay and disagree with the page.
+	ResetOnShow bool
 }
 
 // HasErrors reports whether the form carries any error message.
@@ -123,14 +129,20 @@ type Result struct {
 	// Notes are remarks on what the page leaves out and why.
 	Notes []string
 	// Columns are the headers of the stage table, Stages its rows.
-	Columns []string
+	Columns []Column
 	Stages  []StageRow
-	// TableNote explains the stage table's columns.
+	// TableNote explains the stage table's figures beyond the columns'
+	// hints.
 	TableNote string
-	// Cards are the stages' schematics and part lists; empty without a
-	// circuit.
+	// Cards are the stages, each with its reason, schematic and part
+	// list; empty without a circuit.
 	Cards []StageCard
-	// Plots are the SVG plots, in order.
+	// PartColumns are the headers of every card's part table, with their
+	// hints; the columns from Tolerance on are shown only when a card is
+	// Sensitive.
+	PartColumns []Column
+	// Plots are the SVG plots of the response, in order, each shown at the
+	// content's full width.
 	Plots []Plot
 	// Bench is the panel on tolerances, noise and settling; nil when the
 	// design has none of them (no circuit).
@@ -149,23 +161,29 @@ type Result struct {
 	SpecJSON string
 }
 
+// Column is one heading of a table and its one-line hint (what the
+// column holds, in which unit), shown as the heading's title and in the
+// table's legend.
+type Column struct {
+	Label, Hint string
+}
+
 // Figure is one labelled number of the summary.
 type Figure struct {
 	Label, Value, Detail string
+	// Hint says what the figure is, for its title attribute.
+	Hint string
 	// TestID names the figure for tests.
 	TestID string
 }
 
 // StageRow is one row of the stage table: the cells, already formatted, in
-// the order of Result.Columns, and the reason for the stage's circuit.
+// the order of Result.Columns.
 type StageRow struct {
-	Cells  []string
-	Reason string
-	// Warnings flag what an engineer should look at in this stage.
-	Warnings []string
-	// Details are further labelled lines under the row: the most
-	// sensitive parts, the tolerances they need.
-	Details []Detail
+	Cells []string
+	// Href is the address of the stage's card on the page ("#stage-2");
+	// empty without one.
+	Href string
 }
 
 // Detail is one labelled line of text; Bad marks it as a warning.
@@ -174,11 +192,28 @@ type Detail struct {
 	Bad         bool
 }
 
-// StageCard is one stage's schematic and parts.
+// StageCard is one stage: why its circuit, what to look at, its
+// schematic and its parts.
 type StageCard struct {
-	Title string
+	// ID is the card's element id ("stage-2"); SchematicID the
+	// schematic's ("stage-2-schematic"), the target that enlarges it.
+	ID, SchematicID string
+	Title           string
+	// Reason says why this circuit, in synth's words.
+	Reason string
+	// Warnings flag what an engineer should look at in this stage.
+	Warnings []string
+	// Details are further labelled lines: the most sensitive parts, the
+	// tolerances they need.
+	Details []Detail
 	// SVG is the schematic, inline; nil when none was drawn.
 	SVG templ.Component
+	// SchematicStyle sets the schematic's width on the page (a CSS
+	// custom property holding its natural width), so that its text is
+	// drawn larger than the SVG's own size but never wider than the card.
+	SchematicStyle templ.SafeCSS
+	// Download is the schematic of this stage alone as an SVG file.
+	Download Link
 	// Parts are the parts of the stage.
 	Parts []PartRow
 	// Sensitive reports that the part rows carry tolerances and
@@ -203,16 +238,21 @@ type PartRow struct {
 type Bench struct {
 	// Figures are the headline numbers.
 	Figures []Figure
+	// Plots are the bench's own plots (the step response), shown at the
+	// content's full width.
+	Plots []Plot
 	// MonteCarlo is nil when the spec asks for no trials; Hint then says
 	// how to ask.
 	MonteCarlo *MonteCarloView
 	Hint       string
 	// NoisePlot is the noise density plot; nil when none was drawn.
 	NoisePlot *Plot
-	// Contributors are the largest noise contributors; ContributorsNote
-	// says what the table leaves out.
-	Contributors     []ContributorRow
-	ContributorsNote string
+	// Contributors are the largest noise contributors, under
+	// ContributorColumns; ContributorsNote says what the table leaves
+	// out.
+	ContributorColumns []Column
+	Contributors       []ContributorRow
+	ContributorsNote   string
 	// Notes explain the panel's figures.
 	Notes []string
 }
@@ -232,7 +272,7 @@ type MonteCarloView struct {
 	// Summary says how many trials, which seed and which tolerances.
 	Summary string
 	// Columns and Rows are the per-stage spread of f0 and Q.
-	Columns []string
+	Columns []Column
 	Rows    [][]string
 	// Histograms are the edge-loss histograms.
 	Histograms []Histogram
@@ -335,7 +375,7 @@ type BoardView struct {
 	// Figures are the headline numbers (supply, signal, DC error).
 	Figures []Figure
 	// Columns and Rows are the swing table: one row per op-amp node.
-	Columns []string
+	Columns []Column
 	Rows    []BoardRow
 	// Notes explain the panel.
 	Notes []string
@@ -354,4 +394,13 @@ type BoardRow struct {
 type DriverView struct {
 	Figures []Figure
 	Reason  string
+}
+
+// label is the label of column i of cols ("" beyond them), the data-label
+// that a narrow screen shows beside each cell of a stacked table row.
+func label(cols []Column, i int) string {
+	if i < 0 || i >= len(cols) {
+		return ""
+	}
+	return cols[i].Label
 }

@@ -210,3 +210,32 @@
     });
   });
 })();
+
+// The form of a result page holds the spec of the design shown. Whenever
+// the page is shown, also from the history (back/forward, which may
+// restore the page as it was left), the form is reset to the values the
+// server rendered, so that edits made before leaving never sit beside a
+// result they did not make. Escape closes an enlarged schematic.
+(function () {
+  "use strict";
+  var form = document.querySelector("form[data-reset-on-show]");
+  if (form) {
+    window.addEventListener("pageshow", function () {
+      form.reset();
+      var note = document.getElementById("fill-status");
+      if (note) {
+        note.textContent = "";
+      }
+    });
+  }
+  document.addEventListener("keydown", function (e) {
+    var id = window.location.hash.slice(1);
+    if (e.key !== "Escape" || !/-schematic$/.test(id)) {
+      return;
+    }
+    var fig = document.getElementById(id);
+    if (fig) {
+      window.location.hash = "#" + id.replace(/-schematic$/, "");
+    }
+  });
+})();

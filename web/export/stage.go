@@ -1,0 +1,57 @@
+package export
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"strconv"
+
+	"github.com/polewright/polewright/synth"
+)
+
+// StageFileName returns the file name a download of stage k's (1-based)
+// schematic alone is offered under, e.g.
+// "polewright-elliptic-5-lowpass-20kHz-stage2-schematic.svg".
+func StageFileName(d *synth.Design, k int) string {
+	if d == nil {
+		return "polewright-stage" + strconv.Itoa(k) + "-schematic.svg"
+	}
+	return "polewright-" + DesignName(d) + "-stage" + strconv.Itoa(k) + "-schematic.svg"
+}
+
+// WriteStageSchematic writes the schematic of stage k (1-based) of d's
+// chain alone as an SVG document: drawn as the page draws it, captioned
+// with [StageTitle], labelled with the chain-wide designators, on a white
+// ground, with a <title> naming the design and the stage and the spec in
+// a <desc> (as [LabelSVG] labels the other drawings). A k outside the
+// chain's stages is an error.
+func WriteStageSchematic(w io.Writer, d *synth.Design, k int) error {
+	ch, err := d.Chain()
+	if err != nil {
+		return err
+	}
+	if k < 1 || k > len(ch.Stages) {
+		return fmt.Errorf("export: the design has %d stages, not a stage %d", len(ch.Stages), k)
+	}
+	var one bytes.Buffer
+	if err := StageSVG(&one, d, ch, k); err != nil {
+		return err
+	}
+	m := rootSize.FindSubmatch(one.Bytes())
+	if m == nil {
+		return fmt.Errorf("export: stage %d's schematic has no width and height", k)
+	}
+	var b bytes.Buffer
+	fmt.Fprintf(&b, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"+
+		"<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 %s %s\" width=\"%s\" height=\"%s\" color=\"#000\">\n<title>", m[1], m[2], m[1], m[2])
+	xmlEscape(&b, fmt.Sprintf("polewright: %s, schematic of stage %d", Describe(d), k))
+	b.WriteString("</title>\n<desc>")
+	spec, _ := json.Marshal(d.Spec)
+	xmlEscape(&b, "spec: "+string(spec))
+	fmt.Fprintf(&b, "</desc>\n<rect width=\"%s\" height=\"%s\" fill=\"#fff\"/>\n", m[1], m[2])
+	b.Write(one.Bytes())
+	b.WriteString("</svg>\n")
+	_, err = w.Write(b.Bytes())
+	return err
+}
