@@ -1,0 +1,109 @@
+package circuit
+
+import "slices"
+
+// Half suffixes of a fully differential stage's parts and nodes: the
+// half driven from In (A) and the half driven from InN (B).
+const (
+	HalfA = "A"
+	HalfB = "B"
+)
+
+// ToFullyDifferential returns the fully differential form of a stage of
+// one op-amp whose non-inverting input is Ground (an inverting stage:
+// multiple-feedback, inverting RC): two halves with the same part values
+// around one fully differential op-amp. Half A is st with each part's
+// designator suffixed A ("R1A") and each node n other than In and Ground
+// renamed n+"a"; half B is the same with B, "b", and In replaced by
+// [InN] (diffIn) or by Ground (a single-ended input: half B's input is
+// the reference, so the stage converts a single-ended signal to a
+// differential one). The op-amp's Minus is half A's copy of st's Minus,
+// its Plus half B's, its Out and OutN the halves' copies of st's Out,
+// which are the stage's Out and OutN.
+//
+// By symmetry (the bisection theorem: with matched halves a differential
+// drive leaves the midline at the reference) each half then behaves as
+// st with its op-amp's + input at the reference, for the ideal and for
+// the single-pole model alike (V(Out) = −½·A·2·V(Minus) per half), so
+// V(Out) − V(OutN) = H(s)·(V(In) − V(InN)) with H the transfer of st.
+// The stage's section order, and so its design, is st's.
+//
+// It returns an error wrapping [ErrInvalid] when st is not valid, has a
+// converter driver, or does not have exactly one op-amp with Plus at
+// Ground and Out the stage's output.
+func (st Stage) ToFullyDifferential(diffIn bool) (Stage, error) {
+	if err := st.Validate(); err != nil {
+		return Stage{}, err
+	}
+	if len(st.OpAmps) != 1 || st.OpAmps[0].Plus != Ground || st.OpAmps[0].Out != st.Out || st.OpAmps[0].FullyDifferential() || st.HasDriver() || st.DiffIn {
+		return Stage{}, invalidf("fully differential form: the stage is not one inverting op-amp (+ input at ground) driving its output")
+	}
+	rename := func(n, half string) string {
+		switch n {
+		case Ground:
+			return Ground
+		case In:
+			if half == HalfA {
+				return In
+			}
+			if diffIn {
+				return InN
+			}
+			return Ground
+		}
+		if half == HalfA {
+			return n + "a"
+		}
+		return n + "b"
+	}
+	out := Stage{Topology: st.Topology, DiffIn: diffIn, Parts: make([]Part, 0, 2*len(st.Parts))}
+	for _, half := range []string{HalfA, HalfB} {
+		for _, p := range st.Parts {
+			q := p
+			q.Ref = p.Ref + half
+			q.A, q.B = rename(p.A, half), rename(p.B, half)
+			if q.A == q.B { // both ends at ground: a part across the reference
+				continue
+			}
+			out.Parts = append(out.Parts, q)
+		}
+	}
+	u := st.OpAmps[0]
+	out.OpAmps = []OpAmp{{Ref: u.Ref, Plus: rename(u.Minus, HalfB), Minus: rename(u.Minus, HalfA),
+		Out: rename(u.Out, HalfA), OutN: rename(u.Out, HalfB)}}
+	out.Out, out.OutN = out.OpAmps[0].Out, out.OpAmps[0].OutN
+	if err := out.Validate(); err != nil {
+		return Stage{}, err
+	}
+	return out, nil
+}
+
+// SingleEndedInput returns a differentially driven stage built by
+// [Stage.ToFullyDifferential] with half B's input moved from [InN] to
+// Ground and DiffIn cleared: the first stage of a chain whose source is
+// single-ended. It returns st itself when st has no DiffIn.
+func (st Stage) SingleEndedInput() Stage {
+	if !st.DiffIn {
+		return st
+	}
+	out := st
+	out.DiffIn = false
+	out.Parts = slices.Clone(st.Parts)
+	for i := range out.Parts {
+		p := &out.Parts[i]
+		if p.A == InN {
+			p.A = Ground
+		}
+		if p.B == InN {
+			p.B = Ground
+		}
+	}
+	return out
+}
+
+// HalfOf returns the half suffix ([HalfA], [HalfB]) of a stage-local
+// designator of a fully differential stage's part, or "".
+func HalfOf(local string) string {
+	_, _, half, _ := parseLocalRefHalf(local)
+	return half
+}
