@@ -95,8 +95,8 @@ type Stage struct {
 	// Out is the node that carries the stage's output.
 	Out string
 	// OutN, when set, makes the stage differential: its output is
-	// V(Out) − V(OutN), the two outputs of one FDA (Out its Out, OutN its
-	// OutN). Every transfer "to the output" ([Stage.TransferFunction],
+	// V(Out) − V(OutN), the two outputs of one FDA (Out its Out and OutN
+	// its OutN, or crossed: see [Stage.CrossOutputs]). Every transfer "to the output" ([Stage.TransferFunction],
 	// [Stage.SolveAt], [Stage.SourceTransfers], [Stage.DCSourceTransfers])
 	// is then to that difference; a node transfer to Out or OutN is to the
 	// node itself, and [DiffOut] names the difference.

@@ -107,3 +107,16 @@ func HalfOf(local string) string {
 	_, _, half, _ := parseLocalRefHalf(local)
 	return half
 }
+
+// CrossOutputs returns a differential stage with its outputs taken
+// crossed (Out and OutN swapped): the stage's transfer changes sign, which
+// a differential signal's polarity allows for free. It returns st itself
+// for a stage that is not differential.
+func (st Stage) CrossOutputs() Stage {
+	if !st.Differential() {
+		return st
+	}
+	out := st
+	out.Out, out.OutN = st.OutN, st.Out
+	return out
+}

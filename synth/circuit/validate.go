@@ -180,7 +180,9 @@ func (st Stage) check() (*nodeTable, error) {
 		return nil, invalidf("Out %q is not an op-amp output", st.Out)
 	}
 	if st.Differential() {
-		fda := slices.IndexFunc(st.OpAmps, func(u OpAmp) bool { return u.Out == st.Out && u.OutN == st.OutN })
+		fda := slices.IndexFunc(st.OpAmps, func(u OpAmp) bool {
+			return u.Out == st.Out && u.OutN == st.OutN || u.Out == st.OutN && u.OutN == st.Out
+		})
 		if fda < 0 {
 			return nil, invalidf("Out %q and OutN %q are not the two outputs of one fully differential op-amp", st.Out, st.OutN)
 		}
