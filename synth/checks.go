@@ -39,6 +39,9 @@ const (
 	// converter's driver ([Driver]).
 	CheckDriverSettling  = "driver-settling"
 	CheckDriverStability = "driver-stability"
+	// CheckCommonMode judges a differential design's common-mode
+	// rejection under part mismatch ([CommonModeReport]).
+	CheckCommonMode = "common-mode"
 )
 
 // Check is one verdict on a design: what was judged, the figure it came
@@ -143,6 +146,9 @@ func (d *Design) fillChecks() {
 		d.Checks = append(d.Checks, c)
 	}
 	if c, ok := d.driverStabilityCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.commonModeCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
 	d.Checks = append(d.Checks, d.cautionChecks()...)

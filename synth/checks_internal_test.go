@@ -53,6 +53,10 @@ func TestChecksAtThresholds(t *testing.T) {
 		{"slew above", (*Design).slewCheck, &Design{Spec: spec, Sections: needs(1.0001e6, 1e6)}, false},
 		{"gbw at the op-amp's", (*Design).opAmpGBWCheck, &Design{Spec: spec, Sections: needs(1, 10e6)}, true},
 		{"gbw above", (*Design).opAmpGBWCheck, &Design{Spec: spec, Sections: needs(1, 10.001e6)}, false},
+		{"common mode at the limit", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 55, MedianDB: 60}, {FreqHz: 1000, WorstDB: 40, MedianDB: 50}}}}}, true},
+		{"common mode below", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 39.99, MedianDB: 60}, {FreqHz: 1000, WorstDB: 45, MedianDB: 50}}}}}, false},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {

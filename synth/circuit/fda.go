@@ -120,3 +120,61 @@ func (st Stage) CrossOutputs() Stage {
 	out.Out, out.OutN = st.OutN, st.Out
 	return out
 }
+
+// inputEnds returns, for a differential stage built by
+// [Stage.ToFullyDifferential], the indices of half B's parts whose input
+// end is InN (DiffIn) or, on a conversion stage ([Stage.SingleEndedInput]),
+// Ground where the half A twin touches In, with which end (0: A, 1: B).
+func (st Stage) inputEnds() (idx []int, end []int) {
+	twinOnIn := map[string]bool{}
+	for _, p := range st.Parts {
+		if HalfOf(p.Ref) == HalfA && (p.A == In || p.B == In) {
+			twinOnIn[p.Ref[:len(p.Ref)-1]] = true
+		}
+	}
+	for i, p := range st.Parts {
+		if HalfOf(p.Ref) != HalfB {
+			continue
+		}
+		for e, n := range []string{p.A, p.B} {
+			if n == InN || !st.DiffIn && n == Ground && twinOnIn[p.Ref[:len(p.Ref)-1]] {
+				idx, end = append(idx, i), append(end, e)
+			}
+		}
+	}
+	return idx, end
+}
+
+// InputModes returns a differential stage driven differentially (In at
+// +½, InN at −½ of the source: the differential gain) and driven in
+// common mode (both halves' inputs on In: the common-mode to differential
+// conversion), whatever its own input (DiffIn, or a conversion stage's
+// half B input on Ground). With matched halves the second's transfer is
+// zero; mismatch makes it the share of a common-mode input that reaches
+// the differential output. It returns an error wrapping [ErrInvalid] for
+// a stage that is not differential or whose half B has no input part.
+func (st Stage) InputModes() (diff, common Stage, err error) {
+	if !st.Differential() {
+		return Stage{}, Stage{}, invalidf("input modes: the stage is not differential")
+	}
+	idx, end := st.inputEnds()
+	if len(idx) == 0 {
+		return Stage{}, Stage{}, invalidf("input modes: half B has no input part")
+	}
+	diff, common = st, st
+	diff.Parts, common.Parts = slices.Clone(st.Parts), slices.Clone(st.Parts)
+	diff.DiffIn, common.DiffIn = true, false
+	for k, i := range idx {
+		for _, c := range []struct {
+			parts []Part
+			node  string
+		}{{diff.Parts, InN}, {common.Parts, In}} {
+			if end[k] == 0 {
+				c.parts[i].A = c.node
+			} else {
+				c.parts[i].B = c.node
+			}
+		}
+	}
+	return diff, common, nil
+}

@@ -2,6 +2,7 @@ package circuit_test
 
 import (
 	"math"
+	"math/cmplx"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -103,4 +104,49 @@ func TestFullyDifferentialMismatch(t *testing.T) {
 		require.NoError(t, err)
 		require.Less(t, relErr(r.At(s), want), 1e-9)
 	}
+}
+
+// TestInputModes: the differential and common-mode drives of a matched
+// stage give the section's transfer and zero; with half B's input
+// resistor 1 % high the common-mode drive reaches the output as, at DC
+// (closed form from the node equations with the outputs at ±d/2 and the
+// FDA inputs at a common Vx: (1 − Vx)/R1 = (Vx − d/2)/R2 and
+// (1 − Vx)/R1B = (Vx + d/2)/R2), d = R2·(1/R1B − 1/R1)·(1 − Vx) with
+// Vx = (R2/R1 + R2/R1B)/(2 + R2/R1 + R2/R1B).
+func TestInputModes(t *testing.T) {
+	t.Parallel()
+	se := mfbLP(mfR1, mfR2, mfR3, mfC1, mfC2)
+	fd, err := se.ToFullyDifferential(true)
+	require.NoError(t, err)
+	m := circuit.Model{Ideal: true}
+	for _, st := range []circuit.Stage{fd, fd.SingleEndedInput(), fd.CrossOutputs()} {
+		diff, common, err := st.InputModes()
+		require.NoError(t, err)
+		require.True(t, diff.DiffIn)
+		d, err := diff.SolveAt(m, 0)
+		require.NoError(t, err)
+		c, err := common.SolveAt(m, 0)
+		require.NoError(t, err)
+		sign := 1.0
+		if st.Out != fd.Out {
+			sign = -1
+		}
+		require.InDelta(t, sign*-mfR2/mfR1, real(d), 1e-12)
+		require.InDelta(t, 0, cmplx.Abs(c), 1e-12)
+	}
+	r1b := mfR1 * 1.01
+	for i := range fd.Parts {
+		if fd.Parts[i].Ref == "R1B" {
+			fd.Parts[i].Value = r1b
+		}
+	}
+	_, common, err := fd.SingleEndedInput().InputModes()
+	require.NoError(t, err)
+	c, err := common.SolveAt(m, 0)
+	require.NoError(t, err)
+	vx := (mfR2/mfR1 + mfR2/r1b) / (2 + mfR2/mfR1 + mfR2/r1b)
+	want := mfR2 * (1/r1b - 1/mfR1) * (1 - vx)
+	require.InDelta(t, want, real(c), 1e-12)
+	_, _, err = se.InputModes()
+	require.ErrorIs(t, err, circuit.ErrInvalid)
 }
