@@ -178,3 +178,77 @@ func (st Stage) InputModes() (diff, common Stage, err error) {
 	}
 	return diff, common, nil
 }
+
+// matchedHalf returns half A of a differential stage whose two halves
+// are matched (the form [Stage.ToFullyDifferential] builds: every part of
+// half B the mirror of its half A twin, same kind and value, the FDA's
+// inputs and outputs mirrored), as the single-op-amp stage whose
+// op-amp's + input is at the reference, and the sign of the stage's
+// transfer relative to that half's (−1 when the outputs are crossed).
+// By the bisection theorem the stage's differential transfer is then
+// sign times the half's, exactly, for the ideal and the single-pole model
+// and with the model's parasitics (each half carries its own), while the
+// common-mode input of a conversion stage does not reach the output. ok is
+// false for any stage not of that form, or with a mismatch.
+func (st Stage) matchedHalf() (half Stage, sign float64, ok bool) {
+	if !st.Differential() || len(st.OpAmps) != 1 || st.HasDriver() {
+		return Stage{}, 0, false
+	}
+	u := st.OpAmps[0]
+	if !u.FullyDifferential() {
+		return Stage{}, 0, false
+	}
+	mirror := func(n string) string {
+		switch {
+		case n == Ground:
+			return Ground
+		case n == In && st.DiffIn:
+			return InN
+		case n == In:
+			return Ground
+		case len(n) > 1 && n[len(n)-1] == 'a':
+			return n[:len(n)-1] + "b"
+		}
+		return "" // not a half A node
+	}
+	if mirror(u.Minus) != u.Plus || mirror(u.Out) != u.OutN {
+		return Stage{}, 0, false
+	}
+	switch {
+	case st.Out == u.Out && st.OutN == u.OutN:
+		sign = 1
+	case st.Out == u.OutN && st.OutN == u.Out:
+		sign = -1
+	default:
+		return Stage{}, 0, false
+	}
+	n := len(st.Parts)
+	if n%2 != 0 {
+		return Stage{}, 0, false
+	}
+	half = Stage{Topology: st.Topology, Parts: make([]Part, 0, n/2), Out: u.Out,
+		OpAmps: []OpAmp{{Ref: u.Ref, Plus: Ground, Minus: u.Minus, Out: u.Out}}}
+	for _, p := range st.Parts {
+		if HalfOf(p.Ref) != HalfA {
+			continue
+		}
+		base := p.Ref[:len(p.Ref)-1]
+		i := slices.IndexFunc(st.Parts, func(q Part) bool { return q.Ref == base+HalfB })
+		if i < 0 {
+			return Stage{}, 0, false
+		}
+		q := st.Parts[i]
+		if q.Kind != p.Kind || q.Value != p.Value || q.Parasitic || p.Parasitic {
+			return Stage{}, 0, false
+		}
+		ma, mb := mirror(p.A), mirror(p.B)
+		if !(q.A == ma && q.B == mb || q.A == mb && q.B == ma) || ma == "" || mb == "" {
+			return Stage{}, 0, false
+		}
+		half.Parts = append(half.Parts, p)
+	}
+	if 2*len(half.Parts) != n {
+		return Stage{}, 0, false
+	}
+	return half, sign, true
+}

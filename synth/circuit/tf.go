@@ -157,6 +157,29 @@ func (st Stage) hasNode(t *nodeTable, node string) bool {
 // nodeTransfer is transferFunction to the voltage of any node of the
 // stage.
 func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
+	if node == DiffOut {
+		// Matched halves: the differential output is the half-circuit's
+		// (bisection theorem), which a smaller nodal system gives without
+		// the common-mode poles.
+		if half, sign, ok := st.matchedHalf(); ok {
+			if ht, err := half.check(); err == nil {
+				r, err := half.nodeTransfer(m, ht, scale, half.Out)
+				if err == nil && sign < 0 {
+					for i := range r.Num {
+						r.Num[i] = -r.Num[i]
+					}
+				}
+				return r, err
+			}
+		}
+	}
+	return st.nodeTransferFull(m, t, scale, node)
+}
+
+// nodeTransferFull is nodeTransfer on the stage's whole nodal system
+// (for a differential stage: both halves, the common-mode poles
+// cancelled by cancelCommon where they cancel).
+func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
 	own := st
 	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)

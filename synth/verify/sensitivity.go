@@ -133,12 +133,8 @@ func dominantRoots(poles []complex128, sectionOrder int) (dominantSel, bool) {
 // adjointSensitivities differentiates the selected poles (rad/s) of the
 // stage, whose transfer function with model m has the natural scale
 // scale, through the adjoint of its nodal system. ok is false when that
-// does not apply (see adjointSplitTol and adjointSingularTol) or the
-// stage is differential (central differences then).
+// does not apply (see adjointSplitTol and adjointSingularTol).
 func adjointSensitivities(st circuit.Stage, m circuit.Model, scale float64, sel dominantSel) ([]Sensitivity, bool) {
-	if st.Differential() {
-		return nil, false // the nodal system here has single-ended op-amps only
-	}
 	// The op-amp model's parasitic parts are in the nodal system (they
 	// move the poles) but get no figure of their own.
 	aug := st.WithParasitics(m)
