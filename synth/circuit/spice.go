@@ -466,6 +466,20 @@ func checkDataFile(field, name string) error {
 // over its first 1e-4) and writes v(acq_samp) and v(out) to
 // Sampler.DataFile.
 //
+// A differential chain (its last stage differential, see
+// [Stage.OutN]) has its last stage's outputs on nodes outp and outn and
+// Eout making out = v(outp) − v(outn), so every analysis of v(out) reads
+// the differential output, and the noise analysis is of v(outp,outn);
+// each fully differential op-amp is an instance of pw_fda (pins +in,
+// −in, +out, −out, and ref with opt.Supply): the same input parasitics,
+// DC errors and noise as pw_opamp, the differential gain on node n1 (the
+// same single-pole integrator, or a VCVS of gain [IdealOpAmpGain]) and
+// the outputs at the reference ± v(n1)/2, so that their common mode is
+// the reference (Vocm tied to ref, or to ground without a supply), each
+// through Rout and the limiter when set. When the first stage is
+// differentially driven (DiffIn), Einp and Einn drive inp and inn with
+// +½ and −½ of v(in). A sampler on a differential chain is refused.
+//
 // Values are written in exponent form with at least 12 significant digits
 // and as many as the exact float64 needs (see the package documentation),
 // with no scale suffixes. The chain is validated first; an
