@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strings"
@@ -237,3 +238,35 @@ func TestDifferentialAgainstNgspice(t *testing.T) {
 }
 
 func fmtE(v float64) string { return fmt.Sprintf("%.17e", v) }
+
+// TestDifferentialRandomSpecs: random valid specs of every response and
+// approximation built fully differentially come out as a design whose
+// every stage is differential, or as a field error (topology: a notch
+// or all-pass section, or no part values), never another error or a
+// panic.
+func TestDifferentialRandomSpecs(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(4, 2))
+	built, refused := 0, 0
+	for trial := range 120 {
+		s := randomSpec(rng)
+		s.Topology = "fully-differential"
+		d, err := synth.SynthesizeTo(context.Background(), s, synth.Circuits)
+		if err != nil {
+			fe, ok := synth.IsFieldError(err)
+			require.True(t, ok, "trial %d: %v", trial, err)
+			require.Contains(t, []string{"topology", "stopband_hz"}, fe.Field, "trial %d: %v", trial, err)
+			refused++
+			continue
+		}
+		ch, err := d.Chain()
+		require.NoError(t, err)
+		for _, st := range ch.Stages {
+			require.True(t, st.Differential())
+		}
+		built++
+	}
+	t.Logf("%d built, %d refused", built, refused)
+	require.Positive(t, built)
+	require.Positive(t, refused)
+}
