@@ -150,3 +150,13 @@ func TestInputModes(t *testing.T) {
 	_, _, err = se.InputModes()
 	require.ErrorIs(t, err, circuit.ErrInvalid)
 }
+
+// TestLoopGainRefusesFDA: the broken-loop analysis is for single-ended
+// op-amps; a fully differential one is refused, not misread.
+func TestLoopGainRefusesFDA(t *testing.T) {
+	t.Parallel()
+	fd, err := mfbLP(mfR1, mfR2, mfR3, mfC1, mfC2).ToFullyDifferential(true)
+	require.NoError(t, err)
+	_, err = fd.LoopGain(circuit.Model{GBWHz: 1e6, DCGainDB: 100}, 1, complex(0, 1e3))
+	require.ErrorIs(t, err, circuit.ErrInvalid)
+}
