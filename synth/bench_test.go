@@ -3,7 +3,9 @@ package synth_test
 import (
 	"context"
 	"fmt"
+	"syscall"
 	"testing"
+	"time"
 
 	"github.com/polewright/polewright/synth"
 )
@@ -58,11 +60,13 @@ func BenchmarkSynthesizeIdeal(b *testing.B) {
 		b.Run(bs.name, func(b *testing.B) {
 			b.ReportAllocs()
 			ctx := context.Background()
+			start := cpuTime()
 			for b.Loop() {
 				if _, err := synth.SynthesizeIdeal(ctx, bs.spec); err != nil {
 					b.Fatal(err)
 				}
 			}
+			reportCPU(b, start)
 		})
 	}
 }
@@ -92,11 +96,13 @@ func BenchmarkSynthesize(b *testing.B) {
 		b.Run(bs.name, func(b *testing.B) {
 			b.ReportAllocs()
 			ctx := context.Background()
+			start := cpuTime()
 			for b.Loop() {
 				if _, err := synth.Synthesize(ctx, bs.spec); err != nil {
 					b.Fatal(err)
 				}
 			}
+			reportCPU(b, start)
 		})
 	}
 }
@@ -165,6 +171,22 @@ func BenchmarkSynthesizeBoard(b *testing.B) {
 	}
 }
 
+// cpuTime is the process's user and system CPU time so far.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
+// reportCPU reports the process's CPU time per operation since start
+// (cpu-ns/op) beside Go's wall time: what a run costs whatever else
+// shares the machine. Call it right after the b.Loop loop.
+func reportCPU(b *testing.B, start time.Duration) {
+	b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
+}
+
 // BenchmarkDifferential times the whole design (circuits, as-built
 // response, noise, step, board; no Monte Carlo) of an order-8
 // Butterworth lowpass built of single-ended multiple-feedback stages and
@@ -176,11 +198,13 @@ func BenchmarkDifferential(b *testing.B) {
 		b.Run(top, func(b *testing.B) {
 			b.ReportAllocs()
 			ctx := context.Background()
+			start := cpuTime()
 			for b.Loop() {
 				if _, err := synth.Synthesize(ctx, s); err != nil {
 					b.Fatal(err)
 				}
 			}
+			reportCPU(b, start)
 		})
 	}
 }

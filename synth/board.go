@@ -204,6 +204,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		up2[i] = 1
 	}
 	var upSteps []step.Stage
+	// The partial fractions of the stages before the current one, each
+	// factored once (nil when one cannot be: the exact state space then).
+	modal, _ := step.NewModal(nil)
 	dcUp := 1.0
 	for k, st := range ch.Stages {
 		stage := k + 1
@@ -231,10 +234,6 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			for i, n := range others {
 				nodeTF[n] = rs[i]
 			}
-		}
-		var modal *step.Modal
-		if len(t) > 1 {
-			modal, _ = step.NewModal(upSteps)
 		}
 		for _, p := range pins {
 			r := nodeTF[p.local]
@@ -301,6 +300,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			up2[i] *= real(h)*real(h) + imag(h)*imag(h)
 		}
 		upSteps = append(upSteps, step.FromRational(tfs[k]))
+		if modal != nil && modal.Extend(upSteps[k]) != nil {
+			modal = nil
+		}
 		dcUp *= real(tfs[k].At(0))
 	}
 	return nil
@@ -448,7 +450,12 @@ func (d *Design) nodeOffsets(ch circuit.Chain) error {
 				}
 			}
 		}
+		// The next stage's input: Out, or a differential stage's
+		// V(Out) − V(OutN) (its first node here, not a node of the chain).
 		nodes := []string{st.Out}
+		if st.Differential() {
+			nodes[0] = circuit.DiffOut
+		}
 		for _, p := range swingPins(st) {
 			if !slices.Contains(nodes, p.local) {
 				nodes = append(nodes, p.local)
@@ -458,14 +465,20 @@ func (d *Design) nodeOffsets(ch circuit.Chain) error {
 		if err != nil {
 			return fmt.Errorf("synth: DC error, stage %d: %w", k+1, err)
 		}
+		var next float64
 		for i, node := range nodes {
 			v := fromIn[i] * offIn
 			for j, x := range vals {
 				v += per[i][j] * x
 			}
-			d.nodeDC[ch.Node(k+1, node)] = finiteOr(v, 0)
+			if i == 0 {
+				next = finiteOr(v, 0)
+			}
+			if node != circuit.DiffOut {
+				d.nodeDC[ch.Node(k+1, node)] = finiteOr(v, 0)
+			}
 		}
-		offIn = d.nodeDC[ch.Node(k+1, st.Out)]
+		offIn = next
 	}
 	return nil
 }

@@ -277,8 +277,14 @@ const (
 	// as-built analysis (realised f0 and Q, op-amp needs) and the as-built
 	// response.
 	Circuits
-	// Verified: sensitivities and part tolerances, slew needs, noise,
-	// step response and settling, and the Monte Carlo the spec asks for.
+	// Compared: what a comparison of designs reads (explore's figures):
+	// slew needs, noise, step response and settling, and the Monte Carlo
+	// the spec asks for, computed exactly as at [Verified]; not the
+	// per-part figures (sensitivities, required tolerances, fail_at_pct)
+	// nor the board report (swing, DC error) and the checks on them.
+	Compared
+	// Verified: everything: Compared plus sensitivities and part
+	// tolerances, every part's fail_at_pct, and the board report.
 	Verified
 )
 
@@ -303,11 +309,11 @@ func SynthesizeIdeal(ctx context.Context, s Spec) (*Design, error) {
 // SynthesizeTo designs the filter that s asks for up to the given level.
 // Errors are as for [Synthesize].
 func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
-	if s.TargetYield != nil && level == Verified {
+	if s.TargetYield != nil && level >= Compared {
 		if err := s.Validate(); err != nil {
 			return nil, err
 		}
-		return synthesizeForYield(ctx, s)
+		return synthesizeForYield(ctx, s, level)
 	}
 	d, ordered, err := synthesize(ctx, s)
 	if err != nil {
@@ -329,7 +335,7 @@ func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
 	if level == Circuits {
 		return d, nil
 	}
-	if err := d.verifyDesign(ctx); err != nil {
+	if err := d.verifyDesign(ctx, level); err != nil {
 		return nil, err
 	}
 	return d, nil

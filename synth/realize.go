@@ -158,7 +158,8 @@ func (d *Design) realize(ordered []section.Section) error {
 		results[0].Reason += "; " + ConversionNote
 	}
 	model := circuitModel(s.OpAmp)
-	chain := circuit.Chain{Model: model}
+	// One memo of transfer functions serves every analysis of the design.
+	chain := circuit.Chain{Model: model, Memo: circuit.NewMemo()}
 	for _, r := range results {
 		// Every part carries the spec's tolerance (0: exact), so that the
 		// BOM, the Monte Carlo and the tolerance figures read one value.
@@ -200,7 +201,7 @@ func (d *Design) realize(ordered []section.Section) error {
 		for _, u := range r.Stage.OpAmps {
 			sec.OpAmps = append(sec.OpAmps, chain.Ref(i+1, u.Ref))
 		}
-		if err := d.analyseStage(i, r.Stage, model); err != nil {
+		if err := d.analyseStage(i, r.Stage, model, chain.Memo); err != nil {
 			return err
 		}
 	}
@@ -300,14 +301,15 @@ func withInverter(st circuit.Stage, rs eseries.Series) circuit.Stage {
 	return st
 }
 
-// analyseStage fills the as-built figures of section i from its stage.
-func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model) error {
+// analyseStage fills the as-built figures of section i from its stage,
+// its transfer functions through the design's memo.
+func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model, memo *circuit.Memo) error {
 	sec := &d.Sections[i]
-	built, err := st.TransferFunction(model)
+	built, err := memo.TransferFunction(st, model)
 	if err != nil {
 		return fmt.Errorf("synth: stage %d: %w", i+1, err)
 	}
-	ideal, err := st.TransferFunction(circuit.Model{Ideal: true})
+	ideal, err := memo.TransferFunction(st, circuit.Model{Ideal: true})
 	if err != nil {
 		return fmt.Errorf("synth: stage %d: %w", i+1, err)
 	}
@@ -334,7 +336,7 @@ func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model) erro
 	if !model.Ideal && worst > 0 {
 		start = model.GBWHz * worst / opAmpNeedPct // errors fall as 1/GBW
 	}
-	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start, sec.Kind == section.Notch)
+	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start, sec.Kind == section.Notch, memo)
 	if !model.Ideal && worst > OpAmpErrorFlagPct {
 		need := "no gain-bandwidth up to 1 THz keeps it within 1 %"
 		if g := sec.OpAmpNeeds.GBWHz; g != nil {
@@ -395,7 +397,7 @@ const (
 // the best passing one moves the bracket's top, so that where the errors
 // are not monotone the need is the crossing nearest the fast op-amps. The
 // need is never below f0; nil when the errors exceed the limit at 1 THz.
-func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int, start float64, notch bool) *OpAmpNeeds {
+func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int, start float64, notch bool, memo *circuit.Memo) *OpAmpNeeds {
 	dc := model.DCGainDB
 	if model.Ideal {
 		dc = 100
@@ -404,7 +406,7 @@ func opAmpNeeds(st circuit.Stage, model circuit.Model, f0, q float64, order int,
 	if order == 2 {
 		rule = 100 * q * f0
 	}
-	idealTF, err := st.TransferFunction(circuit.Model{Ideal: true})
+	idealTF, err := memo.TransferFunction(st, circuit.Model{Ideal: true})
 	if err != nil {
 		return &OpAmpNeeds{RuleOfThumbGBWHz: rule}
 	}

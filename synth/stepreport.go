@@ -133,10 +133,11 @@ func (d *Design) stepResponse(tfs circuit.Cascade) {
 	d.Step = rep
 }
 
-// finiteResponse returns the step response of the model m at t, or nil
-// when it cannot be computed or is not finite everywhere.
+// finiteResponse returns the step response of the model m at t (the
+// plotted curve: [step.Model.Curve]), or nil when it cannot be computed
+// or is not finite everywhere.
 func finiteResponse(m *step.Model, t []float64) []float64 {
-	y, err := m.Response(t)
+	y, err := m.Curve(t)
 	if err != nil {
 		return nil
 	}

@@ -96,15 +96,16 @@ func MarginLadder(s Spec) []DesignMargin {
 // [MarginLadder] in turn, with the Monte Carlo, and keeps the first whose
 // yield reaches the target (else the best). The design's Spec is s with
 // the chosen margin, so that it parses back to the same spec and designs
-// to the same board.
-func synthesizeForYield(ctx context.Context, s Spec) (*Design, error) {
+// to the same board. Each step is designed to level ([Compared] or
+// [Verified]).
+func synthesizeForYield(ctx context.Context, s Spec, level Level) (*Design, error) {
 	target := *s.TargetYield
 	search := &MarginSearch{TargetYield: target, Trials: s.MonteCarlo.Trials}
 	var best *Design
 	for i, m := range MarginLadder(s) {
 		step := s
 		step.TargetYield, step.DesignMargin = nil, m
-		d, err := SynthesizeTo(ctx, step, Verified)
+		d, err := SynthesizeTo(ctx, step, level)
 		if err != nil {
 			if ctx.Err() != nil {
 				return nil, ctx.Err()

@@ -7,6 +7,7 @@ import (
 	"math/cmplx"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -24,7 +25,8 @@ import (
 //
 //   - .op: v(out) = v(outp) − v(outn), the differential output offset,
 //     against dc.output_offset_v within 1 % (no reference to subtract:
-//     both outputs sit around it);
+//     both outputs sit around it), and every swing node's DC level less
+//     the reference against its dc_v within 1 % plus 2 µV;
 //   - .ac at every node the swing lists (both FDA outputs of each stage
 //     and each FDA's + input): the largest |v(node)| over the sweep
 //     against gain_max within 2 % plus 1e-3 (a thousandth of the full
@@ -67,6 +69,8 @@ func TestDifferentialBoardAgainstNgspice(t *testing.T) {
 		vecs += " v(" + n + ")"
 	}
 	deck = strings.Replace(deck, "wrdata ac.data v(out)\n", "wrdata ac.data "+vecs+"\n", 1)
+	// The operating point of every swing node too, after v(out).
+	deck = strings.Replace(deck, "wrdata "+circuit.OpDataFile+" v(out)\n", "wrdata "+circuit.OpDataFile+" "+vecs+"\n", 1)
 	dir := t.TempDir()
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
@@ -74,10 +78,21 @@ func TestDifferentialBoardAgainstNgspice(t *testing.T) {
 	require.NoError(t, err)
 	require.Len(t, v, 1+len(nodes))
 
-	opOut := readOp(t, filepath.Join(dir, circuit.OpDataFile))
+	ops := readOpRow(t, filepath.Join(dir, circuit.OpDataFile))
+	require.Len(t, ops, 1+len(nodes))
+	opOut := ops[0]
 	t.Logf("differential output offset: ngspice %.6g V, design %.6g V", opOut, d.DC.OutputOffsetV)
 	require.InDelta(t, d.DC.OutputOffsetV, opOut, 0.01*math.Abs(d.DC.OutputOffsetV)+1e-9)
+	ref := d.Spec.Supply.ReferenceV
 	k := 1
+	for _, sec := range d.Sections {
+		for _, n := range sec.Swing.Nodes {
+			t.Logf("node %s: dc_v %.6g V, ngspice %.6g V", n.Node, n.DCV, ops[k]-ref)
+			require.InDelta(t, n.DCV, ops[k]-ref, 0.01*math.Abs(n.DCV)+2e-6, "node %s dc_v", n.Node)
+			k++
+		}
+	}
+	k = 1
 	for _, sec := range d.Sections {
 		for _, n := range sec.Swing.Nodes {
 			peak := 0.0
@@ -89,4 +104,21 @@ func TestDifferentialBoardAgainstNgspice(t *testing.T) {
 			k++
 		}
 	}
+}
+
+// readOpRow returns the values of the operating-point data file's one
+// data row after its first column (the plot's scale).
+func readOpRow(t *testing.T, path string) []float64 {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	require.NoError(t, err)
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	f := strings.Fields(lines[len(lines)-1])
+	var out []float64
+	for _, x := range f[1:] {
+		v, err := strconv.ParseFloat(x, 64)
+		require.NoError(t, err)
+		out = append(out, v)
+	}
+	return out
 }

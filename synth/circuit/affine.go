@@ -105,7 +105,7 @@ func (st Stage) Slopes(m Model, scaleRadPerSec float64) (PartSlopes, error) {
 			lo[2+2*j], lo[3+2*j] = 1, 1
 		}
 	}
-	coef := sys.interpolateShared(len(lo), 2, lo, ss.sample)
+	coef := sys.interpolateShared(len(lo), 0, lo, ss.sample)
 	num0, den0 := coef[0], coef[1]
 	low := slices.IndexFunc(den0, func(v float64) bool { return v != 0 })
 	if low < 0 {

@@ -150,4 +150,7 @@ type Model struct {
 type Chain struct {
 	Stages []Stage
 	Model  Model
+	// Memo, when not nil, remembers the stages' transfer functions for
+	// [Chain.TransferFunctions] (see [Memo]); copies of the chain share it.
+	Memo *Memo
 }

@@ -343,7 +343,13 @@ func (sys *system) onCircle(c circle, m int, sample sampler, sc *interpScratch) 
 }
 
 // interpolate returns the numerator and denominator coefficients
-// (ascending powers of p, length deg+1) of V(Out) = num/det.
+// (ascending powers of p, length deg+1) of V(Out) = num/det. Both are
+// shared polynomials of interpolateShared: a coefficient is read from any
+// circle where its term is within shareRatio of its best, so the far
+// poles of the op-amps and their parasitics cost two or three circles
+// rather than one per coefficient's best radius (3 instead of 4–8 on an
+// elliptic-8's stages), each coefficient within about 1e4·ε of its
+// polynomial's largest term.
 func (sys *system) interpolate() (num, den []float64) {
 	c := sys.interpolateAll(2, func(p complex128, v []complex128) {
 		v[1], v[0] = sys.detNum(p)
@@ -352,11 +358,12 @@ func (sys *system) interpolate() (num, den []float64) {
 }
 
 // interpolateAll returns the coefficients (ascending powers of p, length
-// deg+1) of the np polynomials of sample, each resolved as if alone (see
-// interpolateShared, of which it is the case with every polynomial
-// strict and no structural zeros given).
+// deg+1) of the np polynomials of sample, every one shared (see
+// interpolateShared, of which it is the case with no polynomial strict
+// and no structural zeros given): the fewest circles that read each
+// coefficient within shareRatio of its best.
 func (sys *system) interpolateAll(np int, sample sampler) [][]float64 {
-	return sys.interpolateShared(np, np, nil, sample)
+	return sys.interpolateShared(np, 0, nil, sample)
 }
 
 // shareRatio: a coefficient of a shared polynomial (see interpolateShared)

@@ -1,9 +1,12 @@
 // Package explore answers "which filter should I build?": it designs every
 // reasonable candidate for one spec — each approximation at its lowest
 // order for the mask and up to [OrderSpan] above, on each topology and
-// resistor series asked (or the defaults) — with the full verification of
-// [synth.Synthesize], the very call the design command makes, so that
-// every candidate's figures are what the design of its permalink gives.
+// resistor series asked (or the defaults) — by [synth.SynthesizeTo] at
+// [synth.Compared]: the design command's own computation of everything a
+// candidate's figures read (the as-built response, noise, step, Monte
+// Carlo, target-yield search), without the per-part figures and the board
+// report that no figure reads, so that every candidate's figures are what
+// the design of its permalink gives.
 // It then takes the Pareto set of the candidates under [Objectives] and
 // recommends one of it, saying why.
 //

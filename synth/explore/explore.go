@@ -357,9 +357,9 @@ func Explore(ctx context.Context, data []byte) (*Result, error) {
 	return p.Run(ctx, nil)
 }
 
-// Run designs every candidate with [synth.Synthesize] (the full
-// verification, the spec's Monte Carlo, and with target_yield the margin
-// search), at most runtime.GOMAXPROCS(0) at a time, and compares them.
+// Run designs every candidate with [synth.SynthesizeTo] at
+// [synth.Compared] (the verification its figures read, the spec's Monte
+// Carlo, and with target_yield the margin search), at most runtime.GOMAXPROCS(0) at a time, and compares them.
 // progress, when not nil, is called after each candidate with the
 // number done and the total, never concurrently. A candidate that cannot
 // be designed (a [*synth.FieldError]) is listed in Result.Skipped; when
@@ -437,7 +437,7 @@ func (p *Plan) design(ctx context.Context, j job) (*Candidate, *Skipped, error) 
 	if err := ctx.Err(); err != nil {
 		return nil, nil, err
 	}
-	d, err := synth.Synthesize(ctx, j.spec)
+	d, err := synth.SynthesizeTo(ctx, j.spec, synth.Compared)
 	if err != nil {
 		if ctx.Err() != nil {
 			return nil, nil, ctx.Err()

@@ -185,7 +185,13 @@ func (m *Model) Measure(b Band) (Figures, error) {
 	if math.IsNaN(final) || math.IsInf(final, 0) {
 		return fig, nil
 	}
-	// One cache of discretisations serves every simulation below.
+	// The partial fractions serve every simulation below while they are
+	// well conditioned (checked at each grid's first step); else the state
+	// space, with one cache of discretisations for all of them.
+	modal, err := newModalEval(stages, sys.roots)
+	if err != nil || !measureModal {
+		modal = nil
+	}
 	cache := &stepCache{sys: sys}
 	budget := min(MaxPoints, max(minGridPoints, int(measureWork/float64((sys.n+1)*(sys.n+1)))))
 	env0 := envelope(ms, 0)
@@ -200,7 +206,14 @@ func (m *Model) Measure(b Band) (Figures, error) {
 		probeBand := 0.01 * env0 * 4 * float64(len(ms))
 		if ts, _ := measureGrid(ms, probeBand, end, pointsPerPeriod[0], min(budget, 2048), true); len(ts) > 1 {
 			ys := make([]float64, len(ts))
-			sys.advance(make([]float64, sys.n), 0, ts, ys, nil, cache)
+			if modal != nil && !modal.conditioned(ts[1]) {
+				modal = nil
+			}
+			if modal != nil {
+				modal.eval(ts, ys)
+			} else {
+				sys.advance(make([]float64, sys.n), 0, ts, ys, nil, cache)
+			}
 			for _, v := range ys {
 				peakLB = math.Max(peakLB, math.Abs(v))
 			}
@@ -231,10 +244,19 @@ func (m *Model) Measure(b Band) (Figures, error) {
 		if !ok {
 			return fig, nil // too many points to resolve it
 		}
-		// The states at the grid's times, from which the refinements start.
 		ys := make([]float64, len(ts))
-		states := make([]float64, len(ts)*sys.n)
-		sys.advance(make([]float64, sys.n), 0, ts, ys, states, cache)
+		if modal != nil && len(ts) > 1 && !modal.conditioned(ts[1]) {
+			modal = nil
+		}
+		// The states at the grid's times, from which the refinements
+		// start (the partial fractions need none).
+		var states []float64
+		if modal != nil {
+			modal.eval(ts, ys)
+		} else {
+			states = make([]float64, len(ts)*sys.n)
+			sys.advance(make([]float64, sys.n), 0, ts, ys, states, cache)
+		}
 		for _, v := range ys {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				return fig, nil
@@ -253,8 +275,12 @@ func (m *Model) Measure(b Band) (Figures, error) {
 				}
 			}
 			st = append(st, ts[j])
-			copy(x, states[i*sys.n:(i+1)*sys.n])
 			yy := make([]float64, len(st))
+			if states == nil {
+				modal.eval(st, yy)
+				return st, yy, nil
+			}
+			copy(x, states[i*sys.n:(i+1)*sys.n])
 			sys.advance(x, ts[i]*sys.wRef, st, yy, nil, cache)
 			return st, yy, nil
 		}
@@ -271,6 +297,10 @@ func (m *Model) Measure(b Band) (Figures, error) {
 	}
 	return fig, nil
 }
+
+// measureModal lets [Model.Measure] use the partial fractions; the tests
+// turn it off to compare with the state space.
+var measureModal = true
 
 // refineSteps is the number of sub-steps of each grid interval in
 // [Measure]'s refinement.

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
+	"slices"
 )
 
 // ErrIllConditioned is returned by [ModalResponse] when the partial
@@ -49,25 +50,44 @@ type Modal struct {
 	stages []Stage
 	roots  []rooted
 	zero   bool
+	// The poles of the last stage given to With, by its denominator and
+	// scale: the node transfers of one stage share their denominator, so
+	// a run of With calls for them finds the poles once.
+	lastDen   []float64
+	lastWs    float64
+	lastPoles []complex128
 }
 
 // NewModal validates and factors the stages (see [ModalResponse]).
 func NewModal(stages []Stage) (*Modal, error) {
 	m := &Modal{}
-	for k, st := range stages {
-		r, zero, err := rootStage(st)
-		if err != nil {
-			return nil, invalidf("stage %d: %v", k, err)
+	for _, st := range stages {
+		if err := m.Extend(st); err != nil {
+			return nil, err
 		}
-		m.zero = m.zero || zero
-		m.stages = append(m.stages, st)
-		m.roots = append(m.roots, r)
 	}
 	return m, nil
 }
 
+// Extend appends st to the model's cascade, factoring only st (its poles
+// taken from the last With call when it has the same denominator). It
+// returns an error wrapping [ErrInvalid] for an invalid stage and leaves
+// the cascade as it was.
+func (m *Modal) Extend(st Stage) error {
+	r, zero, err := m.rootLast(st)
+	if err != nil {
+		return invalidf("stage %d: %v", len(m.stages), err)
+	}
+	m.zero = m.zero || zero
+	m.stages = append(m.stages, st)
+	m.roots = append(m.roots, r)
+	return nil
+}
+
 // With returns the step response at tS of the model's cascade followed by
-// last, as [ModalResponse] does.
+// last, as [ModalResponse] does. Successive calls whose last stages share
+// a denominator (the voltages of several nodes of one stage) find its
+// poles once; a Modal is not safe for concurrent use.
 func (m *Modal) With(last Stage, tS []float64) ([]float64, error) {
 	if err := validTimes(tS); err != nil {
 		return nil, err
@@ -75,16 +95,29 @@ func (m *Modal) With(last Stage, tS []float64) ([]float64, error) {
 	return m.response(&last, tS)
 }
 
-// rootStage validates and factors one stage.
-func rootStage(st Stage) (rooted, bool, error) {
+// rootLast validates and factors the stage given to With: its roots as
+// realise finds them (without realise's blocks, which the partial
+// fractions do not need), the poles taken from the previous call when the
+// denominator and scale are the same.
+func (m *Modal) rootLast(st Stage) (rooted, bool, error) {
 	if err := st.validate(); err != nil {
 		return rooted{}, false, err
 	}
-	r, zero, err := realise(st)
-	if err != nil {
-		return rooted{}, false, err
+	dn, dd := degree(st.Num), degree(st.Den)
+	if dn < 0 {
+		return rooted{}, true, nil
 	}
-	return r.roots, zero, nil
+	rat := st.rational()
+	rat.Num, rat.Den = st.Num[:dn+1], st.Den[:dd+1]
+	rat.ScaleRadPerSec = 1
+	if m.lastPoles == nil || m.lastWs != st.ScaleRadPerSec || !slices.Equal(m.lastDen, rat.Den) {
+		m.lastDen, m.lastWs, m.lastPoles = slices.Clone(rat.Den), st.ScaleRadPerSec, rat.Poles()
+	}
+	xp, xz := m.lastPoles, rat.Zeros()
+	if len(xp) != dd || len(xz) != dn {
+		return rooted{}, false, invalidf("the roots of a stage of degree %d/%d cannot be found", dn, dd)
+	}
+	return rooted{poles: xp, zeros: xz, k: st.Num[dn] / st.Den[dd], ws: st.ScaleRadPerSec}, false, nil
 }
 
 // response is the modal step response of the cascade and, when not nil,
@@ -92,7 +125,7 @@ func rootStage(st Stage) (rooted, bool, error) {
 func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 	stages, rs, zero := m.stages, m.roots, m.zero
 	if last != nil {
-		r, z, err := rootStage(*last)
+		r, z, err := m.rootLast(*last)
 		if err != nil {
 			return nil, invalidf("last stage: %v", err)
 		}
@@ -103,51 +136,10 @@ func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 	if zero {
 		return make([]float64, len(tS)), nil
 	}
-	type term struct {
-		p, r complex128
-		pair bool
+	me, err := newModalEval(stages, rs)
+	if err != nil {
+		return nil, err
 	}
-	var terms []term
-	sumAbs := 0.0
-	for k, r := range rs {
-		for m, x := range r.poles {
-			if !(real(x) < 0) {
-				return nil, ErrUnstable
-			}
-			if imag(x) < 0 {
-				continue
-			}
-			p := x * complex(r.ws, 0)
-			res := complex(r.ws*r.k, 0)
-			for _, z := range r.zeros {
-				res *= x - z
-			}
-			for i, q := range r.poles {
-				if i != m {
-					res /= x - q
-				}
-			}
-			for l, st := range stages {
-				if l != k {
-					res *= st.At(p)
-				}
-			}
-			res /= p
-			if cmplx.IsNaN(res) || cmplx.IsInf(res) {
-				return nil, ErrIllConditioned
-			}
-			pair := imag(x) > 0
-			a := cmplx.Abs(res)
-			if pair {
-				a *= 2
-			}
-			sumAbs += a
-			terms = append(terms, term{p: p, r: res, pair: pair})
-		}
-	}
-	final := DCGain(stages)
-	start := highGain(stages)
-	scale := math.Max(math.Abs(final), math.Abs(start))
 	t1 := 0.0
 	for _, t := range tS {
 		if t > 0 {
@@ -155,77 +147,23 @@ func (m *Modal) response(last *Stage, tS []float64) ([]float64, error) {
 			break
 		}
 	}
-	kept := terms[:0]
-	for _, tm := range terms {
-		a := cmplx.Abs(tm.r)
+	if !me.conditioned(t1) {
+		return nil, ErrIllConditioned
+	}
+	// Modes that have decayed below 1e-12 of the residues' sum by t1 are
+	// left out after it.
+	kept := me.terms[:0:0]
+	for _, tm := range me.terms {
+		a := cmplx.Abs(tm.r) * math.Exp(real(tm.p)*t1)
 		if tm.pair {
 			a *= 2
 		}
-		if t1 > 0 {
-			a *= math.Exp(real(tm.p) * t1)
-		}
-		scale = math.Max(scale, a)
-		if t1 == 0 || a >= 1e-12*sumAbs {
+		if t1 == 0 || a >= 1e-12*me.sumAbs {
 			kept = append(kept, tm)
 		}
 	}
-	if !(scale > 0) || math.IsNaN(sumAbs) || sumAbs > modalCancellation*scale {
-		return nil, ErrIllConditioned
-	}
+	me.terms = kept
 	y := make([]float64, len(tS))
-	if uniformFromZero(tS) {
-		// t_i = i·Δ: each term advances by one factor e^(p·Δ) a step,
-		// a complex product instead of an exponential (the rounding grows
-		// by about one unit per step, far below the 1e-9 promised).
-		dt := tS[len(tS)-1] / float64(len(tS)-1)
-		for i := range y {
-			y[i] = final
-		}
-		y[0] = start
-		for _, tm := range kept {
-			f := cmplx.Exp(tm.p * complex(dt, 0))
-			e := tm.r
-			w := 1.0
-			if tm.pair {
-				w = 2
-			}
-			for i := 1; i < len(y); i++ {
-				e *= f
-				y[i] += w * real(e)
-			}
-		}
-		return y, nil
-	}
-	for i, t := range tS {
-		if t == 0 {
-			y[i] = start
-			continue
-		}
-		v := final
-		for _, tm := range kept {
-			e := cmplx.Exp(tm.p*complex(t, 0)) * tm.r
-			if tm.pair {
-				v += 2 * real(e)
-			} else {
-				v += real(e)
-			}
-		}
-		y[i] = v
-	}
+	me.eval(tS, y)
 	return y, nil
-}
-
-// uniformFromZero reports whether tS is 0, Δ, 2Δ, … to rounding.
-func uniformFromZero(tS []float64) bool {
-	n := len(tS)
-	if n < 3 || tS[0] != 0 || !(tS[n-1] > 0) {
-		return false
-	}
-	dt := tS[n-1] / float64(n-1)
-	for i, t := range tS {
-		if math.Abs(t-float64(i)*dt) > 1e-12*tS[n-1] {
-			return false
-		}
-	}
-	return true
 }

@@ -247,6 +247,33 @@ func (m *Model) Response(tS []float64) ([]float64, error) {
 	return m.response(tS), nil
 }
 
+// Curve is [Model.Response] for a plot: from the partial fractions (see
+// [ModalResponse]) where they are well conditioned from tS's first
+// positive time on, which gives the response to about 1e-9 of its scale
+// at a fraction of the state space's cost, else exactly as Response. Its
+// errors are Response's.
+func (m *Model) Curve(tS []float64) ([]float64, error) {
+	if err := validTimes(tS); err != nil {
+		return nil, err
+	}
+	if m.sys.zero {
+		return make([]float64, len(tS)), nil
+	}
+	t1 := 0.0
+	for _, t := range tS {
+		if t > 0 {
+			t1 = t
+			break
+		}
+	}
+	if me, err := newModalEval(m.stages, m.sys.roots); err == nil && t1 > 0 && me.conditioned(t1) {
+		y := make([]float64, len(tS))
+		me.eval(tS, y)
+		return y, nil
+	}
+	return m.response(tS), nil
+}
+
 // response returns the step response at the validated times tS.
 func (m *Model) response(tS []float64) []float64 {
 	y := make([]float64, len(tS))

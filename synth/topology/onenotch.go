@@ -292,9 +292,90 @@ func onFigures(v onParts, k section.Kind) (w0, q, g, wz float64) {
 // ctolPct for capacitors; σ = tol/√3). The gain there is
 // |N(jωz)|/|D(jωz)| with N(jω) = n0 − n2·ω² + j·n1·ω, zero as designed;
 // a part error moves the zeros (n0, n2) and takes them off the jω axis
-// (n1), and N's first-order spread is √Σ |∂N(jωz)/∂ln x|²·σx²
-// (derivatives by a relative step of 1e-6).
+// (n1), and N's first-order spread is √Σ |∂N(jωz)/∂ln x|²·σx². The
+// derivatives are those of [onCoef]'s formula, by the chain rule through
+// its intermediate terms (conductances, the divider K, the feedforward e
+// and f); notchResidualFD, the same by relative steps of 1e-6, checks
+// them in the tests.
 func notchResidual(v onParts, wz, g, rtolPct, ctolPct float64) float64 {
+	inv := func(r float64) float64 {
+		if r == 0 {
+			return 0
+		}
+		return 1 / r
+	}
+	g1a, g1b, g3, g6 := inv(v.r1), inv(v.r2), inv(v.r3), inv(v.r6)
+	g1 := g1a + g1b
+	k := 1.0
+	if v.r4 > 0 {
+		k = v.r5 / (v.r4 + v.r5)
+	}
+	e, deDg6 := g6*(1-k), 1-k
+	if v.r6g {
+		e, deDg6 = -g6*k, -k
+	}
+	f, dfDc3 := -v.c3*k, -k
+	if v.c3in {
+		f, dfDc3 = v.c3*(1-k), 1-k
+	}
+	c1, c2 := v.c1, v.c2
+	cs := c1 + c2
+	w2 := wz * wz
+	// ∂(n2, n1, n0) by each intermediate, as re = ∂n0 − ω²·∂n2 and
+	// im = ω·∂n1 of N(jωz).
+	type dn struct{ n2, n1, n0 float64 }
+	at := func(d dn) (float64, float64) { return d.n0 - w2*d.n2, wz * d.n1 }
+	dG1a := dn{0, k*c2 - c2 - f, k*g3 - e}
+	dG1b := dn{0, k*c2 - f, k*g3 - e}
+	dG3 := dn{0, k * cs, g1 * k}
+	dE := dn{0, -cs, -g1}
+	dF := dn{-cs, -g1, 0}
+	// K's total derivative: its own terms and through e and f (both
+	// have ∂/∂K = −G6 and −C3 in either arrangement).
+	dK := dn{c1*c2 + v.c3*cs, c2*g1 + g3*cs + g6*cs + v.c3*g1, g1*g3 + g1*g6}
+	dC1 := dn{k*c2 - f, k*g3 - e, 0}
+	dC2 := dn{k*c1 - f, k*g1 + k*g3 - g1a - e, 0}
+	var s2 float64
+	// add counts a part whose ∂N/∂ln x is a·(the intermediate's ∂N).
+	add := func(a float64, d dn, tolPct float64) {
+		re, im := at(d)
+		sig := tolPct / 100 / math.Sqrt(3)
+		s2 += a * a * (re*re + im*im) * sig * sig
+	}
+	// ∂/∂ln R = −G·∂/∂G for a resistor seen as its conductance.
+	if v.r1 != 0 {
+		add(g1a, dG1a, rtolPct)
+	}
+	if v.r2 != 0 {
+		add(g1b, dG1b, rtolPct)
+	}
+	if v.r3 != 0 {
+		add(g3, dG3, rtolPct)
+	}
+	if v.r6 != 0 {
+		add(g6*deDg6, dE, rtolPct)
+	}
+	if v.r4 > 0 {
+		// ∂K/∂ln R4 = −K(1 − K) = −∂K/∂ln R5.
+		add(k*(1-k), dK, rtolPct)
+		add(k*(1-k), dK, rtolPct)
+	}
+	if c1 != 0 {
+		add(c1, dC1, ctolPct)
+	}
+	if c2 != 0 {
+		add(c2, dC2, ctolPct)
+	}
+	if v.c3 != 0 {
+		add(v.c3*dfDc3, dF, ctolPct)
+	}
+	d2, d1, d0 := c1*c2, g3*cs, g1*g3
+	return math.Sqrt(s2) / math.Hypot(d0-d2*w2, d1*wz) / g
+}
+
+// notchResidualFD is notchResidual by relative steps of 1e-6 in each
+// part (the definition, for the tests).
+func notchResidualFD(v onParts, wz, g, rtolPct, ctolPct float64) float64 {
 	num := func(v onParts) complex128 {
 		n2, n1, n0, _, _, _ := onCoef(v)
 		return complex(n0-n2*wz*wz, n1*wz)
