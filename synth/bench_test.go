@@ -186,3 +186,25 @@ func cpuTime() time.Duration {
 func reportCPU(b *testing.B, start time.Duration) {
 	b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
 }
+
+// BenchmarkDifferential times the whole design (circuits, as-built
+// response, noise, step, board; no Monte Carlo) of an order-8
+// Butterworth lowpass built of single-ended multiple-feedback stages and
+// of fully differential ones (issue 12: within 2× of the single-ended).
+func BenchmarkDifferential(b *testing.B) {
+	for _, top := range []string{"multiple-feedback", "fully-differential"} {
+		s := withOrder(baseSpec(synth.Lowpass, "butterworth"), 8, 1)
+		s.Topology = top
+		b.Run(top, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			start := cpuTime()
+			for b.Loop() {
+				if _, err := synth.Synthesize(ctx, s); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportCPU(b, start)
+		})
+	}
+}

@@ -145,7 +145,8 @@ type pinAt struct {
 }
 
 // swingPins lists a stage's op-amp non-inverting inputs (but those on the
-// reference) and outputs, in the op-amps' order, and the stage's output
+// reference) and outputs (both of a fully differential op-amp), in the
+// op-amps' order, and the stage's output
 // when it is not an op-amp's (the converter's driver R–C after the last
 // op-amp), under the op-amp that drives it: out is always listed.
 func swingPins(st circuit.Stage) []pinAt {
@@ -155,6 +156,9 @@ func swingPins(st circuit.Stage) []pinAt {
 			pins = append(pins, pinAt{u.Plus, PinInput, u.Ref})
 		}
 		pins = append(pins, pinAt{u.Out, PinOutput, u.Ref})
+		if u.FullyDifferential() {
+			pins = append(pins, pinAt{u.OutN, PinOutput, u.Ref})
+		}
 	}
 	if !slices.ContainsFunc(st.OpAmps, func(u circuit.OpAmp) bool { return u.Out == st.Out }) {
 		ref := ""
@@ -211,12 +215,17 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		// one nodal interpolation (the output's is tfs[k]).
 		pins := swingPins(st)
 		var others []string
+		// A differential stage's output transfer is V(Out) − V(OutN):
+		// its output nodes take their own.
 		for _, p := range pins {
-			if p.local != st.Out && !slices.Contains(others, p.local) {
+			if (p.local != st.Out || st.Differential()) && !slices.Contains(others, p.local) {
 				others = append(others, p.local)
 			}
 		}
-		nodeTF := map[string]circuit.Rational{st.Out: tfs[k]}
+		nodeTF := map[string]circuit.Rational{}
+		if !st.Differential() {
+			nodeTF[st.Out] = tfs[k]
+		}
 		if len(others) > 0 {
 			rs, err := st.NodeTransferFunctions(ch.Model, others)
 			if err != nil {
@@ -441,7 +450,12 @@ func (d *Design) nodeOffsets(ch circuit.Chain) error {
 				}
 			}
 		}
+		// The next stage's input: Out, or a differential stage's
+		// V(Out) − V(OutN) (its first node here, not a node of the chain).
 		nodes := []string{st.Out}
+		if st.Differential() {
+			nodes[0] = circuit.DiffOut
+		}
 		for _, p := range swingPins(st) {
 			if !slices.Contains(nodes, p.local) {
 				nodes = append(nodes, p.local)
@@ -451,14 +465,20 @@ func (d *Design) nodeOffsets(ch circuit.Chain) error {
 		if err != nil {
 			return fmt.Errorf("synth: DC error, stage %d: %w", k+1, err)
 		}
+		var next float64
 		for i, node := range nodes {
 			v := fromIn[i] * offIn
 			for j, x := range vals {
 				v += per[i][j] * x
 			}
-			d.nodeDC[ch.Node(k+1, node)] = finiteOr(v, 0)
+			if i == 0 {
+				next = finiteOr(v, 0)
+			}
+			if node != circuit.DiffOut {
+				d.nodeDC[ch.Node(k+1, node)] = finiteOr(v, 0)
+			}
 		}
-		offIn = d.nodeDC[ch.Node(k+1, st.Out)]
+		offIn = next
 	}
 	return nil
 }

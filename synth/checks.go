@@ -39,7 +39,20 @@ const (
 	// converter's driver ([Driver]).
 	CheckDriverSettling  = "driver-settling"
 	CheckDriverStability = "driver-stability"
+	// CheckCommonMode judges a differential design's common-mode
+	// rejection under part mismatch ([CommonModeReport]).
+	CheckCommonMode = "common-mode"
+	// CheckOutputCommonMode compares a differential design's output
+	// common mode (the reference, where the FDAs hold it) with the
+	// common mode the converter's input wants.
+	CheckOutputCommonMode = "output-common-mode"
 )
+
+// OutputCommonModeLimitV is how far the FDAs' output common mode may sit
+// from converter.input_common_mode_v before the output-common-mode check
+// warns: 0.1 V (common practice: a differential converter's input common
+// mode is commonly allowed about ±0.1 V around its nominal).
+const OutputCommonModeLimitV = 0.1
 
 // Check is one verdict on a design: what was judged, the figure it came
 // to and the limit it was held to, and one sentence that says it.
@@ -143,6 +156,12 @@ func (d *Design) fillChecks() {
 		d.Checks = append(d.Checks, c)
 	}
 	if c, ok := d.driverStabilityCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.commonModeCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
+	if c, ok := d.outputCommonModeCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
 	d.Checks = append(d.Checks, d.cautionChecks()...)
@@ -474,4 +493,25 @@ func dbText(v float64) string {
 		return fmt.Sprintf("%.2f", v)
 	}
 	return fmt.Sprintf("%.3g", v)
+}
+
+// outputCommonModeCheck judges the distance between a differential
+// design's output common mode, the reference on which the FDAs hold it,
+// and converter.input_common_mode_v; present for a differential design
+// whose converter names its common mode.
+func (d *Design) outputCommonModeCheck() (Check, bool) {
+	c := d.Spec.Converter
+	if !d.Spec.Differential() || c == nil || c.InputCommonModeV == nil {
+		return Check{}, false
+	}
+	vocm, want := d.reference(), *c.InputCommonModeV
+	off := math.Abs(vocm - want)
+	ok := off <= OutputCommonModeLimitV
+	text := fmt.Sprintf("The fully differential op-amps hold the output common mode at the reference, %s; the converter's input wants %s, %s away (within %s).",
+		si.Format(vocm, "V", 4), si.Format(want, "V", 4), si.Format(off, "V", 3), si.Format(OutputCommonModeLimitV, "V", 3))
+	if !ok {
+		text = fmt.Sprintf("The fully differential op-amps hold the output common mode at the reference, %s, but the converter's input wants %s, %s away (more than %s): set supply.reference_v to the converter's common mode, or drive the FDAs' Vocm pins from it.",
+			si.Format(vocm, "V", 4), si.Format(want, "V", 4), si.Format(off, "V", 3), si.Format(OutputCommonModeLimitV, "V", 3))
+	}
+	return newCheck(CheckOutputCommonMode, ok, SeverityWarning, off, OutputCommonModeLimitV, "V", len(d.Sections), text), true
 }

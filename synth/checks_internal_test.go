@@ -53,6 +53,12 @@ func TestChecksAtThresholds(t *testing.T) {
 		{"slew above", (*Design).slewCheck, &Design{Spec: spec, Sections: needs(1.0001e6, 1e6)}, false},
 		{"gbw at the op-amp's", (*Design).opAmpGBWCheck, &Design{Spec: spec, Sections: needs(1, 10e6)}, true},
 		{"gbw above", (*Design).opAmpGBWCheck, &Design{Spec: spec, Sections: needs(1, 10.001e6)}, false},
+		{"output common mode at the limit", (*Design).outputCommonModeCheck, &Design{Spec: diffSpec(2.5, 2.5999)}, true},
+		{"output common mode beyond", (*Design).outputCommonModeCheck, &Design{Spec: diffSpec(2.5, 2.6001)}, false},
+		{"common mode at the limit", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 55, MedianDB: 60}, {FreqHz: 1000, WorstDB: 40, MedianDB: 50}}}}}, true},
+		{"common mode below", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 39.99, MedianDB: 60}, {FreqHz: 1000, WorstDB: 45, MedianDB: 50}}}}}, false},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -119,4 +125,11 @@ func TestBuiltMaskWordsTheWorstRule(t *testing.T) {
 	require.False(t, c.OK)
 	require.InDelta(t, -0.2, c.Figure, 1e-12)
 	require.Contains(t, c.Text, "folds onto the passband is only 97.88 dB down; the converter needs 98.08 dB")
+}
+
+// diffSpec is a differential design's spec on a 5 V supply with the
+// reference at refV and the converter wanting the common mode cmV.
+func diffSpec(refV, cmV float64) Spec {
+	return Spec{Topology: "auto", Supply: &Supply{PositiveV: 5, ReferenceV: refV},
+		Converter: &Converter{Bits: 16, SampleRateHz: 48000, FullScaleVpp: 4, Input: InputDifferential, InputCommonModeV: &cmV}}
 }

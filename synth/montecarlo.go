@@ -24,6 +24,9 @@ type MonteCarloReport struct {
 	Stages []StageSpread `json:"stages"`
 	// EdgeLoss histograms the loss at the passband and stopband edges.
 	EdgeLoss map[string]HistogramReport `json:"edge_loss"`
+	// CommonMode is the common-mode rejection of a differential design
+	// under the same part spread, or nil.
+	CommonMode *CommonModeReport `json:"common_mode,omitempty"`
 }
 
 // EnvelopeReport is the magnitude response's spread over the trials, in
@@ -98,7 +101,7 @@ func (d *Design) monteCarlo(ctx context.Context, ch circuit.Chain) error {
 		mc.EdgeLoss[name] = HistogramReport{FreqHz: h.FreqHz, EdgesDB: h.EdgesDB, Counts: h.Counts}
 	}
 	d.MonteCarlo = mc
-	return nil
+	return d.commonMode(ch)
 }
 
 func edgeName(base string, i, n int) string {

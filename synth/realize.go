@@ -78,9 +78,12 @@ func (d *Design) realize(ordered []section.Section) error {
 	results := make([]topology.Result, len(ordered))
 	inverting, firstOrder := 0, -1
 	allpassFirst := -1 // a first-order all-pass section, which can invert instead
+	diff := s.Differential()
 	for i, sec := range ordered {
 		top := s.Topology
 		switch k := sec.Kind(); {
+		case diff:
+			top = topology.FullyDifferential
 		case sec.IsAllpass():
 			top = topology.Allpass
 			if sec.Order() == 1 && allpassFirst < 0 {
@@ -95,6 +98,9 @@ func (d *Design) realize(ordered []section.Section) error {
 		}
 		r, err := topology.Realize(sec, top, opt)
 		if err != nil {
+			if diff {
+				return d.differentialError(i, err)
+			}
 			return realizeError(i, d.Sections[i], s.Topology, err)
 		}
 		if top != s.Topology {
@@ -108,7 +114,7 @@ func (d *Design) realize(ordered []section.Section) error {
 			inverting++
 		}
 	}
-	if s.Topology == topology.Auto {
+	if s.Topology == topology.Auto && !diff {
 		d.keepNotchesInMask(ordered, results, opt)
 		inverting = 0
 		for _, r := range results {
@@ -121,6 +127,14 @@ func (d *Design) realize(ordered []section.Section) error {
 	// right by the first-order stage's inverting form, or else by a
 	// unity-gain inverter after the last stage.
 	polarity := ""
+	if diff && inverting%2 == 1 {
+		// A differential signal's sign is free: cross the last outputs.
+		last := len(results) - 1
+		results[last].Stage = results[last].Stage.CrossOutputs()
+		results[last].Inverting = !results[last].Inverting
+		inverting++
+		polarity = "its outputs are taken crossed (a differential signal's sign costs no part), so that the chain as a whole does not invert"
+	}
 	if inverting%2 == 1 && firstOrder >= 0 {
 		r, err := topology.Realize(ordered[firstOrder], topology.InvertingRC, opt)
 		if err == nil && r.Inverting {
@@ -143,6 +157,12 @@ func (d *Design) realize(ordered []section.Section) error {
 		polarity = "a unity-gain inverter follows, so that the chain as a whole does not invert"
 	}
 
+	if diff {
+		// The source is single-ended: the first stage converts it, its
+		// half B input on the reference.
+		results[0].Stage = results[0].Stage.SingleEndedInput()
+		results[0].Reason += "; " + ConversionNote
+	}
 	model := circuitModel(s.OpAmp)
 	// One memo of transfer functions serves every analysis of the design.
 	chain := circuit.Chain{Model: model, Memo: circuit.NewMemo()}
@@ -197,6 +217,47 @@ func (d *Design) realize(ordered []section.Section) error {
 	}
 	d.chain = &chain
 	return nil
+}
+
+// ConversionNote is the sentence a differential design's first stage
+// carries: it converts the single-ended source to a differential signal.
+const ConversionNote = "this first stage converts the single-ended source to differential: half A takes the source, half B's input is on the reference, and the matched halves give the section's transfer to the differential output"
+
+// Differential reports whether the design is built of fully
+// differential stages: topology fully-differential, or auto with a
+// differential converter input.
+func (s Spec) Differential() bool {
+	return s.Topology == topology.FullyDifferential ||
+		s.Topology == topology.Auto && s.Converter != nil && s.Converter.Input == InputDifferential
+}
+
+// differentialError words a section that has no fully differential form
+// (a notch kind, an all-pass) or no part values: the field is topology
+// when the spec asked for fully-differential, converter.input when auto
+// chose it for a differential converter.
+func (d *Design) differentialError(i int, err error) error {
+	sec := d.Sections[i]
+	field, why := "topology", "topology fully-differential"
+	if d.Spec.Topology == topology.Auto {
+		field, why = "converter.input", "a differential converter input (auto builds every section fully differential)"
+	}
+	desc := fmt.Sprintf("%s section %d (f0 %.4g Hz", sec.Kind, i+1, sec.F0Hz)
+	if sec.Q != nil {
+		desc += fmt.Sprintf(", Q %.3g", *sec.Q)
+	}
+	desc += ")"
+	reason := err.Error()
+	var te *topology.Error
+	if errors.As(err, &te) {
+		reason = te.Reason
+	}
+	hint := ""
+	if errors.Is(err, topology.ErrNoForm) {
+		hint = "; the notch and all-pass sections have no fully differential form here: choose an approximation without jω-axis zeros (not elliptic or chebyshev2, not bandstop) and no delay equalizer, or a single-ended design"
+	} else if errors.Is(err, topology.ErrLimits) {
+		hint = "; widen resistor_range_ohm or capacitor_range_farad"
+	}
+	return fieldErr(field, "%s cannot be built for %s: %s%s", desc, why, reason, hint)
 }
 
 // realizeError words a failed mapping as a spec error: the field is

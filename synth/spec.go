@@ -13,6 +13,7 @@ import (
 
 	"github.com/polewright/polewright/standards/eseries"
 	"github.com/polewright/polewright/synth/proto"
+	"github.com/polewright/polewright/synth/topology"
 )
 
 // Response names the kind of frequency response.
@@ -175,8 +176,9 @@ type Converter struct {
 	// between the last stage and its input ([Driver]).
 	Architecture string `json:"architecture,omitempty"`
 	// Input is "single-ended" ("", left out, means the same) or
-	// "differential" (refused for now: the differential stages are not
-	// built).
+	// "differential": then topology auto builds every section fully
+	// differential (the first stage converts the single-ended source),
+	// and the single-ended topologies are refused.
 	Input string `json:"input,omitempty"`
 	// SamplingCapacitanceFarad is the converter's sampling capacitor (a
 	// SAR's charge-redistribution array as its input sees it), needed
@@ -350,7 +352,7 @@ func IsFieldError(err error) (*FieldError, bool) {
 var (
 	Responses      = []string{"lowpass", "highpass", "bandpass", "bandstop"}
 	Approximations = []string{"butterworth", "chebyshev1", "chebyshev2", "bessel", "elliptic", "legendre", "gaussian", "linear-phase"}
-	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "one-amp-notch", "auto"}
+	Topologies     = []string{"sallen-key", "multiple-feedback", "state-variable", "one-amp-notch", "fully-differential", "auto"}
 	SeriesNames    = []string{"E3", "E6", "E12", "E24", "E48", "E96", "E192"}
 	ValueModes     = []string{"series", "exact"}
 	Distributions  = []string{"uniform", "gaussian"}
@@ -1096,7 +1098,12 @@ func (s Spec) validateConverterInput() error {
 		}
 	}
 	if c.Input == InputDifferential {
-		return fieldErr("converter.input", "differential is not built yet: the fully differential stages are still to come; use single-ended")
+		if c.Architecture == ArchitectureSAR {
+			return fieldErr("converter.input", "a differential sar converter is not built: its driver RC is single-ended; use sigma-delta or other for a differential converter, or a single-ended sar")
+		}
+		if s.Topology != "auto" && s.Topology != topology.FullyDifferential {
+			return fieldErr("topology", "%s builds single-ended stages, but converter.input is differential: use fully-differential or auto", s.Topology)
+		}
 	}
 	if v := c.SamplingCapacitanceFarad; v != 0 {
 		if err := finite("converter.sampling_capacitance_farad", v); err != nil {

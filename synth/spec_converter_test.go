@@ -32,12 +32,17 @@ func TestConverterInputFields(t *testing.T) {
 	s, err = synth.ParseSpecBytes([]byte(conv(``)))
 	require.NoError(t, err)
 	require.False(t, s.Converter.IsSAR(), "the default architecture is other")
+	require.False(t, s.Differential())
+	s, err = synth.ParseSpecBytes([]byte(conv(`, "architecture": "sigma-delta", "input": "differential"`)))
+	require.NoError(t, err)
+	require.True(t, s.Differential(), "auto builds fully differential for a differential converter")
 
 	for _, tc := range []struct{ name, spec, field, reason string }{
 		{"unknown architecture", conv(`, "architecture": "flash"`), "converter.architecture", "one of"},
 		{"architecture a number", conv(`, "architecture": 3`), "converter.architecture", ""},
 		{"unknown input", conv(`, "input": "balanced"`), "converter.input", "one of"},
-		{"differential not built", conv(`, "input": "differential"`), "converter.input", "differential stages"},
+		{"differential sar", conv(`, "input": "differential", "architecture": "sar", "sampling_capacitance_farad": 30e-12, "acquisition_time_s": 290e-9`), "converter.input", "driver RC is single-ended"},
+		{"differential with a single-ended topology", `{"passband_hz": 20000, "topology": "sallen-key", "converter": {"bits": 16, "sample_rate_hz": 1000000, "full_scale_vpp": 4, "input": "differential"}}`, "topology", "use fully-differential or auto"},
 		{"sar without sampling capacitor", conv(`, "architecture": "sar", "acquisition_time_s": 290e-9`), "converter.sampling_capacitance_farad", "needed for a sar"},
 		{"sar without acquisition time", conv(`, "architecture": "sar", "sampling_capacitance_farad": 30e-12`), "converter.acquisition_time_s", "needed for a sar"},
 		{"sampling capacitor zero", conv(`, "sampling_capacitance_farad": 0`), "converter.sampling_capacitance_farad", "above 0"},

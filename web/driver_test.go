@@ -12,7 +12,8 @@ import (
 // API's JSON and on the page alike: the "Into the converter" panel with
 // synth's reason, the driver checks in synth's words, the driver's parts
 // on the last stage's schematic, the converter's new fields on the form;
-// a differential input is refused with HTTP 400 naming converter.input.
+// a differential SAR (whose driver would be single-ended) is refused with
+// HTTP 400 naming converter.input.
 func TestDriverOnThePageAndTheAPI(t *testing.T) {
 	t.Parallel()
 	h, _ := newHandler(t)
@@ -62,7 +63,8 @@ func TestDriverOnThePageAndTheAPI(t *testing.T) {
 		require.Contains(t, page, `name="`+name+`"`)
 	}
 
-	rec = do(t, h, http.MethodPost, "/api/v1/design", `{"passband_hz": 20000, "converter": {"bits": 16, "sample_rate_hz": 1000000, "full_scale_vpp": 4, "input": "differential"}}`,
+	rec = do(t, h, http.MethodPost, "/api/v1/design", `{"passband_hz": 20000, "converter": {"bits": 16, "sample_rate_hz": 1000000, "full_scale_vpp": 4, "input": "differential",
+		  "architecture": "sar", "sampling_capacitance_farad": 30e-12, "acquisition_time_s": 290e-9}}`,
 		"Content-Type", "application/json")
 	require.Equal(t, http.StatusBadRequest, rec.Code)
 	var e struct{ Error, Field string }

@@ -55,7 +55,7 @@ func TestExportExamples(t *testing.T) {
 			for _, row := range rows[1:] {
 				ref, kind := row[0], row[1]
 				name := ref
-				if kind == "opamp" {
+				if kind == "opamp" || kind == "fda" {
 					name = "X" + ref
 				}
 				require.Regexp(t, `(?m)^`+name+` `, deck, "BOM ref %s is not in the deck", ref)

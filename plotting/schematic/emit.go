@@ -49,7 +49,7 @@ func (l *layout) emit(title string) *drawing {
 		}
 	}
 	xin := l.colX[l.colsOf[0][0]]
-	d.terms = append(d.terms, terminal{point{xin - termGap, 0}, "in", true})
+	d.terms = append(d.terms, terminal{point{xin - termGap, 0}, l.inLabel, true})
 	wire(point{xin - termGap + termR, 0}, point{xin, 0}, l.nodes[0])
 	for i, g := range l.gaps {
 		xl, xr := l.colX[i], l.colX[i+1]
@@ -80,12 +80,12 @@ func (l *layout) emit(title string) *drawing {
 	}
 	if l.termGap {
 		x := l.colX[nc-1]
-		d.terms = append(d.terms, terminal{point{l.termX, ampMidY}, "out", false})
+		d.terms = append(d.terms, terminal{point{l.termX, ampMidY}, l.outLabel, false})
 		wire(point{x, ampMidY}, point{l.termX - termR, ampMidY}, l.st.Out)
 	}
 	for _, it := range l.items {
 		if it.ends[1].trunk < 0 {
-			d.terms = append(d.terms, terminal{point{l.termX, it.y}, "out", false})
+			d.terms = append(d.terms, terminal{point{l.termX, it.y}, l.outLabel, false})
 		}
 		a, b := point{it.x1, it.y}, point{it.x2, it.y}
 		if it.part < 0 {

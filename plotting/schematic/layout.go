@@ -229,6 +229,8 @@ type trunk struct {
 type layout struct {
 	st   *circuit.Stage
 	refs func(string) string
+	// inLabel and outLabel are the terminals' labels ("in", "out").
+	inLabel, outLabel string
 
 	nodes   []string
 	idx     map[string]int
@@ -282,7 +284,13 @@ func (l *layout) ref(local string) string {
 
 // lay lays out a valid stage.
 func lay(st *circuit.Stage, refs func(string) string, title string) *drawing {
-	l := &layout{st: st, refs: refs, idx: make(map[string]int, 16)}
+	return layLabelled(st, refs, title, "in", "out")
+}
+
+// layLabelled is lay with the input and output terminals labelled in and
+// out.
+func layLabelled(st *circuit.Stage, refs func(string) string, title, in, out string) *drawing {
+	l := &layout{st: st, refs: refs, idx: make(map[string]int, 16), inLabel: in, outLabel: out}
 	l.indexNodes()
 	l.ranks()
 	l.chooseInputs()
@@ -702,7 +710,7 @@ func (l *layout) placeX() {
 	nc := len(l.cols)
 	l.colX = slices.Grow(l.colX[:0], nc)[:nc]
 	l.block = slices.Grow(l.block[:0], nc)[:nc]
-	l.left = margin + 2*termR + 4 + textWidth("in", termFont) + termGap
+	l.left = margin + 2*termR + 4 + textWidth(l.inLabel, termFont) + termGap
 	x := l.left
 	for i := range nc {
 		l.colX[i] = x

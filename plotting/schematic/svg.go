@@ -46,6 +46,11 @@ type Options struct {
 // attributes for pages that want to style or highlight them. Every title,
 // designator and net name is XML-escaped.
 //
+// A differential stage (a fully differential op-amp's two matched
+// halves) is drawn as its two half-circuits, one above the other, each
+// an inverting stage whose op-amp's other input is shown at the
+// reference (see the drawing's captions).
+//
 // Stage validates st first ([circuit.Stage.Validate]) and returns that
 // error, which wraps [circuit.ErrInvalid], for an invalid stage; it then
 // returns only w's error. It does not panic for any stage (but Refs is the
@@ -53,6 +58,9 @@ type Options struct {
 func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 	if err := st.Validate(); err != nil {
 		return fmt.Errorf("schematic: %w", err)
+	}
+	if st.Differential() {
+		return differential(w, st, opt)
 	}
 	d := lay(&st, opt.Refs, opt.Title)
 	var b bytes.Buffer
@@ -80,6 +88,10 @@ func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 
 // svgw appends SVG text to a buffer.
 type svgw struct{ b *bytes.Buffer }
+
+// errNotDrawable is returned for a differential stage that is not one
+// fully differential op-amp with two halves of parts.
+var errNotDrawable = fmt.Errorf("schematic: %w: a differential stage must be one fully differential op-amp with two matched halves", circuit.ErrInvalid)
 
 func (w svgw) s(s string) { w.b.WriteString(s) }
 

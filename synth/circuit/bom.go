@@ -18,6 +18,9 @@ var bomHeader = strings.Split(BOMHeader, ",")
 // KindOpAmp is the kind column of an op-amp's row in the bill of materials.
 const KindOpAmp = "opamp"
 
+// KindFDA is the kind column of a fully differential op-amp's row.
+const KindFDA = "fda"
+
 // formatValue writes v exactly, in the shortest plain decimal that reads
 // back as the same float64, never with an exponent ("10200",
 // "0.00000001", "10000000").
@@ -38,7 +41,8 @@ func displayValue(v float64, unit string) string { return si.Format(v, unit, Dis
 //
 //   - ref is the chain-wide designator ([Chain.Ref]); in the SPICE deck the
 //     same name is the element, with an X prefix for op-amps ([SpiceName]).
-//   - kind is "resistor", "capacitor" or "opamp".
+//   - kind is "resistor", "capacitor", "opamp" or "fda" (a fully
+//     differential op-amp).
 //   - value is the value as built (Part.Value), exactly, as the shortest
 //     plain decimal that reads back as the same number, never with an
 //     exponent (a capacitor of 470 pF is 0.00000000047); unit is "Ohm" or
@@ -88,7 +92,11 @@ func (c Chain) WriteBOM(w io.Writer) error {
 			if !c.Model.Ideal {
 				value, unit, display = formatValue(c.Model.GBWHz), "Hz", displayValue(c.Model.GBWHz, "Hz")
 			}
-			if err := cw.Write([]string{c.Ref(k+1, u.Ref), KindOpAmp, value, unit, "", "", stage, display}); err != nil {
+			kind := KindOpAmp
+			if u.FullyDifferential() {
+				kind = KindFDA
+			}
+			if err := cw.Write([]string{c.Ref(k+1, u.Ref), kind, value, unit, "", "", stage, display}); err != nil {
 				return err
 			}
 		}

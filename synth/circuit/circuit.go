@@ -17,6 +17,17 @@ const (
 	Ground = "0"
 )
 
+// InN is the reserved node of a differentially driven stage's negative
+// input (see Stage.DiffIn): the previous stage's negative output, or the
+// source's negative half for the first stage.
+const InN = "inn"
+
+// DiffOut names, wherever a node is asked for (a node transfer, a DC
+// node transfer), the differential output V(Out) − V(OutN) of a
+// differential stage. It is not a node name (it holds '-'), so it cannot
+// clash with one.
+const DiffOut = "out-outn"
+
 // Part is a two-terminal passive part of a stage.
 type Part struct {
 	// Ref is the designator local to its stage ("R1", "C2"); [Chain.Ref]
@@ -54,7 +65,20 @@ type OpAmp struct {
 	// Plus, Minus and Out are the non-inverting input, inverting input and
 	// output nodes.
 	Plus, Minus, Out string
+	// OutN, when set, makes the amplifier fully differential (an FDA):
+	// Out is its positive and OutN its negative output, and
+	//
+	//	V(Out) − V(OutN) = A(s)·(V(Plus) − V(Minus)),
+	//	(V(Out) + V(OutN))/2 = Vocm,
+	//
+	// with A(s) the chain's [Model] and the output common mode Vocm held
+	// at the reference (0 V in every small-signal analysis) by an ideal
+	// common-mode loop. Raising Plus raises Out and lowers OutN.
+	OutN string
 }
+
+// FullyDifferential reports whether the amplifier is an FDA (OutN set).
+func (u OpAmp) FullyDifferential() bool { return u.OutN != "" }
 
 // Stage is the circuit of one section. Its nodes are local: [In] is the
 // input, [Ground] the reference, Out the output (an op-amp output, or,
@@ -70,6 +94,33 @@ type Stage struct {
 	OpAmps []OpAmp
 	// Out is the node that carries the stage's output.
 	Out string
+	// OutN, when set, makes the stage differential: its output is
+	// V(Out) − V(OutN), the two outputs of one FDA (Out its Out and OutN
+	// its OutN, or crossed: see [Stage.CrossOutputs]). Every transfer "to the output" ([Stage.TransferFunction],
+	// [Stage.SolveAt], [Stage.SourceTransfers], [Stage.DCSourceTransfers])
+	// is then to that difference; a node transfer to Out or OutN is to the
+	// node itself, and [DiffOut] names the difference.
+	OutN string
+	// DiffIn makes the stage's input differential: the source drives In
+	// at +½ and [InN] at −½ of its value, so that V(In) − V(InN) is the
+	// source (in a chain, the previous stage's differential output). A
+	// differential stage without DiffIn takes a single-ended input on In;
+	// the half that would take InN takes Ground instead (single-ended to
+	// differential conversion).
+	DiffIn bool
+}
+
+// Differential reports whether the stage's output is differential (OutN
+// set).
+func (st Stage) Differential() bool { return st.OutN != "" }
+
+// output is the name of the stage's output for the transfers "to the
+// output": [DiffOut] for a differential stage, Out otherwise.
+func (st Stage) output() string {
+	if st.Differential() {
+		return DiffOut
+	}
+	return st.Out
 }
 
 // Model is the op-amp model shared by every amplifier of a chain: single

@@ -81,8 +81,8 @@ func (st Stage) WithoutDriver() Stage {
 // at low frequencies; the phase margin is 180° plus its phase where its
 // magnitude crosses 1. The model must not be ideal (an ideal op-amp's
 // loop gain is infinite). It returns an error wrapping [ErrInvalid] for
-// an invalid stage or model, an ideal model, k out of range or a
-// non-finite s, and one wrapping [ErrSingular] when the broken loop's
+// an invalid stage or model, an ideal model, k out of range, a fully
+// differential op-amp k or a non-finite s, and one wrapping [ErrSingular] when the broken loop's
 // nodal matrix is singular at s.
 func (st Stage) LoopGain(m Model, k int, s complex128) (complex128, error) {
 	if cmplx.IsNaN(s) || cmplx.IsInf(s) {
@@ -119,6 +119,9 @@ func (st Stage) newLoop(m Model, k int) (*loop, error) {
 	}
 	if k < 1 || k > len(st.OpAmps) {
 		return nil, invalidf("loop gain: no op-amp %d", k)
+	}
+	if st.OpAmps[k-1].FullyDifferential() {
+		return nil, invalidf("loop gain: op-amp %d is fully differential (its loop is not broken here)", k)
 	}
 	st, t = st.withParasitics(m, t)
 	scale, _ := stageScale(st, m)

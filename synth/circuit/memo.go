@@ -36,7 +36,7 @@ func (mm *Memo) TransferFunction(st Stage, m Model) (Rational, error) {
 	if err != nil {
 		return Rational{}, err
 	}
-	return mm.transfer(st, m, t, 0, st.Out)
+	return mm.transfer(st, m, t, 0, st.output())
 }
 
 // transfer is nodeTransfer through the memo (a nil memo computes).
@@ -88,6 +88,8 @@ func memoKey(st Stage, m Model, node string, scale float64) string {
 	}
 	b = str(st.Topology)
 	b = str(st.Out)
+	b = str(st.OutN)
+	b = flag(st.DiffIn)
 	b = binary.AppendUvarint(b, uint64(len(st.Parts)))
 	for _, p := range st.Parts {
 		b = str(p.Ref)
@@ -107,6 +109,7 @@ func memoKey(st Stage, m Model, node string, scale float64) string {
 		b = str(u.Plus)
 		b = str(u.Minus)
 		b = str(u.Out)
+		b = str(u.OutN)
 	}
 	b = f64(m.GBWHz)
 	b = f64(m.DCGainDB)

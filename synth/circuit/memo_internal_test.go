@@ -15,9 +15,9 @@ func TestMemoKeyCoversFields(t *testing.T) {
 		typ    reflect.Type
 		fields []string
 	}{
-		{reflect.TypeFor[Stage](), []string{"Topology", "Parts", "OpAmps", "Out"}},
+		{reflect.TypeFor[Stage](), []string{"Topology", "Parts", "OpAmps", "Out", "OutN", "DiffIn"}},
 		{reflect.TypeFor[Part](), []string{"Ref", "Kind", "A", "B", "Value", "Exact", "Series", "TolerancePct", "Parasitic", "Driver"}},
-		{reflect.TypeFor[OpAmp](), []string{"Ref", "Plus", "Minus", "Out"}},
+		{reflect.TypeFor[OpAmp](), []string{"Ref", "Plus", "Minus", "Out", "OutN"}},
 		{reflect.TypeFor[Model](), []string{"GBWHz", "DCGainDB", "Ideal", "InputCapacitanceFarad", "OutputResistanceOhm", "OffsetV", "BiasA"}},
 	} {
 		var got []string

@@ -28,7 +28,8 @@ type system struct {
 	n      int
 	g, c   []float64 // n×n row-major
 	srcRow int       // the source equation, where b is 1
-	outCol int       // the unknown V(Out)
+	outCol int       // the unknown V(Out), or vd of a differential stage
+	sense  int       // the unknown vd = V(Out) − V(OutN), or −1
 	deg    int       // degree bound of det A(p): capacitors + single-pole op-amps
 	scale  float64   // rad/s per unit of p
 	a      []complex128
@@ -72,17 +73,43 @@ func stageScale(st Stage, m Model) (scale, rn float64) {
 // compile builds the nodal system of a valid stage and model, whose node
 // table (from Stage.check) is t, with p measured in units of scale rad/s
 // (finite, > 0).
+//
+// A fully differential amplifier (OpAmp.OutN set) has its differential
+// equation in the op-amp rows, V(Out) − V(OutN) over A(s) as above, and
+// a second row (V(Out) + V(OutN) = 0: the output common mode at the
+// reference) after all op-amp rows, whose unknown is the current into
+// OutN. A stage with DiffIn drives In at ½ (its source row is
+// 2·V(In) = 1) and InN at −V(In) (one more row and current unknown). A
+// differential stage (Stage.OutN set) has a last unknown vd with the row
+// vd − V(Out) + V(OutN) = 0, which no other row touches: its column holds
+// a single 1, so det A is unchanged, and vd is the stage's output.
 func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 	_, rn := stageScale(st, m)
 	idx := t.unknown
 	nodes := len(t.names) - 1
-	n := nodes + 1 + len(st.OpAmps)
+	nFDA := 0
+	for _, u := range st.OpAmps {
+		if u.FullyDifferential() {
+			nFDA++
+		}
+	}
+	n := nodes + 1 + len(st.OpAmps) + nFDA
+	innRow, sense := -1, -1
+	if st.DiffIn {
+		innRow = n
+		n++
+	}
+	if st.Differential() {
+		sense = n
+		n++
+	}
 	sys := &system{
 		n:      n,
 		g:      make([]float64, n*n),
 		c:      make([]float64, n*n),
 		srcRow: nodes,
 		outCol: idx(st.Out),
+		sense:  sense,
 		scale:  scale,
 		a:      make([]complex128, n*n),
 		piv:    make([]int, n),
@@ -95,14 +122,22 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 			sys.deg++
 		}
 	}
-	// Source: current into In, and V(In) = 1.
+	// Source: current into In, and V(In) = 1 (½ with DiffIn).
 	sys.g[0*n+nodes] += 1
 	sys.g[nodes*n+0] = 1
+	if st.DiffIn {
+		sys.g[nodes*n+0] = 2
+		inn := idx(InN)
+		sys.g[inn*n+innRow] += 1 // the drive's current into InN
+		sys.g[innRow*n+inn] = 1  // V(InN) + V(In) = 0
+		sys.g[innRow*n+0] = 1
+	}
 	var invA0, invWt float64
 	if !m.Ideal {
 		invA0 = 1 / m.a0()
 		invWt = 1 / (2 * math.Pi * m.GBWHz)
 	}
+	cm := nodes + 1 + len(st.OpAmps)
 	for k, u := range st.OpAmps {
 		row := nodes + 1 + k
 		o := idx(u.Out)
@@ -113,13 +148,41 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		if mi := idx(u.Minus); mi >= 0 {
 			sys.g[row*n+mi] += 1
 		}
+		on := -1
+		if u.FullyDifferential() {
+			on = idx(u.OutN)
+			sys.g[on*n+cm] += 1 // output current into OutN
+			sys.g[cm*n+o] = 1   // V(Out) + V(OutN) = 0
+			sys.g[cm*n+on] = 1
+			cm++
+		}
 		if !m.Ideal {
 			sys.g[row*n+o] += invA0
 			sys.c[row*n+o] += invWt * scale
+			if on >= 0 {
+				sys.g[row*n+on] -= invA0
+				sys.c[row*n+on] -= invWt * scale
+			}
 			sys.deg++
 		}
 	}
+	if sense >= 0 {
+		sys.g[sense*n+sense] = 1
+		sys.g[sense*n+idx(st.Out)] -= 1
+		sys.g[sense*n+idx(st.OutN)] += 1
+		sys.outCol = sense
+	}
 	return sys
+}
+
+// col returns the unknown of a node, or of [DiffOut] (the stage's
+// differential output), or −1 (ground, or DiffOut in a stage that is not
+// differential).
+func (sys *system) col(t *nodeTable, name string) int {
+	if name == DiffOut {
+		return sys.sense
+	}
+	return t.unknown(name)
 }
 
 // unknown returns the unknown number of a node: In is 0, Ground (−1) is

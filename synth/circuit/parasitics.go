@@ -11,12 +11,13 @@ import (
 // the Monte Carlo all see one circuit:
 //
 //   - Model.InputCapacitanceFarad: a capacitor from each op-amp input to
-//     ground, except an input that is ground or the stage input (driven by
+//     ground, except an input that is ground or a stage input (driven by
 //     an ideal source, where it changes nothing);
 //   - Model.OutputResistanceOhm: the amplifier drives an internal node
 //     (named by [ParasiticNode]) and a resistor of that value joins it to
 //     the op-amp's output node, so the op-amp's equation holds at the
-//     internal node and the stage's loads hang on the resistor.
+//     internal node and the stage's loads hang on the resistor; a fully
+//     differential op-amp has one on each output ([ParasiticNodeN]).
 //
 // Parasitic parts follow the stage's own parts (their indices are
 // len(st.Parts) and up), carry Parasitic = true and zero tolerance, and are
@@ -28,6 +29,10 @@ import (
 // ParasiticNode returns the name of op-amp ref's internal output node in
 // a stage with parasitics ("ro_U1").
 func ParasiticNode(ref string) string { return "ro_" + ref }
+
+// ParasiticNodeN is [ParasiticNode] for the negative output of a fully
+// differential op-amp ("ro_U1n").
+func ParasiticNodeN(ref string) string { return "ro_" + ref + "n" }
 
 // HasParasitics reports whether the model adds parts to a stage.
 func (m Model) HasParasitics() bool {
@@ -49,7 +54,7 @@ func (st Stage) WithParasitics(m Model) Stage {
 	if c := m.InputCapacitanceFarad; c > 0 {
 		for _, u := range st.OpAmps {
 			for _, node := range []string{u.Plus, u.Minus} {
-				if node == Ground || node == In {
+				if node == Ground || node == In || node == InN {
 					continue
 				}
 				n++
@@ -64,6 +69,12 @@ func (st Stage) WithParasitics(m Model) Stage {
 			aug.OpAmps[i].Out = inner
 			aug.Parts = append(aug.Parts, Part{Ref: "RX" + u.Ref, Kind: Resistor, A: inner, B: u.Out,
 				Value: r, Exact: r, Parasitic: true})
+			if u.FullyDifferential() {
+				innerN := ParasiticNodeN(u.Ref)
+				aug.OpAmps[i].OutN = innerN
+				aug.Parts = append(aug.Parts, Part{Ref: "RX" + u.Ref + "N", Kind: Resistor, A: innerN, B: u.OutN,
+					Value: r, Exact: r, Parasitic: true})
+			}
 		}
 	}
 	return aug
@@ -80,6 +91,9 @@ func (st Stage) withParasitics(m Model, t *nodeTable) (Stage, *nodeTable) {
 	t2 := &nodeTable{names: slices.Clone(t.names), terminals: slices.Clone(t.terminals), parent: slices.Clone(t.parent)}
 	for _, u := range aug.OpAmps {
 		t2.add(u.Out)
+		if u.FullyDifferential() {
+			t2.add(u.OutN)
+		}
 	}
 	return aug, t2
 }

@@ -287,3 +287,91 @@ func sortRoots(r []complex128) {
 		return cmp.Compare(imag(b), imag(a))
 	})
 }
+
+// cancelTol is the relative distance |z − p|/|p| within which
+// [Rational.cancelCommon] takes a zero and a pole to be the same root.
+// Matched halves cancel to rounding (about 1e-10 here); the mismatch of
+// real parts (≥ 1e-4 in any Monte Carlo trial of interest) moves them
+// far further apart.
+const cancelTol = 1e-6
+
+// cancelCommon returns r with every pole that a zero cancels (within
+// cancelTol) removed together with that zero, the gain kept (matched at
+// a point off the axis and away from every root), the denominator's
+// lowest coefficient 1 again; r itself when nothing cancels. It is for
+// the differential output of a stage with two matched halves, whose
+// common-mode poles are in the nodal determinant but not in the
+// difference of the outputs.
+func (r Rational) cancelCommon() Rational {
+	zs, ps := polyRoots(r.Num), polyRoots(r.Den)
+	if len(zs) == 0 || len(ps) == 0 {
+		return r
+	}
+	usedZ := make([]bool, len(zs))
+	keepP := make([]complex128, 0, len(ps))
+	cancelled := 0
+	for _, p := range ps {
+		best, bestD := -1, math.Inf(1)
+		for i, z := range zs {
+			if usedZ[i] {
+				continue
+			}
+			if d := cmplx.Abs(z - p); d < bestD {
+				best, bestD = i, d
+			}
+		}
+		if best >= 0 && bestD <= cancelTol*cmplx.Abs(p) {
+			usedZ[best] = true
+			cancelled++
+			continue
+		}
+		keepP = append(keepP, p)
+	}
+	if cancelled == 0 {
+		return r
+	}
+	keepZ := make([]complex128, 0, len(zs))
+	for i, z := range zs {
+		if !usedZ[i] {
+			keepZ = append(keepZ, z)
+		}
+	}
+	num, den := fromRoots(keepZ), fromRoots(keepP)
+	lo := slices.IndexFunc(den, func(v float64) bool { return v != 0 })
+	if lo < 0 {
+		return r
+	}
+	d := den[lo]
+	for i := range den {
+		den[i] /= d
+	}
+	// The gain: H(p0)·D(p0)/N(p0) at p0 off the axis, away from the
+	// roots (a fixed point; |p0| ≈ 1 at the stage's scale).
+	p0 := complex(0.61803398875, 1.1180339887)
+	k := horner(r.Num, p0) / horner(r.Den, p0) * horner(den, p0) / horner(num, p0)
+	for i := range num {
+		num[i] *= real(k)
+	}
+	out := r
+	out.Num, out.Den = trimPoly(num), trimPoly(den)
+	return out
+}
+
+// fromRoots returns the monic real polynomial (ascending powers) with
+// the given roots, whose complex ones come in conjugate pairs.
+func fromRoots(roots []complex128) []float64 {
+	c := []complex128{1}
+	for _, z := range roots {
+		next := make([]complex128, len(c)+1)
+		for i, v := range c {
+			next[i+1] += v
+			next[i] -= v * z
+		}
+		c = next
+	}
+	out := make([]float64, len(c))
+	for i, v := range c {
+		out[i] = real(v)
+	}
+	return out
+}

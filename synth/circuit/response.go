@@ -25,7 +25,7 @@ func (c Chain) TransferFunctions() (Cascade, error) {
 	for k, st := range c.Stages {
 		t, err := st.check()
 		if err == nil {
-			tfs[k], err = c.Memo.transfer(st, c.Model, t, 0, st.Out)
+			tfs[k], err = c.Memo.transfer(st, c.Model, t, 0, st.output())
 		}
 		if err != nil {
 			return nil, fmt.Errorf("stage %d (%s): %w", k+1, st.Topology, err)

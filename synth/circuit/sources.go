@@ -182,7 +182,7 @@ func (s SourceTransfers) AtAxis(x float64, dst []float64) float64 {
 // wrapping [ErrSingular] when the stage has no DC solution (a node
 // without a DC path).
 func (st Stage) DCSourceTransfers(m Model, srcs []Source) ([]float64, error) {
-	_, per, err := st.DCNodeTransfers(m, srcs, []string{st.Out})
+	_, per, err := st.DCNodeTransfers(m, srcs, []string{st.output()})
 	if err != nil {
 		return nil, err
 	}
@@ -200,10 +200,10 @@ func (st Stage) DCNodeTransfers(m Model, srcs []Source, nodes []string) (fromIn 
 	}
 	cols := make([]int, len(nodes))
 	for i, node := range nodes {
-		if node == Ground || t.index(node) < 0 {
+		if !st.hasNode(t, node) {
 			return nil, nil, invalidf("no node %q", node)
 		}
-		cols[i] = t.unknown(node)
+		cols[i] = sys.col(t, node)
 	}
 	n := sys.n
 	a := make([]complex128, n*n)

@@ -54,6 +54,11 @@ const IdealOpAmpGain = 1e8
 // are non-inverting input, inverting input, output.
 const opAmpSubckt = "pw_opamp"
 
+// fdaSubckt is the name of the fully differential op-amp subcircuit; its
+// pins are non-inverting input, inverting input, positive output,
+// negative output.
+const fdaSubckt = "pw_fda"
+
 // SpiceOptions controls [Chain.WriteSPICE]. The zero value is usable.
 type SpiceOptions struct {
 	// Title is the deck's first line (SPICE's title line, written as a
@@ -461,6 +466,20 @@ func checkDataFile(field, name string) error {
 // over its first 1e-4) and writes v(acq_samp) and v(out) to
 // Sampler.DataFile.
 //
+// A differential chain (its last stage differential, see
+// [Stage.OutN]) has its last stage's outputs on nodes outp and outn and
+// Eout making out = v(outp) − v(outn), so every analysis of v(out) reads
+// the differential output, and the noise analysis is of v(outp,outn);
+// each fully differential op-amp is an instance of pw_fda (pins +in,
+// −in, +out, −out, and ref with opt.Supply): the same input parasitics,
+// DC errors and noise as pw_opamp, the differential gain on node n1 (the
+// same single-pole integrator, or a VCVS of gain [IdealOpAmpGain]) and
+// the outputs at the reference ± v(n1)/2, so that their common mode is
+// the reference (Vocm tied to ref, or to ground without a supply), each
+// through Rout and the limiter when set. When the first stage is
+// differentially driven (DiffIn), Einp and Einn drive inp and inn with
+// +½ and −½ of v(in). A sampler on a differential chain is refused.
+//
 // Values are written in exponent form with at least 12 significant digits
 // and as many as the exact float64 needs (see the package documentation),
 // with no scale suffixes. The chain is validated first; an
@@ -562,6 +581,20 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		}
 		return c.Node(stage, local)
 	}
+	diff := c.Differential()
+	if diff && smp != nil {
+		return invalidf("spice options: Sampler on a differential chain (the sampler is single-ended)")
+	}
+	if diff {
+		b.WriteString("* Differential: the filter's outputs are outp and outn, and Eout makes\n")
+		b.WriteString("* out = v(outp) - v(outn). Fully differential op-amp U<n> is the instance XU<n>\n")
+		fmt.Fprintf(b, "* of %s (pins +in, -in, +out, -out): v(+out) - v(-out) = A(s)*(v(+in) - v(-in)),\n", fdaSubckt)
+		b.WriteString("* output common mode (v(+out) + v(-out))/2 held at the reference.\n")
+	}
+	if c.Stages[0].DiffIn {
+		b.WriteString("* The source is differential: Einp and Einn drive inp and inn with +1/2 and\n")
+		b.WriteString("* -1/2 of v(in).\n")
+	}
 	switch {
 	case tr != nil && sup != nil && (sup.StepLowV != 0 || sup.StepHighV != 0):
 		fmt.Fprintf(b, "Vin in %s DC 0 AC 1 PWL(0 %s %s %s)\n", gnd, spiceNum(sup.StepLowV), spiceNum(tr.rise), spiceNum(sup.StepHighV))
@@ -570,6 +603,11 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	default:
 		fmt.Fprintf(b, "Vin in %s DC 0 AC 1\n", gnd)
 	}
+	if c.Stages[0].DiffIn {
+		fmt.Fprintf(b, "Einp %s %s in %s 0.5\n", InP, gnd, gnd)
+		fmt.Fprintf(b, "Einn %s %s in %s -0.5\n", InN, gnd, gnd)
+	}
+	hasFDA, hasSE := false, false
 	for k, st := range c.Stages {
 		stage := k + 1
 		fmt.Fprintf(b, "* stage %d: %s\n", stage, commentLine(st.Topology))
@@ -578,9 +616,19 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 				node(stage, p.A), node(stage, p.B), spiceNum(p.Value))
 		}
 		for _, u := range st.OpAmps {
+			if u.FullyDifferential() {
+				hasFDA = true
+				fmt.Fprintf(b, "%s %s %s %s %s %s%s\n", SpiceName(c.Ref(stage, u.Ref)),
+					node(stage, u.Plus), node(stage, u.Minus), node(stage, u.Out), node(stage, u.OutN), refPin, fdaSubckt)
+				continue
+			}
+			hasSE = true
 			fmt.Fprintf(b, "%s %s %s %s %s%s\n", SpiceName(c.Ref(stage, u.Ref)),
 				node(stage, u.Plus), node(stage, u.Minus), node(stage, u.Out), refPin, opAmpSubckt)
 		}
+	}
+	if diff {
+		fmt.Fprintf(b, "Eout %s 0 %s %s 1\n", Out, OutP, OutNNode)
 	}
 	if smp != nil {
 		// The converter's input: the sampling capacitor, held at the kick
@@ -605,85 +653,12 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		fmt.Fprintf(b, "Cacqs %s %s %s\n", SamplerNode, gnd, spiceNum(smp.CapacitanceFarad))
 		fmt.Fprintf(b, ".model pw_acqsw sw(vt=0.5 vh=0 ron=%s roff=1e12)\n", spiceNum(smp.SwitchOhm))
 	}
-	fmt.Fprintf(b, ".subckt %s inp inn out%s\n", opAmpSubckt, strings.TrimSuffix(" "+refPin, " "))
-	if m.InputCapacitanceFarad > 0 {
-		fmt.Fprintf(b, "Cinp inp 0 %s\n", spiceNum(m.InputCapacitanceFarad))
-		fmt.Fprintf(b, "Cinn inn 0 %s\n", spiceNum(m.InputCapacitanceFarad))
+	if hasSE {
+		writeAmpSubckt(b, m, nz, sup, refPin, false)
 	}
-	if m.BiasA != 0 {
-		fmt.Fprintf(b, "Ibp inp 0 DC %s\n", spiceNum(m.BiasA))
-		fmt.Fprintf(b, "Ibn inn 0 DC %s\n", spiceNum(m.BiasA))
+	if hasFDA {
+		writeAmpSubckt(b, m, nz, sup, refPin, true)
 	}
-	drive := "out"
-	if m.OutputResistanceOhm > 0 {
-		drive = "outi"
-		fmt.Fprintf(b, "Rout outi out %s noisy=0\n", spiceNum(m.OutputResistanceOhm))
-	}
-	sense, noisy := "inp", ""
-	if nz != nil && nz.corner > 0 {
-		noisy = " noisy=0"
-		nz.writeFlicker(b)
-		if nz.rv > 0 {
-			sense = "inpn"
-		}
-	} else if nz != nil {
-		noisy = " noisy=0"
-		if nz.rv > 0 {
-			fmt.Fprintf(b, "Rvn nvn 0 %s\n", spiceNum(nz.rv))
-			b.WriteString("Evn inpn inp nvn 0 1\n")
-			sense = "inpn"
-		}
-		if nz.ri > 0 {
-			for _, pin := range []string{"inp", "inn"} {
-				fmt.Fprintf(b, "Rn%s n%s 0 %s\n", pin, pin, spiceNum(nz.ri))
-				fmt.Fprintf(b, "Vn%s n%s 0 DC 0\n", pin, pin)
-				fmt.Fprintf(b, "Fn%s %s 0 Vn%s 1\n", pin, pin, pin)
-			}
-		}
-	}
-	if m.OffsetV != 0 {
-		// V(inpo) = V(sense) + Vos: the offset adds to the + input.
-		fmt.Fprintf(b, "Vos inpo %s DC %s\n", sense, spiceNum(m.OffsetV))
-		sense = "inpo"
-	}
-	var lo, hi string
-	if sup != nil {
-		lo, hi = spiceNum(sup.NegativeV+sup.OutputHeadroomV), spiceNum(sup.PositiveV-sup.OutputHeadroomV)
-	}
-	// limit is the limiter: x − 0.999·s·(sp((x − hi)/s) − sp((lo − x)/s))
-	// with sp the softplus ln(1 + e^z), written overflow-free, and s =
-	// limiterSoftV. Smooth (the operating point converges without gmin
-	// stepping), of slope 1 within 1e-4 more than 10·s inside the limits,
-	// and of slope 1e-3 beyond them.
-	limit := func(x string) string {
-		sp := func(z string) string {
-			return fmt.Sprintf("(max(%s, 0) + ln(1 + exp(-abs(%s))))", z, z)
-		}
-		soft := spiceNum(limiterSoftV)
-		z1 := fmt.Sprintf("(%s - %s)/%s", x, hi, soft)
-		z2 := fmt.Sprintf("(%s - %s)/%s", lo, x, soft)
-		return fmt.Sprintf("%s - 0.999*%s*(%s - %s)", x, soft, sp(z1), sp(z2))
-	}
-	switch {
-	case c.Model.Ideal && sup != nil:
-		fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit(fmt.Sprintf("(V(ref)+%s*(V(%s)-V(inn)))", spiceNum(IdealOpAmpGain), sense)))
-	case c.Model.Ideal:
-		fmt.Fprintf(b, "E1 %s 0 %s inn %s\n", drive, sense, spiceNum(IdealOpAmpGain))
-	default:
-		zero := Ground
-		if sup != nil {
-			zero = "ref"
-		}
-		fmt.Fprintf(b, "G1 %s n1 %s inn 1\n", zero, sense)
-		fmt.Fprintf(b, "R1 n1 %s %s%s\n", zero, spiceNum(c.Model.a0()), noisy)
-		fmt.Fprintf(b, "C1 n1 %s %s\n", zero, spiceNum(1/(2*math.Pi*c.Model.GBWHz)))
-		if sup != nil {
-			fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit("V(n1)"))
-		} else {
-			fmt.Fprintf(b, "E1 %s 0 n1 0 1\n", drive)
-		}
-	}
-	fmt.Fprintf(b, ".ends %s\n", opAmpSubckt)
 	if sup != nil && !c.Model.Ideal {
 		// The single-pole integrators start at the reference: from 0 V,
 		// the limiter's flat side would send the operating point into
@@ -713,7 +688,11 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		fmt.Fprintf(b, "wrdata %s v(out)\n", OpDataFile)
 	}
 	if nz != nil && nz.analysis {
-		fmt.Fprintf(b, "noise v(out) vin dec %d %s %s\n", ppd, spiceNum(start), spiceNum(stop))
+		outV := "v(out)"
+		if diff {
+			outV = "v(" + OutP + "," + OutNNode + ")"
+		}
+		fmt.Fprintf(b, "noise %s vin dec %d %s %s\n", outV, ppd, spiceNum(start), spiceNum(stop))
 		// noise makes the spectrum plot, then the integrated-noise plot,
 		// which is current; the spectrum is the previous one.
 		b.WriteString("setplot previous\n")
@@ -763,4 +742,135 @@ func resolveSupply(sp *SpiceSupply) (*SpiceSupply, error) {
 		return nil, invalidf("spice options: Supply.OutputHeadroomV %v leaves no swing", sp.OutputHeadroomV)
 	}
 	return sp, nil
+}
+
+// writeAmpSubckt writes the op-amp subcircuit (pins +in, −in, out[, ref])
+// or, with fda, the fully differential one (pins +in, −in, +out, −out[,
+// ref]) with the model's parasitics, DC errors, noise and, with sup, the
+// output limiter (see [Chain.WriteSPICE]).
+func writeAmpSubckt(b *bufio.Writer, m Model, nz *noiseHelpers, sup *SpiceSupply, refPin string, fda bool) {
+	name, outs := opAmpSubckt, "out"
+	if fda {
+		name, outs = fdaSubckt, "outp outn"
+	}
+	fmt.Fprintf(b, ".subckt %s inp inn %s%s\n", name, outs, strings.TrimSuffix(" "+refPin, " "))
+	if m.InputCapacitanceFarad > 0 {
+		fmt.Fprintf(b, "Cinp inp 0 %s\n", spiceNum(m.InputCapacitanceFarad))
+		fmt.Fprintf(b, "Cinn inn 0 %s\n", spiceNum(m.InputCapacitanceFarad))
+	}
+	if m.BiasA != 0 {
+		fmt.Fprintf(b, "Ibp inp 0 DC %s\n", spiceNum(m.BiasA))
+		fmt.Fprintf(b, "Ibn inn 0 DC %s\n", spiceNum(m.BiasA))
+	}
+	drive, driveN := "out", "outn"
+	if fda {
+		drive = "outp"
+	}
+	if m.OutputResistanceOhm > 0 {
+		if fda {
+			drive, driveN = "outpi", "outni"
+			fmt.Fprintf(b, "Rout outpi outp %s noisy=0\n", spiceNum(m.OutputResistanceOhm))
+			fmt.Fprintf(b, "Routn outni outn %s noisy=0\n", spiceNum(m.OutputResistanceOhm))
+		} else {
+			drive = "outi"
+			fmt.Fprintf(b, "Rout outi out %s noisy=0\n", spiceNum(m.OutputResistanceOhm))
+		}
+	}
+	sense, noisy := "inp", ""
+	if nz != nil && nz.corner > 0 {
+		noisy = " noisy=0"
+		nz.writeFlicker(b)
+		if nz.rv > 0 {
+			sense = "inpn"
+		}
+	} else if nz != nil {
+		noisy = " noisy=0"
+		if nz.rv > 0 {
+			fmt.Fprintf(b, "Rvn nvn 0 %s\n", spiceNum(nz.rv))
+			b.WriteString("Evn inpn inp nvn 0 1\n")
+			sense = "inpn"
+		}
+		if nz.ri > 0 {
+			for _, pin := range []string{"inp", "inn"} {
+				fmt.Fprintf(b, "Rn%s n%s 0 %s\n", pin, pin, spiceNum(nz.ri))
+				fmt.Fprintf(b, "Vn%s n%s 0 DC 0\n", pin, pin)
+				fmt.Fprintf(b, "Fn%s %s 0 Vn%s 1\n", pin, pin, pin)
+			}
+		}
+	}
+	if m.OffsetV != 0 {
+		// V(inpo) = V(sense) + Vos: the offset adds to the + input.
+		fmt.Fprintf(b, "Vos inpo %s DC %s\n", sense, spiceNum(m.OffsetV))
+		sense = "inpo"
+	}
+	var lo, hi string
+	if sup != nil {
+		lo, hi = spiceNum(sup.NegativeV+sup.OutputHeadroomV), spiceNum(sup.PositiveV-sup.OutputHeadroomV)
+	}
+	// limit is the limiter: x − 0.999·s·(sp((x − hi)/s) − sp((lo − x)/s))
+	// with sp the softplus ln(1 + e^z), written overflow-free, and s =
+	// limiterSoftV. Smooth (the operating point converges without gmin
+	// stepping), of slope 1 within 1e-4 more than 10·s inside the limits,
+	// and of slope 1e-3 beyond them.
+	limit := func(x string) string {
+		sp := func(z string) string {
+			return fmt.Sprintf("(max(%s, 0) + ln(1 + exp(-abs(%s))))", z, z)
+		}
+		soft := spiceNum(limiterSoftV)
+		z1 := fmt.Sprintf("(%s - %s)/%s", x, hi, soft)
+		z2 := fmt.Sprintf("(%s - %s)/%s", lo, x, soft)
+		return fmt.Sprintf("%s - 0.999*%s*(%s - %s)", x, soft, sp(z1), sp(z2))
+	}
+	if fda {
+		writeFDAGain(b, m, sup, sense, noisy, drive, driveN, limit)
+		fmt.Fprintf(b, ".ends %s\n", name)
+		return
+	}
+	switch {
+	case m.Ideal && sup != nil:
+		fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit(fmt.Sprintf("(V(ref)+%s*(V(%s)-V(inn)))", spiceNum(IdealOpAmpGain), sense)))
+	case m.Ideal:
+		fmt.Fprintf(b, "E1 %s 0 %s inn %s\n", drive, sense, spiceNum(IdealOpAmpGain))
+	default:
+		zero := Ground
+		if sup != nil {
+			zero = "ref"
+		}
+		fmt.Fprintf(b, "G1 %s n1 %s inn 1\n", zero, sense)
+		fmt.Fprintf(b, "R1 n1 %s %s%s\n", zero, spiceNum(m.a0()), noisy)
+		fmt.Fprintf(b, "C1 n1 %s %s\n", zero, spiceNum(1/(2*math.Pi*m.GBWHz)))
+		if sup != nil {
+			fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit("V(n1)"))
+		} else {
+			fmt.Fprintf(b, "E1 %s 0 n1 0 1\n", drive)
+		}
+	}
+	fmt.Fprintf(b, ".ends %s\n", name)
+}
+
+// writeFDAGain writes the fully differential op-amp's gain: the
+// differential voltage vd on node n1 relative to the reference (zero: 0
+// or ref), A(s)·(v(sense) − v(inn)) (the single-pole integrator of the
+// op-amp subcircuit, or a VCVS of gain [IdealOpAmpGain]), and the two
+// outputs at the reference ± vd/2 (through the limiter with sup), so
+// that their common mode is the reference.
+func writeFDAGain(b *bufio.Writer, m Model, sup *SpiceSupply, sense, noisy, drive, driveN string, limit func(string) string) {
+	zero := Ground
+	if sup != nil {
+		zero = "ref"
+	}
+	if m.Ideal {
+		fmt.Fprintf(b, "E1 n1 %s %s inn %s\n", zero, sense, spiceNum(IdealOpAmpGain))
+	} else {
+		fmt.Fprintf(b, "G1 %s n1 %s inn 1\n", zero, sense)
+		fmt.Fprintf(b, "R1 n1 %s %s%s\n", zero, spiceNum(m.a0()), noisy)
+		fmt.Fprintf(b, "C1 n1 %s %s\n", zero, spiceNum(1/(2*math.Pi*m.GBWHz)))
+	}
+	if sup != nil {
+		fmt.Fprintf(b, "B1 %s 0 V = %s\n", drive, limit("(V(ref)+0.5*(V(n1)-V(ref)))"))
+		fmt.Fprintf(b, "B2 %s 0 V = %s\n", driveN, limit("(V(ref)-0.5*(V(n1)-V(ref)))"))
+		return
+	}
+	fmt.Fprintf(b, "E1p %s 0 n1 0 0.5\n", drive)
+	fmt.Fprintf(b, "E1n %s 0 n1 0 -0.5\n", driveN)
 }

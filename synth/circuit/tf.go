@@ -70,7 +70,7 @@ func (st Stage) NodeTransferFunction(m Model, node string, scaleRadPerSec float6
 	if err != nil {
 		return Rational{}, err
 	}
-	if node == Ground || t.index(node) < 0 {
+	if !st.hasNode(t, node) {
 		return Rational{}, invalidf("no node %q", node)
 	}
 	return st.nodeTransfer(m, t, scaleRadPerSec, node)
@@ -90,7 +90,7 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 		return nil, err
 	}
 	for _, node := range nodes {
-		if node == Ground || t.index(node) < 0 {
+		if !st.hasNode(t, node) {
 			return nil, invalidf("no node %q", node)
 		}
 	}
@@ -100,7 +100,7 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 	sys := compile(st, m, t, scale)
 	cols := make([]int, len(nodes))
 	for i, node := range nodes {
-		cols[i] = t.unknown(node)
+		cols[i] = sys.col(t, node)
 	}
 	coef := sys.interpolateAll(1+len(nodes), func(p complex128, v []complex128) {
 		sys.fill(p)
@@ -142,12 +142,44 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 // transferFunction is TransferFunctionScaled for a valid stage with node
 // table t and a valid model.
 func (st Stage) transferFunction(m Model, t *nodeTable, scale float64) (Rational, error) {
-	return st.nodeTransfer(m, t, scale, st.Out)
+	return st.nodeTransfer(m, t, scale, st.output())
+}
+
+// hasNode reports whether node is a node of the checked stage other than
+// Ground, or [DiffOut] of a differential stage.
+func (st Stage) hasNode(t *nodeTable, node string) bool {
+	if node == DiffOut {
+		return st.Differential()
+	}
+	return node != Ground && t.index(node) >= 0
 }
 
 // nodeTransfer is transferFunction to the voltage of any node of the
 // stage.
 func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
+	if node == DiffOut {
+		// Matched halves: the differential output is the half-circuit's
+		// (bisection theorem), which a smaller nodal system gives without
+		// the common-mode poles.
+		if half, sign, ok := st.matchedHalf(); ok {
+			if ht, err := half.check(); err == nil {
+				r, err := half.nodeTransfer(m, ht, scale, half.Out)
+				if err == nil && sign < 0 {
+					for i := range r.Num {
+						r.Num[i] = -r.Num[i]
+					}
+				}
+				return r, err
+			}
+		}
+	}
+	return st.nodeTransferFull(m, t, scale, node)
+}
+
+// nodeTransferFull is nodeTransfer on the stage's whole nodal system
+// (for a differential stage: both halves, the common-mode poles
+// cancelled by cancelCommon where they cancel).
+func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
 	own := st
 	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)
@@ -161,7 +193,7 @@ func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) 
 	// are of order one on the unit circle, then change variable exactly:
 	// p_natural = p·(scale/natural).
 	sys := compile(st, m, t, natural)
-	sys.outCol = t.unknown(node)
+	sys.outCol = sys.col(t, node)
 	num, den := sys.interpolate()
 	if k := scale / natural; k != 1 {
 		kj := 1.0
@@ -184,6 +216,12 @@ func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) 
 		}
 	}
 	r := Rational{Num: trimPoly(num), Den: trimPoly(den), ScaleRadPerSec: scale}
+	if node == DiffOut {
+		// The common-mode poles of a differential stage's two halves
+		// are in det A; with matched halves the differential output
+		// does not see them, and their zeros cancel them.
+		r = r.cancelCommon()
+	}
 	r.SectionOrder = own.SectionOrderOf(len(r.Den)-1, m)
 	return r, nil
 }
@@ -578,6 +616,9 @@ func (st Stage) SectionOrderOf(deg int, m Model) int {
 			if p.Kind == Capacitor {
 				caps++
 			}
+		}
+		if st.Differential() {
+			caps /= 2 // two halves of one section
 		}
 		deg = min(deg, caps)
 	}

@@ -149,9 +149,28 @@ func (st Stage) check() (*nodeTable, error) {
 			return nil, invalidf("%s: Out %q is the stage input or ground", owner(), u.Out)
 		}
 		if k := slices.Index(outs, o); k >= 0 {
-			return nil, invalidf("%s: Out %q is also the output of %q", owner(), u.Out, st.OpAmps[k].Ref)
+			return nil, invalidf("%s: Out %q is also the output of %q", owner(), u.Out, st.OpAmps[k/2].Ref)
 		}
-		outs = append(outs, o)
+		on := -1
+		if u.FullyDifferential() {
+			if on, err = node(owner, "OutN", u.OutN); err != nil {
+				return nil, err
+			}
+			if on == 0 || on == 1 || u.OutN == InN {
+				return nil, invalidf("%s: OutN %q is a stage input or ground", owner(), u.OutN)
+			}
+			if on == o {
+				return nil, invalidf("%s: Out and OutN are the same node %q", owner(), u.Out)
+			}
+			if k := slices.Index(outs, on); k >= 0 {
+				return nil, invalidf("%s: OutN %q is also an output of %q", owner(), u.OutN, st.OpAmps[k/2].Ref)
+			}
+			t.union(on, 1)
+		}
+		if u.Out == InN {
+			return nil, invalidf("%s: Out %q is a stage input", owner(), u.Out)
+		}
+		outs = append(outs, o, on) // two entries per op-amp: Out, OutN (−1)
 		t.union(o, 1)
 	}
 	if st.Out == "" {
@@ -159,6 +178,26 @@ func (st Stage) check() (*nodeTable, error) {
 	}
 	if k := t.index(st.Out); k < 0 || !slices.Contains(outs, k) && !st.drivesOut() {
 		return nil, invalidf("Out %q is not an op-amp output", st.Out)
+	}
+	if st.Differential() {
+		fda := slices.IndexFunc(st.OpAmps, func(u OpAmp) bool {
+			return u.Out == st.Out && u.OutN == st.OutN || u.Out == st.OutN && u.OutN == st.Out
+		})
+		if fda < 0 {
+			return nil, invalidf("Out %q and OutN %q are not the two outputs of one fully differential op-amp", st.Out, st.OutN)
+		}
+	}
+	inn := t.index(InN)
+	switch {
+	case st.DiffIn && !st.Differential():
+		return nil, invalidf("DiffIn is set on a stage whose output is not differential (OutN unset)")
+	case st.DiffIn && inn < 0:
+		return nil, invalidf("DiffIn is set but no part uses node %q", InN)
+	case st.DiffIn:
+		t.terminals[inn]++ // the source drives InN
+		t.union(inn, 1)
+	case inn >= 0:
+		return nil, invalidf("node %q is reserved for the negative input of a stage with DiffIn", InN)
 	}
 	for i, n := range t.names {
 		if i == 1 {
@@ -175,8 +214,11 @@ func (st Stage) check() (*nodeTable, error) {
 }
 
 // Validate checks the whole chain: at least one stage, the model (see
-// [Model.Validate]) and every stage (see [Stage.Validate]), and that no
-// stage but the last carries converter driver parts. Errors name the
+// [Model.Validate]) and every stage (see [Stage.Validate]), that no
+// stage but the last carries converter driver parts, and that a stage
+// after a differential stage takes a differential input (DiffIn) and
+// only such a stage does (the first stage's DiffIn says the source is
+// differential). Errors name the
 // stage (1-based) and the field, and wrap [ErrInvalid].
 func (c Chain) Validate() error {
 	if len(c.Stages) == 0 {
@@ -191,6 +233,12 @@ func (c Chain) Validate() error {
 		}
 		if k < len(c.Stages)-1 && st.HasDriver() {
 			return invalidf("stage %d (%s): only the last stage may carry the converter driver", k+1, st.Topology)
+		}
+		if k > 0 && st.DiffIn != c.Stages[k-1].Differential() {
+			return invalidf("stage %d (%s): DiffIn is %v after a stage whose output differential is %v", k+1, st.Topology, st.DiffIn, c.Stages[k-1].Differential())
+		}
+		if st.Differential() && st.HasDriver() {
+			return invalidf("stage %d (%s): a differential stage cannot carry the (single-ended) converter driver", k+1, st.Topology)
 		}
 	}
 	return nil

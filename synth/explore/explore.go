@@ -143,7 +143,8 @@ type Plan struct {
 // enumerates the candidates: every approximation, at orders from its
 // lowest for the mask (the spec's order when it gives no stopband) to
 // OrderSpan above, on the spec's topology (or each of
-// DefaultTopologies) and resistor series (or each of DefaultSeries).
+// DefaultTopologies; fully-differential alone for a differential
+// converter input) and resistor series (or each of DefaultSeries).
 // Every other field is the spec's, and the mask (passband_ripple_db
 // included) is the same for all. Errors are [*synth.FieldError] values:
 // the spec's own, and the bounds of this package.
@@ -170,6 +171,9 @@ func NewPlan(ctx context.Context, data []byte) (*Plan, error) {
 	topologies := DefaultTopologies
 	if _, ok := raw["topology"]; ok {
 		topologies = []string{spec.Topology}
+	} else if spec.Differential() {
+		// A differential converter takes fully differential stages only.
+		topologies = []string{"fully-differential"}
 	}
 	series := DefaultSeries
 	if _, ok := raw["resistor_series"]; ok {

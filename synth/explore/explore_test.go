@@ -237,3 +237,20 @@ func TestNarrowedByTheSpec(t *testing.T) {
 	require.Equal(t, 3, orders[0])
 	require.Equal(t, 5, orders[len(orders)-1])
 }
+
+// TestExploreDifferentialConverter: for a differential converter input
+// every candidate is built fully differentially (the single-ended
+// topologies would be refused), and the approximations with jω-axis
+// zeros, which have no fully differential form, are left out as not
+// buildable rather than failing the whole exploration.
+func TestExploreDifferentialConverter(t *testing.T) {
+	t.Parallel()
+	res, err := explore.Explore(context.Background(), []byte(`{"passband_hz": 1000, "passband_ripple_db": 1, "stopband_hz": 4000, "stopband_atten_db": 40,
+	  "converter": {"bits": 16, "sample_rate_hz": 256000, "output_rate_hz": 4000, "full_scale_vpp": 4, "architecture": "sigma-delta", "input": "differential"}}`))
+	require.NoError(t, err)
+	require.NotEmpty(t, res.Candidates)
+	for _, c := range res.Candidates {
+		require.Equal(t, "fully-differential", c.Topology)
+		require.NotEqual(t, "elliptic", c.Approximation)
+	}
+}

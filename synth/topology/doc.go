@@ -24,6 +24,13 @@
 //     First order on one op-amp (RC lowpass or, inverted, CR highpass into
 //     the + input, equal R1 and R2); second order on two, a
 //     multiple-feedback bandpass and a summer, A = 1 − 2·bandpass.
+//   - fully-differential: the multiple-feedback lowpass, highpass
+//     (C1/C2 = gain, no positive-feedback divider: the FDA has no spare
+//     non-inverting input for it) and bandpass, and the first-order inverting RC,
+//     each as two matched halves around one fully differential op-amp
+//     (circuit.Stage.ToFullyDifferential); each half is the single-ended
+//     design, whose equations are above. Notch and all-pass sections are
+//     refused (ErrNoForm).
 //   - one-amp-notch: lowpass-notch, highpass-notch and notch on one
 //     op-amp, the Delyiannis-Friend bandpass with feedforward from the
 //     input to both op-amp inputs (Friend, Harris and Hilberman's STAR

@@ -182,6 +182,9 @@ func mfbHighpass(tg target, o *options) (design, *Error) {
 			for _, c1 := range c1s {
 				var lam, ra, rb, xa, xb float64
 				if math.Abs(c1/(g*c2)-1) > winTol {
+					if o.noDivider {
+						continue
+					}
 					// λ = (1 − r/g)/(1 + r), r = C1/C2, by Ra/Rb = 1/λ − 1.
 					r := c1 / c2
 					var ok bool

@@ -33,6 +33,7 @@ type options struct {
 	rstep      float64   // largest ratio between adjacent resistor series values
 	rname      string    // Series of the resistors ("" when exact)
 	maxFloor   float64   // bound of the one-amplifier notch's residual, linear (+Inf unless auto)
+	noDivider  bool      // no positive-feedback divider (fully differential MFB highpass)
 }
 
 func newOptions(opt Options) (*options, error) {

@@ -21,12 +21,20 @@ const (
 	RCBuffer         = "rc-buffer"
 	InvertingRC      = "inverting-rc"
 	OneAmpNotch      = "one-amp-notch"
+	// FullyDifferential builds the section around one fully differential
+	// op-amp: a multiple-feedback lowpass, highpass (without the
+	// positive-feedback divider) or bandpass, or a first-order inverting
+	// RC stage, as two matched halves (see [circuit.Stage.ToFullyDifferential]),
+	// differentially driven. Sections with jω-axis zeros (the notch kinds)
+	// have no fully differential form here and are refused, as are
+	// all-pass sections.
+	FullyDifferential = "fully-differential"
 )
 
 // Names returns the topology names [Realize] accepts, [Auto] first. The
 // slice is a new copy on every call.
 func Names() []string {
-	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch}
+	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch, FullyDifferential}
 }
 
 // Limits of the design rules (see the package comment).
@@ -183,6 +191,8 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 	if tg.kind == section.Allpass {
 		switch topology {
 		case Auto, Allpass, AllpassInverted:
+		case FullyDifferential:
+			return Result{}, fail(topology, ErrNoForm, "an all-pass section has no fully differential form here")
 		default:
 			return Result{}, fail(topology, ErrNoForm, "an all-pass section is built as %s or %s", Allpass, AllpassInverted)
 		}
@@ -195,6 +205,12 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 	switch topology {
 	case Auto:
 		return realizeAuto(tg, o)
+	case FullyDifferential:
+		r, e := realizeFullyDifferential(tg, o)
+		if e != nil {
+			return Result{}, e
+		}
+		return r, nil
 	case SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch:
 		r, e := realizeOne(tg, topology, o)
 		if e != nil {
@@ -335,4 +351,35 @@ func eng(v float64, unit string) string {
 		}
 	}
 	return fmt.Sprintf("%.3g %s", v, unit)
+}
+
+// realizeFullyDifferential builds the section's single-ended inverting
+// stage (multiple-feedback, or inverting RC for first order) and mirrors
+// it into two matched halves around one fully differential op-amp, driven
+// differentially. The part design is the single-ended one: each half has
+// the single-ended stage's transfer function.
+func realizeFullyDifferential(tg target, o *options) (Result, *Error) {
+	if hasAxisZeros(tg.kind) {
+		return Result{}, fail(FullyDifferential, ErrNoForm,
+			"a %s section (jω-axis zeros) has no fully differential form here: the fully differential stages are the multiple-feedback lowpass, highpass and bandpass and the first-order inverting RC", tg.kind)
+	}
+	fo := *o
+	fo.noDivider = true
+	top := MultipleFeedback
+	if tg.order == 1 {
+		top = InvertingRC
+	}
+	r, e := realizeOne(tg, top, &fo)
+	if e != nil {
+		e.Topology = FullyDifferential
+		return Result{}, e
+	}
+	st, err := r.Stage.ToFullyDifferential(true)
+	if err != nil {
+		return Result{}, fail(FullyDifferential, ErrNoForm, "%s stage has no fully differential form: %v", top, err)
+	}
+	st.Topology = FullyDifferential + " " + top
+	r.Stage = st
+	r.Reason = fmt.Sprintf("fully differential: two matched %s halves around one fully differential op-amp, each half the single-ended design (%s)", top, r.Reason)
+	return r, nil
 }

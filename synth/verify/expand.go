@@ -160,6 +160,7 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 	var err error
 	switch {
 	case mode == expandNever,
+		st.Differential(), // the expansion knows single-ended op-amps only
 		k > maxExpandVars,
 		mode == expandAuto && k > alwaysExpandVars && trials < (1<<k)/expandPerTrial:
 		err = errNoExpansion

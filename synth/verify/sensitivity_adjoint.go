@@ -58,9 +58,17 @@ const adjointSplitTol = 1e-2
 type nodal struct {
 	n           int
 	g, c        []float64 // n×n row-major: the resistors and the source; the capacitors per unit p
-	ops         [][2]int  // (row, column) of each single-pole op-amp's 1/A entry
+	ops         []opEntry // each single-pole op-amp's 1/A entries
 	alpha, beta float64
 	parts       []nodalPart
+}
+
+// opEntry is one entry of an op-amp's 1/A term: sign·(α + β·p) at (row,
+// col); a fully differential op-amp has two, +1 at its Out and −1 at its
+// OutN.
+type opEntry struct {
+	row, col int
+	sign     float64
 }
 
 // nodalPart is one part's stamp.
@@ -95,14 +103,32 @@ func newNodal(st circuit.Stage, m circuit.Model, scale, rn float64) *nodal {
 			parts[i].y = rn / p.Value
 		}
 	}
-	type amp struct{ pl, mi, o int }
+	type amp struct{ pl, mi, o, on int }
 	amps := make([]amp, len(st.OpAmps))
+	nFDA := 0
 	for i, u := range st.OpAmps {
-		amps[i] = amp{idx(u.Plus), idx(u.Minus), idx(u.Out)}
+		amps[i] = amp{idx(u.Plus), idx(u.Minus), idx(u.Out), -1}
+		if u.FullyDifferential() {
+			amps[i].on = idx(u.OutN)
+			nFDA++
+		}
+	}
+	inn := -1
+	if st.DiffIn {
+		inn = idx(circuit.InN)
 	}
 	nodes := len(names)
 	src := nodes
-	n := nodes + 1 + len(st.OpAmps)
+	// As package circuit compiles it: the op-amps' rows, then a
+	// common-mode row per fully differential op-amp, then the drive of
+	// InN (DiffIn); the differential output's sense unknown, which
+	// leaves det A unchanged, is left out.
+	n := nodes + 1 + len(st.OpAmps) + nFDA
+	innRow := -1
+	if st.DiffIn {
+		innRow = n
+		n++
+	}
 	ns := &nodal{n: n, g: make([]float64, n*n), c: make([]float64, n*n), parts: parts}
 	for _, p := range parts {
 		mat := ns.g
@@ -122,6 +148,13 @@ func newNodal(st circuit.Stage, m circuit.Model, scale, rn float64) *nodal {
 	}
 	ns.g[0*n+src] += 1
 	ns.g[src*n+0] = 1
+	if st.DiffIn {
+		ns.g[src*n+0] = 2
+		ns.g[inn*n+innRow] += 1
+		ns.g[innRow*n+inn] = 1
+		ns.g[innRow*n+0] = 1
+	}
+	cm := nodes + 1 + len(st.OpAmps)
 	for i, u := range amps {
 		row := nodes + 1 + i
 		ns.g[u.o*n+row] += 1
@@ -131,7 +164,14 @@ func newNodal(st circuit.Stage, m circuit.Model, scale, rn float64) *nodal {
 		if u.mi >= 0 {
 			ns.g[row*n+u.mi] += 1
 		}
-		ns.ops = append(ns.ops, [2]int{row, u.o})
+		ns.ops = append(ns.ops, opEntry{row, u.o, 1})
+		if u.on >= 0 {
+			ns.g[u.on*n+cm] += 1
+			ns.g[cm*n+u.o] = 1
+			ns.g[cm*n+u.on] = 1
+			cm++
+			ns.ops = append(ns.ops, opEntry{row, u.on, -1})
+		}
 	}
 	if !m.Ideal {
 		ns.alpha = math.Pow(10, -m.DCGainDB/20)
@@ -151,7 +191,7 @@ func (ns *nodal) rootDerivatives(lam complex128, dst []complex128) (ok bool) {
 		a[i] = complex(ns.g[i], 0) + lam*complex(ns.c[i], 0)
 	}
 	for _, e := range ns.ops {
-		a[e[0]*n+e[1]] += complex(ns.alpha, 0) + lam*complex(ns.beta, 0)
+		a[e.row*n+e.col] += complex(e.sign, 0) * (complex(ns.alpha, 0) + lam*complex(ns.beta, 0))
 	}
 	for _, x := range a {
 		big = math.Max(big, lu.Abs1(x))
@@ -189,7 +229,7 @@ func (ns *nodal) rootDerivatives(lam complex128, dst []complex128) (ok bool) {
 		den += w[i] * s
 	}
 	for _, e := range ns.ops {
-		den += complex(ns.beta, 0) * w[e[0]] * v[e[1]]
+		den += complex(ns.beta*e.sign, 0) * w[e.row] * v[e.col]
 	}
 	if den == 0 || cmplx.IsNaN(den) || cmplx.IsInf(den) {
 		return false

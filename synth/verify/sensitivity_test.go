@@ -103,6 +103,8 @@ func TestSensitivitiesAgainstCentralDifferences(t *testing.T) {
 		"sallen-key-hp": sallenKeyHP(10e-9, 10e-9, 12e3, 47e3),
 		"mfb-lp":        mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9),
 		"rc-buffer":     rcBuffer(15e3, 10e-9),
+		"fda-mfb-lp":    mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), true),
+		"fda-mfb-lp-se": mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), false),
 	} {
 		cases = append(cases, stageCase{name, st, []circuit.Model{ideal, singlePole, {GBWHz: 50e3, DCGainDB: 80}}})
 	}
@@ -315,4 +317,16 @@ func TestDistributionSigma(t *testing.T) {
 	require.InDelta(t, 1/math.Sqrt(3), verify.Distribution("").Sigma(), 1e-15)
 	require.InDelta(t, 0.986578/3, verify.Gaussian.Sigma(), 1e-6)
 	require.True(t, math.IsNaN(verify.Distribution("x").Sigma()))
+}
+
+// mustFD is st in its fully differential form, differentially driven
+// (diffIn) or converting a single-ended input.
+func mustFD(t *testing.T, st circuit.Stage, diffIn bool) circuit.Stage {
+	t.Helper()
+	fd, err := st.ToFullyDifferential(true)
+	require.NoError(t, err)
+	if !diffIn {
+		fd = fd.SingleEndedInput()
+	}
+	return fd
 }

@@ -37,7 +37,8 @@ type partGroup struct {
 // writeParts writes the grouped part list of d as CSV: [PartsHeader], one
 // row per kind, value, series and tolerance with its quantity and
 // designators (resistors, then capacitors, each by value), then one row
-// for the op-amps: their count, the GBW of the spec's model, the largest
+// for the op-amps and one for the fully differential op-amps (kind fda),
+// each when there are any: their count, the GBW of the spec's model, the largest
 // gain-bandwidth and slew rate any stage needs (Section.OpAmpNeeds; empty
 // when some stage needs more than 1 THz) and the input noise density the
 // design's noise figures assume (the spec's opamp.noise_v_per_rthz).
@@ -95,10 +96,16 @@ func writeParts(w io.Writer, d *synth.Design) error {
 		}
 	}
 	if opamps > 0 {
-		var refs []string
+		// Single-ended op-amps and fully differential ones are bought
+		// apart: one row per kind.
+		refsOf := map[string][]string{}
 		for k, st := range ch.Stages {
 			for _, u := range st.OpAmps {
-				refs = append(refs, ch.Ref(k+1, u.Ref))
+				kind := circuit.KindOpAmp
+				if u.FullyDifferential() {
+					kind = circuit.KindFDA
+				}
+				refsOf[kind] = append(refsOf[kind], ch.Ref(k+1, u.Ref))
 			}
 		}
 		value, unit, display := "", "", "ideal"
@@ -106,9 +113,15 @@ func writeParts(w io.Writer, d *synth.Design) error {
 			value, unit, display = plainDecimal(ch.Model.GBWHz), "Hz", si.Format(ch.Model.GBWHz, "Hz", circuit.DisplayDigits)+" GBW"
 		}
 		gbw, slew := opAmpNeeds(d)
-		if err := cw.Write([]string{strconv.Itoa(opamps), circuit.KindOpAmp, value, unit, display, "", "", "", strings.Join(refs, " "),
-			gbw, slew, plainDecimal(d.Spec.OpAmp.NoiseVPerRtHz)}); err != nil {
-			return err
+		for _, kind := range []string{circuit.KindOpAmp, circuit.KindFDA} {
+			refs := refsOf[kind]
+			if len(refs) == 0 {
+				continue
+			}
+			if err := cw.Write([]string{strconv.Itoa(len(refs)), kind, value, unit, display, "", "", "", strings.Join(refs, " "),
+				gbw, slew, plainDecimal(d.Spec.OpAmp.NoiseVPerRtHz)}); err != nil {
+				return err
+			}
 		}
 	}
 	cw.Flush()
