@@ -33,11 +33,15 @@ type options struct {
 	rstep      float64   // largest ratio between adjacent resistor series values
 	rname      string    // Series of the resistors ("" when exact)
 	maxFloor   float64   // bound of the one-amplifier notch's residual, linear (+Inf unless auto)
+	tinShift   int       // Options.TwoIntegratorGainShift
 }
 
 func newOptions(opt Options) (*options, error) {
 	def := DefaultOptions()
-	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact, maxFloor: math.Inf(1)}
+	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact, maxFloor: math.Inf(1), tinShift: opt.TwoIntegratorGainShift}
+	if o.tinShift < -1 || o.tinShift > 1 {
+		return nil, fmt.Errorf("TwoIntegratorGainShift %d is not −1, 0 or 1", o.tinShift)
+	}
 	if o.rs.Len() == 0 {
 		o.rs = def.ResistorSeries
 	}
