@@ -3,6 +3,7 @@ package topology
 import (
 	"fmt"
 	"math"
+	"math/cmplx"
 
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
@@ -42,9 +43,11 @@ const tinGainWeight = 1e-3
 // analysis and ngspice.
 //
 // Nodes: in, i1, i2, i3 (the op-amps' inverting inputs, + inputs
-// grounded), out (U1, the stage output), lp (U2), inv (U3). Parts: R1
-// out–i1 (damping), R2 inv–i1 (loop), C1 i1–out (U1's integrator), C3
-// in–i1 (feedforward), R3 out–i2, C2 i2–lp (U2's integrator), R4 in–i2
+// grounded), out (U3, the lossy integrator, the stage output), lp (U1,
+// the integrator), inv (U2, the inverter); the op-amp that drives the
+// output comes last, as in every stage. Parts: R1
+// out–i1 (damping), R2 inv–i1 (loop), C1 i1–out (U3's integrator), C3
+// in–i1 (feedforward), R3 out–i2, C2 i2–lp (U1's integrator), R4 in–i2
 // (feedforward), R5 lp–i3 and R6 i3–inv (the inverter, a = R6/R5).
 // With Gn = 1/Rn the nodal equations are
 //
@@ -68,8 +71,9 @@ const tinGainWeight = 1e-3
 // C3/C1 and ωz²/ω0² (see [MaxTwoIntegratorGainShift]).
 //
 // The design keeps a = 1 (R5 = R6; with series values R6 may be a step
-// off, a fine step for ω0 and ωz together) and R2 = R1, so that at DC lp
-// and inv carry the output's level (Vlp = −(R3/R4)·(R2/R1)·Vin/a). C1 is tried
+// off, a fine step for ω0 and ωz together) and R2 = λ·R1 with λ ≤ 1 set
+// so that lp and inv peak no higher than the output ([tinLevel]): their
+// level is proportional to R2 (Vlp = −(R3/R4)·(R2/R1)·Vin/a at DC). C1 is tried
 // at every series value that puts R1 = Q/(ω0·C1) in the window, C3 at
 // the two series values around k·C1 (k the section's high-frequency
 // gain), and C2 at the two around the value that centres R3 =
@@ -82,6 +86,7 @@ func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 	}
 	k := tg.zeroScale()                        // |H(∞)| of the section
 	gdc := k * tg.wz * tg.wz / (tg.w0 * tg.w0) // |H(0)| of the section
+	lam := tinLevel(tg, k, gdc)                // R2/R1
 	var p picker
 	var best tinParts
 	var bestFig [4]float64 // ω0, Q, ωz, gain as built
@@ -99,7 +104,7 @@ func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 	}
 	for _, c1 := range o.caps {
 		xq := tg.q / (tg.w0 * c1)
-		if !o.nearR(xq) {
+		if !o.nearR(xq) || !o.nearR(lam*xq) {
 			continue
 		}
 		for _, c3 := range o.capsNear(c3buf[:0], k*c1, 1) {
@@ -111,9 +116,9 @@ func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 			shiftSeen = true
 			gdcr := gdc * shift // R3/R4 with exact zeros
 			xi0 := o.centred(gdcr)
-			for _, c2 := range o.capsNear(c2buf[:0], 1/(tg.w0*tg.q*xi0), 1) {
+			for _, c2 := range o.capsNear(c2buf[:0], 1/(tg.w0*tg.q*lam*xi0), 1) {
 				nq := o.rcandsTie(xq, &cq, &dq)
-				nl := o.rcandsTie(xq, &cl, &dl)
+				nl := o.rcandsTie(lam*xq, &cl, &dl)
 				for iq, rq := range cq[:nq] {
 					for il, rl := range cl[:nl] {
 						for _, r6 := range c6[:n6] {
@@ -142,7 +147,7 @@ func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 									tie := dq[iq] + dl[il] + di[ii] + dz[iz]
 									if p.take(s, tie) {
 										best = tinParts{r1: rq, r2: rl, r3: ri, r4: rz, r6: r6, c1: c1, c2: c2, c3: c3,
-											x1: xq, x2: xq, x3: xi, x4: xz}
+											x1: xq, x2: lam * xq, x3: xi, x4: xz}
 										bestFig = [4]float64{w0, q, wz, g}
 									}
 								}
@@ -201,13 +206,38 @@ func (v tinParts) build(tg target, o *options, fig [4]float64) design {
 	b.capa("i1", "out", v.c1)
 	b.capa("i2", "lp", v.c2)
 	b.capa(circuit.In, "i1", v.c3)
-	b.amp(circuit.Ground, "i1", "out")
+	// The op-amp that drives the output last, as in every stage.
 	b.amp(circuit.Ground, "i2", "lp")
 	b.amp(circuit.Ground, "i3", "inv")
+	b.amp(circuit.Ground, "i1", "out")
 	shift := fig[3] / tg.g
-	form := fmt.Sprintf("two-integrator loop (Tow-Thomas: lossy integrator U1, integrator U2, inverter U3) with feedforward from the input into both integrators (Fleischer-Tow), inverting: C3 (s²) and R4 (constant) carry no s term, so the %s's zeros stay on the jω axis whatever the part tolerances; R1 sets Q, R3 with R2 sets f0, R4 the zeros", tg.kind)
+	form := fmt.Sprintf("two-integrator loop (Tow-Thomas: lossy integrator U3 at the output, integrator U1, inverter U2) with feedforward from the input into both integrators (Fleischer-Tow), inverting: C3 (s²) and R4 (constant) carry no s term, so the %s's zeros stay on the jω axis whatever the part tolerances; R1 sets Q, R3 with R2 sets f0, R4 the zeros", tg.kind)
 	if math.Abs(shift-1) > 1e-9 {
 		form += fmt.Sprintf("; the gain is the capacitor ratio C3/C1 = %.4g, %.3g dB from the section's", v.c3/v.c1, 20*math.Log10(shift))
 	}
 	return design{stage: b.done("out"), form: form, inverting: true, w0: fig[0], q: fig[1], wz: fig[2], g: fig[3]}
+}
+
+// tinLevel returns λ = R2/R1 of the two-integrator notch: the ratio of the
+// section's largest gain to that of the lp node at λ = 1, at most 1. With
+// R2 = R1 (a = 1) the lp node's transfer is (from the nodal equations at
+// i2 and i1, H the stage's own) Vlp/Vin = −(ω0·Q/s)·(H(s) + gDC), whatever
+// the capacitors, and it scales with λ, as does inv = −a·lp; near f0 it
+// peaks at about Q times the output's DC level, which the internal nodes
+// then need as headroom. Both are read on a grid of 401 points from f0/100
+// to 100·f0 (a level choice: the grid's resolution is enough).
+func tinLevel(tg target, k, gdc float64) float64 {
+	const n = 401
+	var outMax, lpMax float64
+	for i := range n {
+		w := tg.w0 * math.Pow(10, -2+4*float64(i)/(n-1))
+		s := complex(0, w)
+		h := complex(k, 0) * (s*s + complex(tg.wz*tg.wz, 0)) / (s*s + s*complex(tg.w0/tg.q, 0) + complex(tg.w0*tg.w0, 0))
+		outMax = max(outMax, cmplx.Abs(h))
+		lpMax = max(lpMax, cmplx.Abs(complex(tg.w0*tg.q, 0)*(complex(gdc, 0)-h)/s))
+	}
+	if !(lpMax > outMax) {
+		return 1
+	}
+	return outMax / lpMax
 }

@@ -52,10 +52,13 @@ func TestTwoIntegratorNotchNodal(t *testing.T) {
 // of f0 = 1 kHz, Q = 2, zeros at 3 kHz and DC gain 0.9, with capacitors
 // held to 1 nF .. 10 nF: the high-frequency gain is k = 0.9·(1/3)² = 0.1,
 // which C3/C1 = 1 nF / 10 nF gives exactly, so C1 = 10 nF; then
-// R1 = Q/(ω0·C1) = 2/(2π·1000·10 nF) = 31.8 kΩ and R2 = R1; R3 =
-// 1/(ω0·Q·C2) and R4 = R3/0.9 for whichever C2 the search centres; the
-// stage is −0.1·(s² + ωz²)/(s² + s·ω0/2 + ω0²) with ωz = 3·ω0, checked
-// by the nodal analysis.
+// R1 = Q/(ω0·C1) = 2/(2π·1000·10 nF) = 31.8 kΩ, R2 = λ·R1, R3 =
+// 1/(λ·ω0·Q·C2) and R4 = R3/0.9 for whichever C2 the search centres and
+// λ = R2/R1 its level rule; the stage is −0.1·(s² + ωz²)/(s² + s·ω0/2 +
+// ω0²) with ωz = 3·ω0, checked by the nodal analysis. The level rule is
+// checked on the nodal analysis too: the inner nodes lp and inv (their
+// own transfer functions) peak at the output's peak within the rule's
+// grid resolution (1 %).
 func TestWorkedTwoIntegratorNotch(t *testing.T) {
 	t.Parallel()
 	opt := DefaultOptions()
@@ -67,11 +70,14 @@ func TestWorkedTwoIntegratorNotch(t *testing.T) {
 	require.Nil(t, e)
 	require.InDelta(t, 10e-9, capValue(t, d, "i1", "out"), 1e-21, "C1")
 	require.InDelta(t, 1e-9, capValue(t, d, "in", "i1"), 1e-21, "C3")
-	digits3(t, 31.8e3, resValue(t, d, "out", "i1"), "R1")
-	digits3(t, 31.8e3, partValue(t, d, "inv", "i1"), "R2")
+	r1 := resValue(t, d, "out", "i1")
+	digits3(t, 31.8e3, r1, "R1")
+	lam := partValue(t, d, "inv", "i1") / r1
+	require.Greater(t, lam, 0.0)
+	require.LessOrEqual(t, lam, 1.0)
 	c2 := partValue(t, d, "i2", "lp")
 	r3 := partValue(t, d, "out", "i2")
-	require.InEpsilon(t, 1/(w0*2*c2), r3, 1e-12, "R3 = 1/(ω0·Q·C2)")
+	require.InEpsilon(t, 1/(lam*w0*2*c2), r3, 1e-12, "R3 = 1/(λ·ω0·Q·C2)")
 	require.InEpsilon(t, r3/0.9, partValue(t, d, "in", "i2"), 1e-12, "R4 = R3/0.9")
 	require.Equal(t, partValue(t, d, "lp", "i3"), partValue(t, d, "i3", "inv"), "a = 1")
 	require.InDelta(t, 0.9, d.g, 1e-12)
@@ -82,6 +88,17 @@ func TestWorkedTwoIntegratorNotch(t *testing.T) {
 		want := -0.1 * (s*s + complex(9*w0*w0, 0)) / (s*s + s*complex(w0/2, 0) + complex(w0*w0, 0))
 		require.Less(t, cmplx.Abs(got-want), 1e-9*cmplx.Abs(want)+1e-12, "at %g kHz", f)
 	}
+	tfs, err := d.stage.NodeTransferFunctions(circuit.Model{Ideal: true}, []string{"out", "lp", "inv"})
+	require.NoError(t, err)
+	var peak [3]float64
+	for i := range 2001 {
+		f := 1000 * math.Pow(10, -2+4*float64(i)/2000)
+		for n, tf := range tfs {
+			peak[n] = max(peak[n], cmplx.Abs(tf.AtHz(f)))
+		}
+	}
+	require.InEpsilon(t, peak[0], peak[1], 0.01, "lp peaks at the output's peak")
+	require.InEpsilon(t, peak[0], peak[2], 0.01, "inv peaks at the output's peak")
 }
 
 // capValue and resValue return the value of the capacitor or resistor
