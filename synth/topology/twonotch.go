@@ -15,10 +15,13 @@ import (
 // capacitors leave it a little off, and where the windows cannot hold C3
 // at the section's ratio (zeros far above a low-Q f0: C3 = k·C1 below the
 // smallest capacitor while R1 = Q/(ω0·C1) stays above the smallest
-// resistor) the stage takes a larger gain; package synth takes the factor
-// up in a neighbouring stage. A factor of two (6 dB) is our choice: it
-// moves the internal levels by no more than that.
-const MaxTwoIntegratorGainShift = 2
+// resistor, that is k·Q/ω0 < MinOhm·MinFarad) the stage takes a larger
+// gain; package synth takes the factor up in another stage, whose level
+// (and with it the share of its noise) moves by as much. A factor of four
+// (12 dB) is our choice: it admits the far-zero sections of the
+// anti-alias examples (2.2 for the studio filter with a 3 dB stopband
+// margin) at a noise cost well below what a fourth op-amp adds.
+const MaxTwoIntegratorGainShift = 4
 
 // tinGainWeight weighs ln² of the ratio of the two-integrator notch's gain
 // to its section's in the part search's score against the squared
