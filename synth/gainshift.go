@@ -11,87 +11,48 @@ import (
 
 // takeUpGains keeps the chain's gain where the sections put it when a
 // two-integrator-notch stage's gain is the capacitor ratio C3/C1 rather
-// than its section's. For each such stage i whose gain is off by a factor
-// x (Result.GainErrPct), another stage j is re-realised, with the same
+// than its section's. For a stage i whose gain is off by a factor x
+// (Result.GainErrPct), another stage j is re-realised, with the same
 // topology, at its section's gain divided by x, and both sections' gains
 // move with their stages. j is the nearest stage before i when x > 1 and
 // the nearest after i when x < 1, so that the stages between run lower
 // than the gain distribution chose, never higher. A stage that can take
 // it up is any but another two-integrator notch and an all-pass stage;
-// a one-op-amp notch only when no other can (auto judged its tolerance
-// residual at its own gain). When only the other direction has such a
-// stage, stage i is re-realised with its gain on that side of the
-// section's (topology.Options.TwoIntegratorGainShift), and where that does
-// not fit as a state-variable stage (exact gain, four op-amps). Without
-// any such stage the gain error stays, and the stage's reason says so. It
-// changes ordered, results and d.Sections in place and returns, for each
-// stage that took up a gain, the clause its reason ends with (the caller
-// adds it after the polarity rule, which may re-realise that stage, and
-// counts the inverting stages afterwards).
+// one-op-amp notches come last (auto judged their tolerance residual at
+// their own gain, and their search is the costliest). When only the other
+// side has such a stage, stage i is first re-realised with its gain on
+// that side of the section's (topology.Options.TwoIntegratorGainShift);
+// where nothing fits, it becomes a state-variable stage (gain set by
+// resistors, four op-amps). Without any such stage the gain error stays,
+// and the stage's reason says so. It changes ordered, results and
+// d.Sections in place and returns, for each stage that took up a gain,
+// the clause its reason ends with (the caller adds it after the polarity
+// rule, which may re-realise that stage, and counts the inverting stages
+// afterwards).
 func (d *Design) takeUpGains(ordered []section.Section, results []topology.Result, opt topology.Options) map[int]string {
 	notes := map[int]string{}
-	// takers returns the stages that can take up stage i's gain, before
-	// and after it, nearest first, one-op-amp notches last.
-	takers := func(i int) (before, after []int) {
-		var b1, a1 []int
-		for j := i - 1; j >= 0; j-- {
+	// takers returns the stages before and after i, nearest first, that
+	// can take up its gain: plain ones (0) and one-op-amp notches (1).
+	takers := func(i int) (b0, a0, b1, a1 []int) {
+		add := func(j int, plain, one *[]int) {
 			switch top := results[j].Stage.Topology; {
 			case top == topology.OneAmpNotch:
-				b1 = append(b1, j)
+				*one = append(*one, j)
 			case top != topology.TwoIntegratorNotch && !ordered[j].IsAllpass():
-				before = append(before, j)
+				*plain = append(*plain, j)
 			}
+		}
+		for j := i - 1; j >= 0; j-- {
+			add(j, &b0, &b1)
 		}
 		for j := i + 1; j < len(results); j++ {
-			switch top := results[j].Stage.Topology; {
-			case top == topology.OneAmpNotch:
-				a1 = append(a1, j)
-			case top != topology.TwoIntegratorNotch && !ordered[j].IsAllpass():
-				after = append(after, j)
-			}
+			add(j, &a0, &a1)
 		}
-		return append(before, b1...), append(after, a1...)
+		return b0, a0, b1, a1
 	}
-	for i, r := range results {
-		if r.Stage.Topology != topology.TwoIntegratorNotch || r.GainErrPct == 0 {
-			continue
-		}
-		before, after := takers(i)
-		if len(before) == 0 && len(after) == 0 {
-			results[i].Reason += "; no other stage can take up the difference, so the chain's gain is off by as much"
-			continue
-		}
-		x := 1 + r.GainErrPct/100
-		if (x > 1 && len(before) == 0) || (x < 1 && len(after) == 0) {
-			o := opt
-			o.TwoIntegratorGainShift = 1
-			if len(before) == 0 {
-				o.TwoIntegratorGainShift = -1
-			}
-			redo, err := topology.Realize(ordered[i], topology.TwoIntegratorNotch, o)
-			if err != nil {
-				sv, err2 := topology.Realize(ordered[i], topology.StateVariable, opt)
-				if err2 != nil {
-					results[i].Reason += fmt.Sprintf("; no stage on the side that would keep the levels can take up the difference, and neither the two-integrator notch with its gain on the other side (%v) nor the state-variable stage (%v) fits, so the chain's gain is off by as much", err, err2)
-					continue
-				}
-				sv.Reason = fmt.Sprintf("%s; but no stage %s it can take up its gain, a capacitor ratio %.3g dB off, and with its gain on the other side it does not fit (%v): state-variable (four op-amps) sets its gain by resistors: %s",
-					strings.TrimSuffix(r.Reason, "."), map[bool]string{true: "before", false: "after"}[x > 1], 20*math.Log10(x), err, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
-				results[i] = sv
-				continue
-			}
-			redo.Reason = r.Reason
-			results[i] = redo
-			x = 1 + redo.GainErrPct/100
-			if x == 1 {
-				continue
-			}
-		}
-		order := before
-		if x < 1 {
-			order = after
-		}
-		taken := false
+	// take re-realises the first of order that fits with its gain
+	// divided by x and moves the gains; it reports whether one did.
+	take := func(i int, x float64, order []int) bool {
 		for _, j := range order {
 			sec := ordered[j]
 			sec.Gain /= x
@@ -110,17 +71,71 @@ func (d *Design) takeUpGains(ordered []section.Section, results []topology.Resul
 			d.Sections[i].GainDB = 20 * math.Log10(ordered[i].ReferenceGain())
 			// The stages from the earlier of the two up to the later one
 			// (not included) carry less gain.
-			lo, hi := min(i, j), max(i, j)
-			for k := lo; k < hi; k++ {
+			for k := min(i, j); k < max(i, j); k++ {
 				d.Sections[k].PeakGainDB -= math.Abs(20 * math.Log10(x))
 			}
 			results[i].Reason += fmt.Sprintf("; stage %d takes up the difference", j+1)
-			taken = true
-			break
+			return true
 		}
-		if !taken {
+		return false
+	}
+	// flip re-realises stage i with its gain on the side dir (+1 above
+	// the section's, −1 below) and returns its new factor.
+	flip := func(i, dir int) (float64, bool) {
+		o := opt
+		o.TwoIntegratorGainShift = dir
+		r, err := topology.Realize(ordered[i], topology.TwoIntegratorNotch, o)
+		if err != nil {
+			return 0, false
+		}
+		r.Reason = results[i].Reason
+		results[i] = r
+		return 1 + r.GainErrPct/100, true
+	}
+	for i, r := range results {
+		if r.Stage.Topology != topology.TwoIntegratorNotch || r.GainErrPct == 0 {
+			continue
+		}
+		b0, a0, b1, a1 := takers(i)
+		x := 1 + r.GainErrPct/100
+		// The side whose stages keep the levels (before for x > 1), its
+		// other, and the gain side (for flip) that suits each.
+		right0, other0, right1, other1, otherDir := b0, a0, b1, a1, -1
+		if x < 1 {
+			right0, other0, right1, other1, otherDir = a0, b0, a1, b1, 1
+		}
+		done := false
+		switch {
+		case len(right0) > 0:
+			done = take(i, x, right0)
+		case len(other0) > 0:
+			if nx, ok := flip(i, otherDir); ok {
+				done = nx == 1 || take(i, nx, other0)
+			}
+		}
+		if nx := 1 + results[i].GainErrPct/100; !done && len(right1) > 0 && (nx-1)*(x-1) > 0 {
+			done = take(i, nx, right1)
+		}
+		if !done && len(other1) > 0 && len(right1) == 0 {
+			if nx, ok := flip(i, otherDir); ok {
+				done = nx == 1 || take(i, nx, other1)
+			}
+		}
+		if done {
+			continue
+		}
+		if len(b0)+len(a0)+len(b1)+len(a1) == 0 {
 			results[i].Reason += "; no other stage can take up the difference, so the chain's gain is off by as much"
+			continue
 		}
+		sv, err := topology.Realize(ordered[i], topology.StateVariable, opt)
+		if err != nil {
+			results[i].Reason += fmt.Sprintf("; no stage can take up the difference where it keeps the levels, nor does the state-variable stage fit (%v), so the chain's gain is off by as much", err)
+			continue
+		}
+		sv.Reason = fmt.Sprintf("%s; but no stage can take up its gain, a capacitor ratio, where it keeps the levels: state-variable (four op-amps) sets its gain by resistors: %s",
+			r.Reason, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
+		results[i] = sv
 	}
 	return notes
 }
