@@ -82,7 +82,9 @@ const tinGainWeight = 1e-3
 // gain), and C2 at the two around the value that centres R3 =
 // 1/(ω0·Q·C2) and R4 = R3/gDC in the window. The resistors are rounded
 // in turn, each compensating the ones before: R1, R2 and R6, then R3 for
-// ω0 (Q = ω0·R1·C1 follows), then R4 for ωz.
+// ω0 (Q = ω0·R1·C1 follows), then R4 for ωz; with series values a stage
+// keeps f0 within 2 %, Q within 3 % and its zeros within 1 % (the
+// one-op-amp notch's bounds), else it is ErrLimits.
 func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 	if tg.order != 2 || !hasAxisZeros(tg.kind) {
 		return design{}, fail(TwoIntegratorNotch, ErrNoForm, "no %s form (lowpass-notch, highpass-notch and notch only)", tg.kind)
@@ -142,6 +144,11 @@ func twoIntegratorNotch(tg target, o *options) (design, *Error) {
 									g := ri / rz
 									if tg.kind == section.HighpassNotch {
 										g = c3 / c1
+									}
+									// The rounding bounds of the one-op-amp notch
+									// (f0 2 %, Q 3 %, zeros 1 %).
+									if math.Abs(w0/tg.w0-1) > maxPoleErr || math.Abs(q/tg.q-1) > maxQErr || math.Abs(wz/tg.wz-1) > maxZeroErr {
+										continue
 									}
 									s := s0 + errScore(wz, tg.wz) + tinGainWeight*sq(math.Log(g/tg.g))
 									if !p.wants(s) {
