@@ -39,8 +39,8 @@ const tinGainWeight = 1e-3
 // J. Tow, "Design formulas for biquad active filters using three
 // operational amplifiers", Proc. IEEE 61(5), 1973 (citation typed from
 // memory). Of the paper's feedforward paths only the two that carry no s
-// term are kept: a capacitor from the input into the first integrator
-// (the s² term) and a resistor from the input into the second (the
+// term are kept: a capacitor from the input into the lossy integrator
+// (the s² term) and a resistor from the input into the lossless one (the
 // constant term). The equations below were derived here by nodal
 // analysis; the tests check them against the circuit model's own nodal
 // analysis and ngspice.
@@ -76,11 +76,11 @@ const tinGainWeight = 1e-3
 // The design keeps a = 1 (R5 = R6; with series values R6 may be a step
 // off, a fine step for ω0 and ωz together) and R2 = λ·R1 with λ ≤ 1 set
 // so that lp and inv peak no higher than the output ([tinLevel]): their
-// level is proportional to R2 (Vlp = −(R3/R4)·(R2/R1)·Vin/a at DC). C1 is tried
-// at every series value that puts R1 = Q/(ω0·C1) in the window, C3 at
-// the two series values around k·C1 (k the section's high-frequency
-// gain), and C2 at the two around the value that centres R3 =
-// 1/(ω0·Q·C2) and R4 = R3/gDC in the window. The resistors are rounded
+// level is proportional to R2 (Vlp = −(R3/R4)·(R2/R1)·Vin/a at DC). C1
+// is tried at every series value that puts R1 = Q/(ω0·C1) and R2 in the
+// window, C3 at the two series values around k·C1 (k the section's
+// high-frequency gain), and C2 at the two around the value that centres
+// R3 = a/(λ·ω0·Q·C2) and R4 = R3/gDC in the window. The resistors are rounded
 // in turn, each compensating the ones before: R1, R2 and R6, then R3 for
 // ω0 (Q = ω0·R1·C1 follows), then R4 for ωz; with series values a stage
 // keeps f0 within 2 %, Q within 3 % and its zeros within 1 % (the
