@@ -9,6 +9,13 @@ import (
 	"github.com/polewright/polewright/synth/topology"
 )
 
+// maxUntakenGainDB is the largest gain error a two-integrator notch may
+// leave in the chain when no other stage can take it up (our choice: the
+// order of the rounding of a capacitor ratio from E12 values, and of the
+// gain errors resistor ratios leave in the other stages); beyond it the
+// section is built as a state-variable stage.
+const maxUntakenGainDB = 0.25
+
 // takeUpGains keeps the chain's gain where the sections put it when a
 // two-integrator-notch stage's gain is the capacitor ratio C3/C1 rather
 // than its section's. For a stage i whose gain is off by a factor x
@@ -23,8 +30,9 @@ import (
 // side has such a stage, stage i is first re-realised with its gain on
 // that side of the section's (topology.Options.TwoIntegratorGainShift);
 // where nothing fits, it becomes a state-variable stage (gain set by
-// resistors, four op-amps). Without any such stage the gain error stays,
-// and the stage's reason says so. It changes ordered, results and
+// resistors, four op-amps). Without any such stage a gain error within
+// maxUntakenGainDB stays, and the stage's reason says so; a larger one
+// makes it a state-variable stage too. It changes ordered, results and
 // d.Sections in place and returns, for each stage that took up a gain,
 // the clause its reason ends with (the caller adds it after the polarity
 // rule, which may re-realise that stage, and counts the inverting stages
@@ -124,7 +132,7 @@ func (d *Design) takeUpGains(ordered []section.Section, results []topology.Resul
 		if done {
 			continue
 		}
-		if len(b0)+len(a0)+len(b1)+len(a1) == 0 {
+		if len(b0)+len(a0)+len(b1)+len(a1) == 0 && math.Abs(20*math.Log10(x)) <= maxUntakenGainDB {
 			results[i].Reason += "; no other stage can take up the difference, so the chain's gain is off by as much"
 			continue
 		}
@@ -133,8 +141,8 @@ func (d *Design) takeUpGains(ordered []section.Section, results []topology.Resul
 			results[i].Reason += fmt.Sprintf("; no stage can take up the difference where it keeps the levels, nor does the state-variable stage fit (%v), so the chain's gain is off by as much", err)
 			continue
 		}
-		sv.Reason = fmt.Sprintf("%s; but no stage can take up its gain, a capacitor ratio, where it keeps the levels: state-variable (four op-amps) sets its gain by resistors: %s",
-			r.Reason, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
+		sv.Reason = fmt.Sprintf("%s; but no stage can take up its gain, a capacitor ratio %.3g dB off, where it keeps the levels: state-variable (four op-amps) sets its gain by resistors: %s",
+			r.Reason, 20*math.Log10(x), strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
 		results[i] = sv
 	}
 	return notes

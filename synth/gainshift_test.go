@@ -1,8 +1,10 @@
 package synth_test
 
 import (
+	"fmt"
 	"math"
 	"math/cmplx"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/require"
@@ -68,4 +70,33 @@ func TestTwoIntegratorGainTakenUp(t *testing.T) {
 			require.Less(t, worst, 1e-9)
 		})
 	}
+}
+
+// TestUntakenTwoIntegratorGain: an order-6 Chebyshev II bandstop (700 Hz
+// to 1.4 kHz) whose three sections auto first puts on the two-integrator
+// loop. The middle one's gain, a capacitor ratio (0.45 dB off), has no
+// other stage to take it up (its neighbours are two-integrator notches
+// too) and is beyond maxUntakenGainDB (0.25 dB), so it is built as a
+// state-variable stage and says why; the last notch's gain is then taken
+// up by that stage. Every stage that keeps a gain error untaken says so.
+func TestUntakenTwoIntegratorGain(t *testing.T) {
+	t.Parallel()
+	s := baseSpec(synth.Bandstop, "chebyshev2")
+	s.Order, s.PassbandHz = 3, []float64{700, 1400}
+	d := synthesize(t, s)
+	tops := make([]string, len(d.Sections))
+	for i, sec := range d.Sections {
+		tops[i] = sec.Topology
+	}
+	require.Equal(t, []string{"two-integrator-notch", "state-variable", "two-integrator-notch"}, tops)
+	reason := d.Sections[1].TopologyReason
+	const lead = "but no stage can take up its gain, a capacitor ratio "
+	i := strings.Index(reason, lead)
+	require.GreaterOrEqual(t, i, 0, reason)
+	var offDB float64
+	_, err := fmt.Sscanf(reason[i+len(lead):], "%g dB off", &offDB)
+	require.NoError(t, err)
+	require.Greater(t, math.Abs(offDB), 0.25, "beyond maxUntakenGainDB")
+	require.Contains(t, d.Sections[1].TopologyReason, "to take up stage 3's")
+	require.Contains(t, d.Sections[2].TopologyReason, "stage 2 takes up the difference")
 }
