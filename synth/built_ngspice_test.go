@@ -703,7 +703,7 @@ func inputResistors(t *testing.T, deck []byte, xref string) []string {
 // value·(1 ± 1.1·fail_at_pct/100) fails it. The reference is the ngspice
 // simulator (Debian package ngspice) with the rule applied here
 // (ruleMask.figures). Checked: the zero-setting resistors of a
-// state-variable notch stage, the gain resistors of a board with
+// state-variable notch stage (or R4 and R3 of a two-integrator notch), the gain resistors of a board with
 // gain_tolerance_db, and per design the parts with the smallest and the
 // largest finite figure (up to 80 %).
 func TestFailAtAgainstNgspice(t *testing.T) {
@@ -768,16 +768,23 @@ func TestFailAtAgainstNgspice(t *testing.T) {
 				require.True(t, finite, "%s (%s) must have a finite fail_at_pct, got [%s %s]", ref, why, fmtPtr(f[0]), fmtPtr(f[1]))
 			}
 			if tc.notch {
-				stage := 0
+				stage, top := 0, ""
 				for k, sec := range d.Sections {
-					if sec.Topology == "state-variable" && sec.ZeroHz != nil {
-						stage = k + 1
+					if (sec.Topology == "state-variable" || sec.Topology == "two-integrator-notch") && sec.ZeroHz != nil {
+						stage, top = k+1, sec.Topology
 						break
 					}
 				}
-				require.NotZero(t, stage, "a state-variable notch stage")
-				add(fmt.Sprintf("R%d08", stage), "notch zero")
-				add(fmt.Sprintf("R%d09", stage), "notch zero")
+				require.NotZero(t, stage, "a state-variable or two-integrator notch stage")
+				if top == "state-variable" {
+					add(fmt.Sprintf("R%d08", stage), "notch zero")
+					add(fmt.Sprintf("R%d09", stage), "notch zero")
+				} else {
+					// R4 (input to the second integrator) sets the zeros,
+					// R3 with R2 the poles' f0.
+					add(fmt.Sprintf("R%d04", stage), "notch zero")
+					add(fmt.Sprintf("R%d03", stage), "notch f0")
+				}
 			}
 			if tc.gain {
 				refs := inputResistors(t, deck, "XU101")

@@ -52,6 +52,9 @@ func deckCases() []synth.Spec {
 		{synth.Highpass, "chebyshev2", 5, []float64{500}},
 		{synth.Bandpass, "elliptic", 2, []float64{800, 1250}},
 		{synth.Bandstop, "chebyshev2", 2, []float64{300, 3000}},
+		// auto: a notch (the odd prototype pole's section) and a
+		// highpass-notch on three op-amps, the lowpass-notch on one.
+		{synth.Bandstop, "chebyshev2", 3, []float64{300, 3000}},
 	}
 	// Each notch design twice: auto, which puts the notch sections that
 	// fit on one op-amp (one-amp-notch), and state-variable for all.
@@ -66,6 +69,13 @@ func deckCases() []synth.Spec {
 	// stay below about 1/(1 + 1/(2Q²)) without C3).
 	s := baseSpec(synth.Bandstop, "chebyshev2")
 	s.Topology, s.Order, s.PassbandHz, s.StopbandAttenDB, s.GainDB = "one-amp-notch", 1, []float64{700, 1400}, 40, -6
+	out = append(out, s)
+	// The studio anti-alias filter of testdata/examples (elliptic, order
+	// 5, 100 dB): auto builds its far-zero section on the two-integrator
+	// notch with C3 at the window's least and a gain 3.8 dB up, which the
+	// first-order stage takes up.
+	s = baseSpec(synth.Lowpass, "elliptic")
+	s.Topology, s.PassbandHz, s.StopbandHz, s.PassbandRippleDB, s.StopbandAttenDB = "auto", []float64{20000}, []float64{172000}, 0.05, 100
 	out = append(out, s)
 	return out
 }
@@ -169,4 +179,31 @@ func runDeck(ctx context.Context, t *testing.T, d *synth.Design) ([]float64, []c
 	require.NoError(t, err, "deck:\n%s", deck.String())
 	require.NotEmpty(t, freq)
 	return freq, v
+}
+
+// TestDeckCasesCoverTwoIntegratorNotch: TestDeckAgainstNgspice runs
+// two-integrator-notch stages (auto's three-op-amp notch) of the
+// lowpass-notch and highpass-notch kinds and the notch of a bandstop, with
+// exact values against the ideal transfer function (the chain takes up
+// their capacitor-ratio gain in another stage, so the whole chain is
+// exact) and with series values against the as-built response.
+func TestDeckCasesCoverTwoIntegratorNotch(t *testing.T) {
+	t.Parallel()
+	kinds := map[string]int{}
+	for _, s := range deckCases() {
+		for _, values := range []string{"series", "exact"} {
+			s.Values = values
+			d := synthesize(t, s)
+			for _, sec := range d.Sections {
+				if sec.Topology == "two-integrator-notch" {
+					kinds[values+"/"+string(sec.Kind)]++
+				}
+			}
+		}
+	}
+	t.Logf("two-integrator-notch stages in the decks: %v", kinds)
+	for _, k := range []string{"lowpass-notch", "highpass-notch", "notch"} {
+		require.Positive(t, kinds["series/"+k], k)
+		require.Positive(t, kinds["exact/"+k], k)
+	}
 }

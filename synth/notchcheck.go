@@ -17,7 +17,8 @@ import (
 // practice: three σ for a tolerance stack).
 const notchSigmas = 3
 
-// keepNotchesInMask re-realises, as state-variable stages, the
+// keepNotchesInMask re-realises, as two-integrator-notch stages (three
+// op-amps) or, where those do not fit, state-variable stages (four), the
 // one-amp-notch stages that auto chose whose part tolerances would spoil
 // the mask: at the section's zero frequency, when it lies in a stop or
 // alias band, notchSigmas times the first-order spread of the stage's
@@ -25,8 +26,9 @@ const notchSigmas = 3
 // times the ideal gain of every other stage there must stay the band's
 // attenuation below the passband gain (gain_db). The one-op-amp form's
 // zeros are on the jω axis only while its numerator's s term cancels, so
-// a part error leaves a residual there, which the state-variable stage
-// (a sum with no bandpass term) does not. It changes results in place and
+// a part error leaves a residual there, which the two-integrator notch
+// (no feedforward path with an s term) and the state-variable stage (a sum
+// with no bandpass term) do not. It changes results in place and
 // says why in the new stage's reason.
 func (d *Design) keepNotchesInMask(ordered []section.Section, results []topology.Result, opt topology.Options) {
 	s := d.Spec
@@ -76,14 +78,22 @@ func (d *Design) keepNotchesInMask(ordered []section.Section, results []topology
 		if !(level > -need) { // within the mask (or not computable: NaN keeps it)
 			continue
 		}
-		sv, err := topology.Realize(ordered[i], topology.StateVariable, opt)
-		if err != nil {
-			results[i].Reason += fmt.Sprintf("; with %g %% resistors and %g %% capacitors it would leave about %.1f dB (3σ, first order) at its zeros (%s Hz, %s), where the mask needs −%g dB, but the state-variable stage does not fit either (%v)",
-				s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, level, fmtHzPlain(fz), what, need, err)
+		tin, err := topology.Realize(ordered[i], topology.TwoIntegratorNotch, opt)
+		if err == nil {
+			tin.Reason = fmt.Sprintf("one-amp-notch would leave about %.1f dB (3σ, first order, with %g %% resistors and %g %% capacitors) at its zeros (%s Hz, %s), where the mask needs −%g dB; two-integrator-notch (three op-amps, the fewest left) keeps its zeros on the jω axis: %s",
+				level, s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, fmtHzPlain(fz), what, need, strings.TrimPrefix(tin.Reason, topology.TwoIntegratorNotch+" as asked: "))
+			results[i] = tin
 			continue
 		}
-		sv.Reason = fmt.Sprintf("one-amp-notch would leave about %.1f dB (3σ, first order, with %g %% resistors and %g %% capacitors) at its zeros (%s Hz, %s), where the mask needs −%g dB; state-variable (four op-amps) keeps its zeros on the jω axis: %s",
-			level, s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, fmtHzPlain(fz), what, need, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
+		tinErr := err
+		sv, err := topology.Realize(ordered[i], topology.StateVariable, opt)
+		if err != nil {
+			results[i].Reason += fmt.Sprintf("; with %g %% resistors and %g %% capacitors it would leave about %.1f dB (3σ, first order) at its zeros (%s Hz, %s), where the mask needs −%g dB, but neither the two-integrator notch (%v) nor the state-variable stage (%v) fits",
+				s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, level, fmtHzPlain(fz), what, need, tinErr, err)
+			continue
+		}
+		sv.Reason = fmt.Sprintf("one-amp-notch would leave about %.1f dB (3σ, first order, with %g %% resistors and %g %% capacitors) at its zeros (%s Hz, %s), where the mask needs −%g dB, and the two-integrator notch does not fit (%v); state-variable (four op-amps) keeps its zeros on the jω axis: %s",
+			level, s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct, fmtHzPlain(fz), what, need, tinErr, strings.TrimPrefix(sv.Reason, topology.StateVariable+" as asked: "))
 		results[i] = sv
 	}
 }

@@ -68,7 +68,7 @@ func TestStageSpreadAgainstMonteCarlo(t *testing.T) {
 // errors, so with every tolerance t it is L1 + 20·log10(t/1 %), L1 its
 // value at 1 % (read from the reason); the stage stays on one op-amp at
 // 0.9 times the tolerance that puts the level at −100 dB and turns
-// state-variable at 1.1 times it. The part values do not depend on the
+// two-integrator-notch (three op-amps) at 1.1 times it. The part values do not depend on the
 // spec's tolerances.
 func TestKeepNotchesInMaskThreshold(t *testing.T) {
 	t.Parallel()
@@ -90,7 +90,7 @@ func TestKeepNotchesInMaskThreshold(t *testing.T) {
 		return Section{}
 	}
 	sec := far(design(1))
-	require.Equal(t, topology.StateVariable, sec.Topology)
+	require.Equal(t, topology.TwoIntegratorNotch, sec.Topology)
 	i := strings.Index(sec.TopologyReason, "would leave about ")
 	require.GreaterOrEqual(t, i, 0, sec.TopologyReason)
 	var l1 float64
@@ -99,5 +99,5 @@ func TestKeepNotchesInMaskThreshold(t *testing.T) {
 	tStar := math.Pow(10, (-100-l1)/20) // percent
 	t.Logf("level %.1f dB at 1 %% parts: −100 dB at %.3g %%", l1, tStar)
 	require.Equal(t, topology.OneAmpNotch, far(design(0.9*tStar)).Topology)
-	require.Equal(t, topology.StateVariable, far(design(1.1*tStar)).Topology)
+	require.Equal(t, topology.TwoIntegratorNotch, far(design(1.1*tStar)).Topology)
 }

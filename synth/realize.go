@@ -116,11 +116,12 @@ func (d *Design) realize(ordered []section.Section) error {
 	}
 	if s.Topology == topology.Auto && !diff {
 		d.keepNotchesInMask(ordered, results, opt)
-		inverting = 0
-		for _, r := range results {
-			if r.Inverting {
-				inverting++
-			}
+	}
+	notes := d.takeUpGains(ordered, results, opt)
+	inverting = 0
+	for _, r := range results {
+		if r.Inverting {
+			inverting++
 		}
 	}
 	// Keep the chain's polarity: an odd number of inverting stages is put
@@ -150,6 +151,9 @@ func (d *Design) realize(ordered []section.Section) error {
 			results[allpassFirst].Reason = "inverting form, so that the chain as a whole does not invert; " + r.Reason
 			inverting++
 		}
+	}
+	for j, note := range notes {
+		results[j].Reason += note
 	}
 	if inverting%2 == 1 {
 		last := len(results) - 1

@@ -25,8 +25,8 @@ type kindStage struct {
 // tool builds: the first-order forms, Sallen-Key and multiple-feedback
 // lowpass, highpass and bandpass, the state-variable forms with and
 // without the notch summer and its T-network, the one-amplifier notch
-// forms, stages that carry the polarity inverter, and the all-pass stages
-// of a delay equaliser.
+// forms, the two-integrator (three-op-amp) notch forms, stages that carry
+// the polarity inverter, and the all-pass stages of a delay equaliser.
 var everyStageKind = []string{
 	"rc-buffer/lowpass", "rc-buffer/highpass", "rc-buffer/lowpass+gain",
 	"inverting-rc/lowpass", "inverting-rc/highpass",
@@ -38,6 +38,7 @@ var everyStageKind = []string{
 	"state-variable/lowpass-notch+tee",
 	"allpass/allpass1", "allpass/allpass1+inverted", "allpass/allpass2", "allpass/allpass2+inverter",
 	"one-amp-notch/lowpass-notch", "one-amp-notch/highpass-notch", "one-amp-notch/notch",
+	"two-integrator-notch/lowpass-notch", "two-integrator-notch/highpass-notch+inverter", "two-integrator-notch/notch",
 }
 
 // stageKindSpecs are designs (our own choice of specs) whose stages
@@ -88,6 +89,15 @@ func stageKindSpecs() []struct {
 		{"elliptic-lowpass-4-1amp", spec(synth.Lowpass, "elliptic", 4, []float64{1000}, nil)},
 		{"elliptic-highpass-4-1amp", spec(synth.Highpass, "elliptic", 4, []float64{1000}, nil)},
 		{"chebyshev1-lowpass-8", spec(synth.Lowpass, "chebyshev1", 8, []float64{1000}, nil)},
+		// auto puts all three sections on the two-integrator loop (three
+		// op-amps each; the notch's Q is 0.88, the others' 1.99).
+		{"bandstop-6-tin", spec(synth.Bandstop, "chebyshev2", 3, []float64{500, 2000}, nil)},
+		// The studio anti-alias filter: its far-zero lowpass-notch on the
+		// two-integrator loop, the first-order stage taking up its gain.
+		{"elliptic-lowpass-5-tin", spec(synth.Lowpass, "elliptic", 0, []float64{20000}, func(s *synth.Spec) {
+			s.StopbandHz, s.PassbandRippleDB, s.StopbandAttenDB = []float64{172000}, 0.05, 100
+			s.Tolerance.ResistorPct, s.Tolerance.CapacitorPct = 1, 5 // the one-op-amp form's residual rule needs them
+		})},
 		// Delay equalisers (the search's choice, checked by the kinds):
 		// a first-order all-pass; an inverted one that puts the
 		// multiple-feedback stage's sign right; two second-order ones;

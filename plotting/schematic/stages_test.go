@@ -92,6 +92,14 @@ func stages() []namedStage {
 		{"one-amp-notch lowpass-notch", oneAmpNotch(true, true, false, true)},
 		{"one-amp-notch highpass-notch", oneAmpNotch(true, false, true, false)},
 		{"one-amp-notch notch without divider", oneAmpNotch(false, true, false, false)},
+		// The three-op-amp notch (package topology's twoIntegratorNotch):
+		// integrator U1 (R3, C2), inverter U2 (R5, R6), lossy integrator
+		// U3 at the output (R1, C1, loop R2), feedforward C3 and R4.
+		{"two-integrator-notch", circuit.Stage{Topology: "two-integrator-notch",
+			Parts: []circuit.Part{res("R1", "out", "i1", 11.8e3), res("R2", "inv", "i1", 12.1e3), res("R3", "out", "i2", 18.7e3),
+				res("R4", "in", "i2", 12.1e3), res("R5", "lp", "i3", 14.7e3), res("R6", "i3", "inv", 14.7e3),
+				capa("C1", "i1", "out", 6.8e-9), capa("C2", "i2", "lp", 560e-12), capa("C3", "in", "i1", 100e-12)},
+			OpAmps: []circuit.OpAmp{amp("U1", gnd, "i2", "lp"), amp("U2", gnd, "i3", "inv"), amp("U3", gnd, "i1", "out")}, Out: "out"}},
 	}
 }
 

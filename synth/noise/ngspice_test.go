@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"math"
+	"math/cmplx"
 	"os"
 	"path/filepath"
 	"testing"
@@ -14,6 +15,8 @@ import (
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/circuit/spicerun"
 	"github.com/polewright/polewright/synth/noise"
+	"github.com/polewright/polewright/synth/section"
+	"github.com/polewright/polewright/synth/topology"
 )
 
 // spiceDBTol is the agreement required of the output noise density
@@ -40,6 +43,7 @@ func TestNgspiceNoise(t *testing.T) {
 		{"sallen-key-lowpass", []circuit.Stage{sallenKeyLP(skR1, skR2, skC1, skC2)}},
 		{"mfb-lowpass", []circuit.Stage{mfbLP(mfR1, mfR2, mfR3, mfC1, mfC2)}},
 		{"butterworth-8th", butterworth8(1000, ideal).Stages},
+		{"two-integrator-notch", []circuit.Stage{twoIntegratorNotch(t)}},
 	}
 	sources := []struct {
 		name  string
@@ -99,3 +103,16 @@ func TestNgspiceNoise(t *testing.T) {
 }
 
 func abs(z complex128) float64 { return math.Hypot(real(z), imag(z)) }
+
+// twoIntegratorNotch is the three-op-amp notch stage (package topology's
+// two-integrator-notch) of a lowpass-notch section, f0 1 kHz, Q 2, zeros
+// at 3 kHz, DC gain 1, with E96/E12 parts.
+func twoIntegratorNotch(t *testing.T) circuit.Stage {
+	t.Helper()
+	w0, wz := 2*math.Pi*1000, 2*math.Pi*3000
+	p := complex(-w0/4, w0*math.Sqrt(1-1.0/16))
+	sec := section.Section{Poles: []complex128{p, cmplx.Conj(p)}, Zeros: []complex128{complex(0, wz), complex(0, -wz)}, Gain: w0 * w0 / (wz * wz)}
+	r, err := topology.Realize(sec, topology.TwoIntegratorNotch, topology.DefaultOptions())
+	require.NoError(t, err)
+	return r.Stage
+}

@@ -36,6 +36,7 @@ func BenchmarkRealize(b *testing.B) {
 		{"chebyshev8/state-variable", cheb8, topology.StateVariable, opt},
 		{"lowpass-notch8/auto", notch8, topology.Auto, opt},
 		{"lowpass-notch8/state-variable", notch8, topology.StateVariable, opt},
+		{"lowpass-notch8/two-integrator-notch", notch8, topology.TwoIntegratorNotch, opt},
 	}
 	for _, c := range cases {
 		b.Run(c.name, func(b *testing.B) {

@@ -37,6 +37,15 @@
 //     arrangement); an input split R1:R2 cancels the numerator's s term,
 //     the + input divider and a resistor and capacitor at the inverting
 //     node set the zeros and the gain.
+//   - two-integrator-notch: lowpass-notch, highpass-notch and notch on
+//     three op-amps, the Tow-Thomas two-integrator loop with feedforward
+//     from the input into both integrators (Fleischer and Tow's general
+//     biquad without its s-term paths): the numerator has no s term for
+//     any part values, so the zeros stay on the jω axis whatever the
+//     tolerances. Its gain is the capacitor ratio C3/C1 (within a factor
+//     [MaxTwoIntegratorGainShift] of the section's; [Result.GainErrPct]
+//     says by how much, in exact mode too), which package synth takes up
+//     in another stage. Auto reaches it; it is not a spec topology.
 //
 // A stage realises the section's transfer function with a positive
 // reference gain (the section's own gain, whether above or below one: gain
@@ -63,9 +72,16 @@
 //     which limit failed (package synth adds a chain-level rule: a
 //     one-op-amp notch whose zeros lie in a stop or alias band stays only
 //     while 3σ of what the tolerances leave there, times the other
-//     stages, is within the band's attenuation). Otherwise state-variable ("sums its highpass and
-//     lowpass outputs": four op-amps, but its zeros stay on the jω axis
-//     whatever the tolerances, as its sum has no bandpass term). The
+//     stages, is within the band's attenuation). Otherwise
+//     two-integrator-notch (three op-amps, zeros on the jω axis whatever
+//     the tolerances: no feedforward path carries an s term), and where
+//     that does not fit state-variable ("sums its highpass and lowpass
+//     outputs": four op-amps, zeros on the jω axis as its sum has no
+//     bandpass term). Above Q = [AutoMaxQ] state-variable comes before
+//     two-integrator-notch: the three op-amps in one loop move f0 and Q
+//     more with a finite gain-bandwidth (measured: −0.37 % f0 and +1.2 %
+//     Q at Q 10.9, 3.5 kHz, 10 MHz op-amps, against −0.02 % and +1.6 %
+//     for the state-variable stage). The
 //     one-amp form's gain is also bounded (the split α ≤ 1:
 //     g·(ω0²/ωz² + r/Q²) ≤ 1 for a lowpass-notch without C3, r =
 //     C1/(C1 + C2)). The state-variable stage picks its own shape for the
@@ -96,8 +112,9 @@
 //
 // A topology asked for by name that has no form for the section's kind is
 // an error naming the kind (sallen-key has no bandpass or notch form,
-// multiple-feedback no notch form, one-amp-notch no lowpass, highpass or
-// bandpass form, the first-order stages no second-order form). Asked for
+// multiple-feedback no notch form, one-amp-notch and two-integrator-notch
+// no lowpass, highpass or bandpass form, the first-order stages no
+// second-order form). Asked for
 // by name, one-amp-notch applies neither the residual bound nor Q ≤ 5.
 //
 // The one-amp-notch search tries capacitor pairs C2 and C1 (three values
@@ -137,7 +154,10 @@
 // exact values and f0, Q and gain are the section's to rounding error:
 // every form sets its gain by resistor ratios, or by a capacitor ratio
 // that resistors trim (the Sallen-Key highpass divider and its K, the
-// multiple-feedback highpass C1/C2 and its positive-feedback divider).
+// multiple-feedback highpass C1/C2 and its positive-feedback divider),
+// except the two-integrator notch, whose gain is the capacitor ratio
+// C3/C1 (no resistor trims it without bringing an s term into its
+// numerator) and which package synth compensates in another stage.
 //
 // The state-variable search rounds in three steps, each compensating the
 // rounding of the one before: the integrator resistors and R2 for ω0 (the
@@ -200,6 +220,11 @@
 //     single-amplifier lowpass-notch and highpass-notch circuits (IEEE
 //     Trans. CAS-22, 1975) reach the same transfer functions; this form
 //     was chosen as every constraint of it is a resistor ratio.
+//   - P. E. Fleischer and J. Tow, "Design formulas for biquad active
+//     filters using three operational amplifiers", Proc. IEEE 61(5),
+//     1973 (citation typed from memory): the two-integrator loop with
+//     feedforward (two-integrator-notch), of which only the paths without
+//     an s term are kept.
 //
 // All were used from memory; every equation was rederived by nodal
 // analysis and is checked in the tests against a full nodal analysis of

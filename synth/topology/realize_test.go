@@ -64,6 +64,14 @@ func cases() []tcase {
 		add(top, "notch-q8-g1.5", notch2(1000, 8, 1000, 1.5))
 		add(top, "lowpass-notch-q0.6", notch2(400, 0.6, 1500, 2))
 	}
+	for _, top := range []string{topology.TwoIntegratorNotch} {
+		add(top, "lowpass-notch", notch2(1000, 3, 2000, 1))
+		add(top, "lowpass-notch-far", notch2(17.2e3, 0.86, 176e3, 1))
+		add(top, "highpass-notch", notch2(1000, 3, 500, 0.8))
+		add(top, "notch-q8-g1.5", notch2(1000, 8, 1000, 1.5))
+		add(top, "notch-q30", notch2(1000, 30, 1000, 1))
+		add(top, "lowpass-notch-q0.6", notch2(400, 0.6, 1500, 2))
+	}
 	for _, top := range []string{topology.OneAmpNotch, topology.Auto} {
 		add(top, "lowpass-notch-g1.2", notch2(1000, 3, 2000, 1.2))
 		add(top, "lowpass-notch-far", notch2(17.2e3, 0.86, 176e3, 1))
@@ -116,11 +124,20 @@ func TestRealizeExactMatchesNodalAnalysis(t *testing.T) {
 			r, err := topology.Realize(tc.sec, tc.top, opt)
 			require.NoError(t, err)
 			require.NoError(t, r.Stage.Validate())
-			require.InDelta(t, 0, r.GainErrPct, 1e-9)
+			scale := 1.0
+			if r.Stage.Topology == topology.TwoIntegratorNotch {
+				// Its gain is the capacitor ratio C3/C1 (package synth
+				// takes the difference up in another stage): the shape
+				// is exact, the gain within the factor allowed.
+				scale = 1 + r.GainErrPct/100
+				require.LessOrEqual(t, math.Abs(math.Log(scale)), math.Log(topology.MaxTwoIntegratorGainShift))
+			} else {
+				require.InDelta(t, 0, r.GainErrPct, 1e-9)
+			}
 			require.InDelta(t, 0, r.F0ErrPct, 1e-9)
 			require.InDelta(t, 0, r.QErrPct, 1e-9)
 			require.InDelta(t, 0, r.ZeroErrPct, 1e-9)
-			d := maxRelDiff(t, tc.sec, r, 1)
+			d := maxRelDiff(t, tc.sec, r, scale)
 			mx.note("relative |H_stage − H_section|/|H_section|", tc.name, d)
 			require.Less(t, d, 1e-9)
 			for _, p := range r.Stage.Parts {
@@ -381,15 +398,18 @@ func TestAutoRule(t *testing.T) {
 		{"bandpass", bp2(1000, 5, 1), topology.MultipleFeedback, true, []string{"bandpass", "limit"}},
 		// 60 > Q²·(1 + 10) = 44 at Q = 2: beyond the multiple-feedback limit.
 		{"bandpass high gain", bp2(1000, 2, 60), topology.StateVariable, false, []string{"exceeds the limit", "state-variable"}},
-		{"notch", notch2(1000, 4, 1000, 1), topology.StateVariable, false, []string{"jω-axis zeros", "would leave -12.4 dB at the zeros", "above the limit -30 dB"}},
+		{"notch", notch2(1000, 4, 1000, 1), topology.TwoIntegratorNotch, true, []string{"jω-axis zeros", "would leave -12.4 dB at the zeros", "above the limit -30 dB", "two-integrator loop (three op-amps)"}},
 		{"lowpass-notch", notch2(1000, 4, 3000, 1), topology.OneAmpNotch, false, []string{"lowpass-notch", "Q 4 ≤ 5: one op-amp", "part tolerances leave -43.6 dB at the zeros"}},
 		// The symmetric notch at Q = 3 and gain 1.5 needs C3 to raise the
 		// high-frequency gain; 1 % resistors and 5 % capacitors would leave
 		// about −11 dB at its zero, above MaxNotchResidualDB.
-		{"notch residual", notch2(1000, 3, 1000, 1.5), topology.StateVariable, false, []string{"would leave -10.7 dB at the zeros", "above the limit -30 dB", "state-variable (four op-amps)"}},
-		{"notch Q above 5", notch2(1000, 8, 1000, 1), topology.StateVariable, false, []string{"Q 8 > 5"}},
+		{"notch residual", notch2(1000, 3, 1000, 1.5), topology.TwoIntegratorNotch, true, []string{"would leave -10.7 dB at the zeros", "above the limit -30 dB", "two-integrator loop (three op-amps)", "no s term"}},
+		{"notch Q above 5", notch2(1000, 8, 1000, 1), topology.TwoIntegratorNotch, true, []string{"Q 8 > 5", "three op-amps"}},
 		// Gain 2 at Q 0.6: the input split would need α > 1.
-		{"lowpass-notch gain", notch2(400, 0.6, 1500, 2), topology.StateVariable, false, []string{"α = ", "above the form's limit"}},
+		{"lowpass-notch gain", notch2(400, 0.6, 1500, 2), topology.TwoIntegratorNotch, true, []string{"α = ", "above the form's limit"}},
+		// Gain 1e4 of a notch: the two-integrator notch's C3/C1 cannot
+		// reach it within a factor 2 where R1 fits; state-variable is next
+		// (and fails in TestNotchOutsideWindows).
 		{"highpass-notch", notch2(20e3, 0.9, 7e3, 1), topology.OneAmpNotch, false, []string{"highpass-notch"}},
 		// 1 mHz pole with 100 µF allowed but resistors only to 220 kΩ:
 		// state-variable needs R ≈ 1.6 MΩ… every topology fails below.

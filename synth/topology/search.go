@@ -34,11 +34,15 @@ type options struct {
 	rname      string    // Series of the resistors ("" when exact)
 	maxFloor   float64   // bound of the one-amplifier notch's residual, linear (+Inf unless auto)
 	noDivider  bool      // no positive-feedback divider (fully differential MFB highpass)
+	tinShift   int       // Options.TwoIntegratorGainShift
 }
 
 func newOptions(opt Options) (*options, error) {
 	def := DefaultOptions()
-	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact, maxFloor: math.Inf(1)}
+	o := &options{rs: opt.ResistorSeries, cs: opt.CapacitorSeries, exact: opt.Exact, maxFloor: math.Inf(1), tinShift: opt.TwoIntegratorGainShift}
+	if o.tinShift < -1 || o.tinShift > 1 {
+		return nil, fmt.Errorf("TwoIntegratorGainShift %d is not −1, 0 or 1", o.tinShift)
+	}
 	if o.rs.Len() == 0 {
 		o.rs = def.ResistorSeries
 	}

@@ -32,6 +32,7 @@ func TestStagesInNgspice(t *testing.T) {
 		"state-variable/lowpass-notch": true, "state-variable/highpass-notch": true, "state-variable/notch-q8-g1.5": true,
 		"one-amp-notch/lowpass-notch-g1.2": true, "one-amp-notch/lowpass-notch-far": true, "one-amp-notch/highpass-notch-g0.8": true,
 		"one-amp-notch/highpass-notch-g1.3": true, "one-amp-notch/notch-q3-g1.5": true, "one-amp-notch/notch-q0.7-g0.5": true,
+		"two-integrator-notch/lowpass-notch-far": true, "two-integrator-notch/highpass-notch": true, "two-integrator-notch/notch-q30": true,
 	}
 	n := 0
 	for _, tc := range cases() {

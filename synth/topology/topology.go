@@ -29,12 +29,15 @@ const (
 	// have no fully differential form here and are refused, as are
 	// all-pass sections.
 	FullyDifferential = "fully-differential"
+	// TwoIntegratorNotch is the three-op-amp notch stage (a two-integrator
+	// loop with feedforward); [Auto] reaches it, and so does the name.
+	TwoIntegratorNotch = "two-integrator-notch"
 )
 
 // Names returns the topology names [Realize] accepts, [Auto] first. The
 // slice is a new copy on every call.
 func Names() []string {
-	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch, FullyDifferential}
+	return []string{Auto, SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch, TwoIntegratorNotch, FullyDifferential}
 }
 
 // Limits of the design rules (see the package comment).
@@ -76,6 +79,11 @@ type Options struct {
 	// percent (default 5). Resistors get their series' customary
 	// tolerance ([eseries.Series.TolerancePct]).
 	CapacitorTolerancePct float64
+	// TwoIntegratorGainShift restricts the gain of a [TwoIntegratorNotch]
+	// stage, a capacitor ratio (see [MaxTwoIntegratorGainShift]): 0 lets
+	// it lie either side of the section's, +1 only at or above it, −1 only
+	// at or below it; other values are errors.
+	TwoIntegratorGainShift int
 }
 
 // Default option values.
@@ -174,7 +182,8 @@ func fail(top string, err error, format string, args ...any) *Error {
 // Realize maps one first- or second-order section onto the named topology
 // (one of [Names]) with part values from opt. The stage realises the
 // section's transfer function with its reference gain, bigger or smaller
-// than one, exactly up to part rounding; the sign of sec.Gain is not
+// than one, exactly up to part rounding (a two-integrator-notch stage's
+// gain is a capacitor ratio: [Result.GainErrPct]); the sign of sec.Gain is not
 // realised (the reference gain is taken positive, and [Result.Inverting]
 // gives the stage's own sign). Every failure is an [*Error] naming the
 // topology and the limit; the caller adds the section's index. Realize
@@ -211,7 +220,7 @@ func Realize(sec section.Section, topology string, opt Options) (Result, error) 
 			return Result{}, e
 		}
 		return r, nil
-	case SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch:
+	case SallenKey, MultipleFeedback, StateVariable, RCBuffer, InvertingRC, OneAmpNotch, TwoIntegratorNotch:
 		r, e := realizeOne(tg, topology, o)
 		if e != nil {
 			return Result{}, e
@@ -242,6 +251,8 @@ func realizeOne(tg target, top string, o *options) (Result, *Error) {
 		d, e = stateVariable(tg, o)
 	case OneAmpNotch:
 		d, e = oneAmpNotch(tg, o)
+	case TwoIntegratorNotch:
+		d, e = twoIntegratorNotch(tg, o)
 	}
 	if e != nil {
 		return Result{}, e
@@ -260,11 +271,20 @@ func realizeAuto(tg target, o *options) (Result, error) {
 			{RCBuffer, "first order: RC and a non-inverting buffer, the simplest stage that keeps the sign"},
 			{InvertingRC, "first order: inverting RC stage"},
 		}
+	case hasAxisZeros(tg.kind) && tg.q > AutoMaxQ:
+		tries = []try{
+			{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d: state-variable (four op-amps), whose f0 the op-amps' lag moves least (the two-integrator loop's three op-amps in one loop shift f0 and Q more at high Q)", fmtHz(tg.wz), tg.kind, tg.q, AutoMaxQ)},
+			{TwoIntegratorNotch, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d: the two-integrator loop (three op-amps)", fmtHz(tg.wz), tg.kind, tg.q, AutoMaxQ)},
+		}
 	case hasAxisZeros(tg.kind) && tg.q > OneAmpNotchMaxQ:
-		tries = []try{{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d, beyond the one-op-amp notch's spread 4Q² and loop-gain need 2Q²: state-variable sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)}}
+		tries = []try{
+			{TwoIntegratorNotch, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d, beyond the one-op-amp notch's spread 4Q² and loop-gain need 2Q²: the two-integrator loop (three op-amps, the fewest left) places them with no s term to cancel", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
+			{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s) with Q %.3g > %d: state-variable (four op-amps) sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
+		}
 	case hasAxisZeros(tg.kind):
 		tries = []try{
 			{OneAmpNotch, fmt.Sprintf("jω-axis zeros at %s (%s), Q %.3g ≤ %d: one op-amp, the fewest that place them within the part windows and the notch-residual limit", fmtHz(tg.wz), tg.kind, tg.q, OneAmpNotchMaxQ)},
+			{TwoIntegratorNotch, fmt.Sprintf("jω-axis zeros at %s (%s): the two-integrator loop (three op-amps) places them with no s term to cancel", fmtHz(tg.wz), tg.kind)},
 			{StateVariable, fmt.Sprintf("jω-axis zeros at %s (%s): state-variable (four op-amps) sums its highpass and lowpass outputs to place them", fmtHz(tg.wz), tg.kind)},
 		}
 	case tg.q > AutoMaxQ:
