@@ -27,7 +27,7 @@ const (
 )
 
 // tolLowName is the legend name of the line at gain − gain_tolerance_db.
-const tolLowName = "gain − tolerance: the passband maximum reaches it"
+const tolLowName = "gain − tolerance: the least passband maximum"
 
 // Passband writes the magnitude of d over its passband as SVG: the ideal
 // and as-built curves, the Monte Carlo envelope when the design has one,
