@@ -209,6 +209,7 @@ func TestNilDesign(t *testing.T) {
 	require.ErrorIs(t, Bode(&buf, nil, Options{}), ErrNilDesign)
 	require.ErrorIs(t, GroupDelay(&buf, nil, Options{}), ErrNilDesign)
 	require.ErrorIs(t, Step(&buf, nil, Options{}), ErrNilDesign)
+	require.ErrorIs(t, Passband(&buf, nil, Options{}), ErrNilDesign)
 	require.Zero(t, buf.Len())
 }
 
