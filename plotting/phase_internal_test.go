@@ -9,6 +9,7 @@ import (
 
 	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/circuit"
+	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/step"
 )
 
@@ -159,4 +160,75 @@ func TestAlignPhase(t *testing.T) {
 			}
 		})
 	}
+}
+
+// TestPhaseAtNotchesBuilt checks the same on a circuit synth builds (the
+// elliptic lowpass above on E96/E12 parts and the default 10 MHz op-amp):
+// within a few degrees where the ideal magnitude is more than 20 dB above
+// the stopband floor (0.83° when written), and never a whole turn apart.
+func TestPhaseAtNotchesBuilt(t *testing.T) {
+	t.Parallel()
+	d := builtDesign(t, ellipticNotchSpec)
+	sw := designSweep(d)
+	require.NotNil(t, sw.builtPh)
+	gainDB := 20 * math.Log10(d.Gain)
+	above := 0
+	for i, f := range sw.f {
+		diff := sw.builtPh[i] - sw.idealPh[i]
+		require.Less(t, math.Abs(diff), 190.0, "at %.6g Hz", f)
+		if sw.idealDB[i] >= gainDB-d.Spec.StopbandAttenDB+20 {
+			above++
+			require.Less(t, math.Abs(diff), 5.0, "at %.6g Hz", f)
+		}
+	}
+	require.Greater(t, above, 100)
+}
+
+// TestPhaseAcrossBuiltNotches checks a circuit whose notch zeros synth's
+// op-amp model moves off the axis by more than axisSnap (a 10th-order
+// elliptic lowpass at 20 kHz on the default 10 MHz op-amp): the phase of
+// its poles and zeros, unwrapped on its own, parts from the ideal one by
+// −360° at notches (about 1,800° in all, the drift the page showed), while
+// the drawn as-built phase leaves each notch's stretch within 45° of the
+// difference it entered with.
+func TestPhaseAcrossBuiltNotches(t *testing.T) {
+	t.Parallel()
+	d := builtDesign(t, `{"approximation": "elliptic", "passband_hz": 20000, "stopband_hz": 24000,
+		"passband_ripple_db": 0.1, "stopband_atten_db": 80}`)
+	tfs := usable(asBuilt(d))
+	sw := newSweep(d, tfs)
+	h, ok := cascadeZPK(tfs)
+	require.True(t, ok)
+	raw := response.PhaseDeg(nil, h, sw.f)
+	notches := notchesHz(d)
+	require.GreaterOrEqual(t, len(notches), 4)
+	inStretch := func(f float64) bool {
+		for _, n := range notches {
+			if math.Abs(f/n-1) < notchRel {
+				return true
+			}
+		}
+		return false
+	}
+	rawTurns, checked := 0.0, 0
+	for _, n := range notches {
+		before, after := -1, -1
+		for i, f := range sw.f {
+			if f < n*(1-notchRel) && !inStretch(f) {
+				before = i
+			}
+			if f > n*(1+notchRel) && !inStretch(f) && after < 0 {
+				after = i
+			}
+		}
+		if before < 0 || after < 0 {
+			continue
+		}
+		diff := func(ph []float64, i int) float64 { return ph[i] - sw.idealPh[i] }
+		checked++
+		require.InDelta(t, diff(sw.builtPh, before), diff(sw.builtPh, after), 45, "across the notch at %.6g Hz", n)
+		rawTurns += math.Round((diff(raw, after) - diff(raw, before)) / 360)
+	}
+	require.GreaterOrEqual(t, checked, 3)
+	require.LessOrEqual(t, rawTurns, -3.0, "unwrapped on its own, the circuit's phase loses whole turns at the notches")
 }
