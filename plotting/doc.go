@@ -94,7 +94,8 @@
 // plot.DefaultFont or font.DefaultCache: this package changes no
 // package-level state, so it is safe to call concurrently. It keeps only
 // caches of its own: the sizes of the texts it has measured (at most 4,096)
-// and, for the last 16 designs drawn, the circuit's rational stages and
-// the step plot's responses, held by weak pointer so that no design is
+// and, for the last 16 designs drawn, the circuit's rational stages, the
+// frequency sweep that [Bode], [Passband] and [GroupDelay] share (curves
+// and the as-built phase and delay) and the step plot's responses, held by weak pointer so that no design is
 // kept alive by them (a design is not changed after synthesis).
 package plotting
