@@ -261,3 +261,45 @@ func TestTextSize(t *testing.T) {
 		})
 	}
 }
+
+// TestEnvelopeUnderMask checks the drawing order (the SVG's z-order) of
+// the magnitude and passband plots of a design with Monte Carlo trials:
+// within the data area, every band of the envelope comes before (under)
+// every shaded region of the mask, so that the forbidden regions keep
+// their colour where a band crosses them.
+func TestEnvelopeUnderMask(t *testing.T) {
+	t.Parallel()
+	d := builtDesign(t, benchSpec)
+	require.NotNil(t, d.MonteCarlo)
+	for _, pf := range []struct {
+		name string
+		fn   func(io.Writer, *synth.Design, Options) error
+	}{{"bode", Bode}, {"passband", Passband}} {
+		t.Run(pf.name, func(t *testing.T) {
+			t.Parallel()
+			var buf bytes.Buffer
+			require.NoError(t, pf.fn(&buf, d, Options{}))
+			doc := parseLayout(t, buf.Bytes())
+			areas := doc.dataAreas()
+			lastBand, firstMask := -1, len(doc.paths)
+			for i, p := range doc.paths {
+				inData := false
+				for _, pt := range p.pts {
+					for _, a := range areas {
+						inData = inData || a.contains(pt[0], pt[1])
+					}
+				}
+				switch {
+				case !inData:
+				case strings.Contains(p.style, envelopeFillSVG):
+					lastBand = i
+				case strings.Contains(p.style, maskFillSVG):
+					firstMask = min(firstMask, i)
+				}
+			}
+			require.GreaterOrEqual(t, lastBand, 0, "the envelope is drawn")
+			require.Less(t, firstMask, len(doc.paths), "the mask is drawn")
+			require.Less(t, lastBand, firstMask, "bands under the mask")
+		})
+	}
+}
