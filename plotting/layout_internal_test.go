@@ -303,3 +303,24 @@ func TestEnvelopeUnderMask(t *testing.T) {
 		})
 	}
 }
+
+// At the smallest size, a legend of many names wraps onto rows that take
+// most of the height; the plots are still drawn, with finite coordinates.
+func TestSmallestSize(t *testing.T) {
+	t.Parallel()
+	tolSpec := strings.Replace(benchSpec, `"passband_ripple_db": 0.5,`, `"passband_ripple_db": 0.5, "gain_tolerance_db": 0.2,`, 1)
+	d := builtDesign(t, tolSpec)
+	for _, pf := range []struct {
+		name string
+		fn   func(io.Writer, *synth.Design, Options) error
+	}{{"bode", Bode}, {"passband", Passband}, {"delay", GroupDelay}, {"step", Step}, {"noise", Noise}} {
+		t.Run(pf.name, func(t *testing.T) {
+			t.Parallel()
+			var buf bytes.Buffer
+			require.NotPanics(t, func() { require.NoError(t, pf.fn(&buf, d, Options{WidthPt: MinSizePt, HeightPt: MinSizePt})) })
+			require.NotContains(t, buf.String(), "NaN")
+			require.NotContains(t, buf.String(), "Inf")
+			parseLayout(t, buf.Bytes())
+		})
+	}
+}
