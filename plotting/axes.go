@@ -8,19 +8,6 @@ import (
 	"gonum.org/v1/plot"
 )
 
-// splitScale is a linear axis with a change of slope: [min, pivot] maps
-// onto [0, frac] and [pivot, max] onto [frac, 1]. Values outside [min, max]
-// continue the nearer segment.
-type splitScale struct{ pivot, frac float64 }
-
-// Normalize implements plot.Normalizer.
-func (s splitScale) Normalize(lo, hi, x float64) float64 {
-	if x >= s.pivot {
-		return s.frac + (x-s.pivot)/(hi-s.pivot)*(1-s.frac)
-	}
-	return (x - lo) / (s.pivot - lo) * s.frac
-}
-
 // niceStep returns the smallest step of the form {1, 2, 2.5, 5}·10^k that
 // divides span into at most n intervals.
 func niceStep(span float64, n int) float64 {
@@ -129,6 +116,15 @@ func decadeTicks(lo, hi float64, label func(float64) string) []plot.Tick {
 		if t.Value < lo*(1-1e-9) || t.Value > hi*(1+1e-9) {
 			continue
 		}
+		if n := len(ticks); n > 0 && math.Abs(ticks[n-1].Value-t.Value) <= 1e-9*t.Value {
+			// The same value as a major and a minor tick: one tick, labelled
+			// if either is.
+			if t.Label != "" && ticks[n-1].Label == "" {
+				ticks[n-1].Label = label(t.Value)
+				labelled++
+			}
+			continue
+		}
 		if t.Label != "" {
 			t.Label = label(t.Value)
 			labelled++
@@ -175,4 +171,27 @@ func padRange(lo, hi, frac, minSpan float64) (float64, float64) {
 	}
 	pad := (hi - lo) * frac
 	return lo - pad, hi + pad
+}
+
+// zoomFreqTicks returns the ticks of a logarithmic frequency axis over a
+// short range [lo, hi] (0 < lo < hi), as the passband plot has: from three
+// times up, [freqTicks] with the 2 and 5 multiples labelled too; below, a
+// labelled tick at every multiple of a round step, about six of them.
+func zoomFreqTicks(lo, hi float64) []plot.Tick {
+	if hi >= 3*lo {
+		ticks := freqTicks(lo, hi)
+		for i, t := range ticks {
+			m := t.Value / math.Pow(10, math.Floor(math.Log10(t.Value)+1e-9))
+			if math.Abs(m-2) < 1e-6 || math.Abs(m-5) < 1e-6 {
+				ticks[i].Label = freqLabel(t.Value)
+			}
+		}
+		return ticks
+	}
+	step := niceStep(hi-lo, 6)
+	var ticks []plot.Tick
+	for k := math.Ceil(lo/step - 1e-9); k*step <= hi*(1+1e-9) && len(ticks) < 100; k++ {
+		ticks = append(ticks, plot.Tick{Value: k * step, Label: freqLabel(k * step)})
+	}
+	return ticks
 }

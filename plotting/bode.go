@@ -16,7 +16,6 @@ import (
 
 // Layout of the magnitude axis (see the package documentation).
 const (
-	zoomFrac       = 0.4 // share of the axis given to the passband ripple
 	stopMarginDB   = 30  // axis floor below the stopband floor
 	noStopDepthDB  = 80  // axis depth without a stopband
 	maxDepthDB     = 300 // deepest axis
@@ -25,16 +24,22 @@ const (
 )
 
 func bode(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) error {
-	sw := newSweep(d, usable(tfs))
-	mag := magnitudePlot(d, sw)
+	return drawBode(w, d, newSweep(d, usable(tfs)), opt)
+}
+
+// drawBode writes the Bode plot of d from its sweep sw, which it does not
+// change.
+func drawBode(w io.Writer, d *synth.Design, sw *sweep, opt Options) error {
+	var lg legend
+	mag := magnitudePlot(d, sw, &lg)
 	ph := phasePlot(sw)
 	width, height := opt.size(DefaultWidthPt, DefaultBodeHeightPt)
-	return render(w, width, height, mag, ph)
+	return render(w, width, height, lg, mag, ph)
 }
 
 // specLosses returns the gain in dB, Amax, and Amin with whether the spec
 // has a usable stopband, all finite.
-func specLosses(d *synth.Design, sw sweep) (gainDB, amax, amin float64, stop bool) {
+func specLosses(d *synth.Design, sw *sweep) (gainDB, amax, amin float64, stop bool) {
 	gainDB = 20 * math.Log10(d.Gain)
 	if !finite(gainDB) {
 		gainDB = 0
@@ -51,44 +56,34 @@ func specLosses(d *synth.Design, sw sweep) (gainDB, amax, amin float64, stop boo
 	return gainDB, amax, amin, stop
 }
 
-// magAxis is the layout of the magnitude axis.
+// magAxis is the layout of the magnitude axis: linear in dB from lo to
+// hi, one scale throughout (the passband's ripple has a plot of its own,
+// [Passband]).
 type magAxis struct {
-	lo, hi, pivot float64
-	split         bool
+	lo, hi float64
 }
 
-func newMagAxis(gainDB, amax, amin float64, stop bool, peakDB float64) magAxis {
-	depth := min(max(2*amax, 0.5), 12)
-	pivot := gainDB - depth
-	hi := gainDB + depth/4
-	if finite(peakDB) && peakDB+depth/8 > hi {
-		hi = min(peakDB+depth/8, gainDB+maxPeakAboveDB)
-	}
+// newMagAxis returns the axis for a response whose passband gain is gainDB
+// and whose curves peak at peakDB (NaN: unknown): from 30 dB below the
+// stopband floor (80 dB below the gain without a stopband, at most 300 dB)
+// to 5 % of the span (at least 1 dB) above the higher of the gain and the
+// peak, the peak taken at most 40 dB above the gain.
+func newMagAxis(gainDB, amin float64, stop bool, peakDB float64) magAxis {
 	lo := gainDB - noStopDepthDB
 	if stop {
 		lo = gainDB - amin - stopMarginDB
 	}
 	lo = max(lo, gainDB-maxDepthDB)
-	if lo > pivot-10 {
-		lo = pivot - 10
+	top := gainDB
+	if finite(peakDB) && peakDB > top {
+		top = min(peakDB, gainDB+maxPeakAboveDB)
 	}
-	return magAxis{lo: lo, hi: hi, pivot: pivot, split: (hi-pivot)/(hi-lo) < zoomFrac}
+	return magAxis{lo: lo, hi: top + max(0.05*(top-lo), 1)}
 }
 
-// ticks returns the labelled ticks of the axis: a step of its own for each
-// segment, the lower ones kept clear of the pivot's label.
+// ticks returns the labelled ticks of the axis.
 func (a magAxis) ticks() []plot.Tick {
-	if !a.split {
-		return linTicks(a.lo, a.hi, niceStep(a.hi-a.lo, 8))
-	}
-	upper := linTicks(a.pivot, a.hi, niceStep(a.hi-a.pivot, 4))
-	var out []plot.Tick
-	for _, t := range linTicks(a.lo, a.pivot, niceStep(a.pivot-a.lo, 5)) {
-		if t.Value < a.pivot-0.12*(a.pivot-a.lo) {
-			out = append(out, t)
-		}
-	}
-	return append(out, upper...)
+	return linTicks(a.lo, a.hi, niceStep(a.hi-a.lo, 8))
 }
 
 // region is a forbidden rectangle of the mask over [x0, x1] Hz: below the
@@ -155,11 +150,14 @@ func maskRegions(s synth.Spec, gainDB, amax, amin float64, stop bool, fLo, fHi f
 	return out
 }
 
+// maskName is the legend name of the mask's shading.
+const maskName = "forbidden by the mask"
+
 // addMask adds the shaded regions and their limit lines to p, whose Y range
-// is [lo, hi].
-func addMask(p *plot.Plot, regions []region, lo, hi float64) {
+// is [lo, hi], and, when there is a region, their name to lg.
+func addMask(p *plot.Plot, lg *legend, regions []region, lo, hi float64) {
 	span := hi - lo
-	for _, r := range regions {
+	for i, r := range regions {
 		far := hi + span
 		if r.below {
 			far = lo - span
@@ -175,7 +173,20 @@ func addMask(p *plot.Plot, regions []region, lo, hi float64) {
 			LineStyle: maskEdge,
 		}}
 		p.Add(shape{poly}, edge)
+		if i == 0 && lg != nil {
+			lg.add(maskName, maskSample{})
+		}
 	}
+}
+
+// maskSample is the legend sample of the mask: a shaded box with its
+// limit line on top.
+type maskSample struct{}
+
+// Thumbnail implements plot.Thumbnailer.
+func (maskSample) Thumbnail(c *draw.Canvas) {
+	c.FillPolygon(maskFill, []vg.Point{c.Min, {X: c.Max.X, Y: c.Min.Y}, c.Max, {X: c.Min.X, Y: c.Max.Y}})
+	c.StrokeLine2(maskEdge, c.Min.X, c.Max.Y, c.Max.X, c.Max.Y)
 }
 
 // shape is a polygon without its DataRange method (see curve).
@@ -283,8 +294,9 @@ func envelopeBands(mc *synth.MonteCarloReport, lo, hi float64) []band {
 	return out
 }
 
-// magnitudePlot returns the top panel of the Bode plot.
-func magnitudePlot(d *synth.Design, sw sweep) *plot.Plot {
+// magnitudePlot returns the top panel of the Bode plot; the names it
+// shows go to lg.
+func magnitudePlot(d *synth.Design, sw *sweep, lg *legend) *plot.Plot {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
@@ -296,39 +308,36 @@ func magnitudePlot(d *synth.Design, sw sweep) *plot.Plot {
 	if !ok {
 		peak = math.NaN()
 	}
-	ax := newMagAxis(gainDB, amax, amin, stop, peak)
+	ax := newMagAxis(gainDB, amin, stop, peak)
 	yt := ax.ticks()
-	if ax.split {
-		p.Y.Scale = splitScale{pivot: ax.pivot, frac: 1 - zoomFrac}
-	}
 	p.Y.Tick.Marker = plot.ConstantTicks(yt)
 	p.Y.Label.Text = "Magnitude (dB)"
 
 	p.Add(grid{x: xt, y: yt})
-	addMask(p, maskRegions(d.Spec, gainDB, amax, amin, stop, fLo, fHi), ax.lo, ax.hi)
-	if ax.split {
-		p.Add(hline{y: ax.pivot, sty: guideStyle})
-	}
 	// Clamp just outside the axis so that a curve leaves it cleanly.
 	cLo, cHi := ax.lo-0.05*(ax.hi-ax.lo), ax.hi+0.05*(ax.hi-ax.lo)
+	// The Monte Carlo bands go under the mask's shading, so that the
+	// forbidden regions keep their colour where a band crosses them.
 	bands := envelopeBands(d.MonteCarlo, cLo, cHi)
 	for _, b := range bands {
 		p.Add(b.shape)
 	}
-	drawn := addCurves(p, true,
+	var mask legend
+	addMask(p, &mask, maskRegions(d.Spec, gainDB, amax, amin, stop, fLo, fHi), ax.lo, ax.hi)
+	addCurves(p, lg,
 		idealCurve(points(sw.f, sw.idealDB, cLo, cHi)),
 		builtCurve(points(sw.f, sw.builtDB, cLo, cHi)))
 	for _, b := range bands {
-		p.Legend.Add(b.name, b.shape)
+		lg.add(b.name, b.shape)
 	}
+	*lg = append(*lg, mask...)
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, ax.lo, ax.hi)
-	placeLegend(p, drawn...)
 	return p
 }
 
 // phasePlot returns the bottom panel of the Bode plot.
-func phasePlot(sw sweep) *plot.Plot {
+func phasePlot(sw *sweep) *plot.Plot {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
@@ -347,7 +356,7 @@ func phasePlot(sw sweep) *plot.Plot {
 
 	p.Add(grid{x: xt, y: yt})
 	// The names are in the magnitude panel's legend.
-	addCurves(p, false,
+	addCurves(p, nil,
 		idealCurve(points(sw.f, sw.idealPh, math.Inf(-1), math.Inf(1))),
 		builtCurve(points(sw.f, sw.builtPh, math.Inf(-1), math.Inf(1))))
 	p.Add(frame{})

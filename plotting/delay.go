@@ -11,7 +11,12 @@ import (
 )
 
 func groupDelay(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) error {
-	sw := newSweep(d, usable(tfs))
+	return drawGroupDelay(w, newSweep(d, usable(tfs)), opt)
+}
+
+// drawGroupDelay writes the group delay plot of the sweep sw, which it does
+// not change.
+func drawGroupDelay(w io.Writer, sw *sweep, opt Options) error {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
@@ -30,14 +35,14 @@ func groupDelay(w io.Writer, d *synth.Design, tfs circuit.Cascade, opt Options) 
 
 	span := hi - lo
 	p.Add(grid{x: xt, y: yt})
-	drawn := addCurves(p, true,
+	var lg legend
+	addCurves(p, &lg,
 		idealCurve(points(sw.f, scaled(sw.idealGD, 1/scale), lo-span, hi+span)),
 		builtCurve(points(sw.f, scaled(sw.builtGD, 1/scale), lo-span, hi+span)))
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, lo, hi)
-	placeLegend(p, drawn...)
 	width, height := opt.size(DefaultWidthPt, DefaultHeightPt)
-	return render(w, width, height, p)
+	return render(w, width, height, lg, p)
 }
 
 // extendRange returns the range of the finite values of ideal, widened to

@@ -71,6 +71,7 @@ var plotFuncs = []struct {
 	{"bode", bode},
 	{"delay", groupDelay},
 	{"step", stepPlot},
+	{"passband", passband},
 }
 
 // svgPath is a <path> element.

@@ -116,12 +116,12 @@ func Noise(w io.Writer, d *synth.Design, opt Options) error {
 		r := math.Log10(ref / scale)
 		curves = append(curves, curve{&plotter.Line{XYs: plotter.XYs{{X: fLo, Y: r}, {X: fHi, Y: r}}, LineStyle: quantStyle}, quantName})
 	}
-	drawn := addCurves(p, true, curves...)
+	var lg legend
+	addCurves(p, &lg, curves...)
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, math.Log10(lo), math.Log10(hi))
-	placeLegend(p, drawn...)
 	width, height := opt.size(DefaultWidthPt, DefaultHeightPt)
-	return render(w, width, height, p)
+	return render(w, width, height, lg, p)
 }
 
 // logTicks returns the ticks of a logarithmic axis over [lo, hi] as

@@ -22,18 +22,47 @@ import (
 	"github.com/polewright/polewright/synth/circuit"
 )
 
-// Default and limiting sizes of the plots, in points (1/72 inch).
+// Default and limiting sizes of the plots, in points (1/72 inch). The
+// SVG's viewBox has one unit per point, so these are also its user units.
 const (
 	// DefaultWidthPt is the width of every plot.
-	DefaultWidthPt = 520
+	DefaultWidthPt = 720
 	// DefaultBodeHeightPt is the height of [Bode], both panels.
-	DefaultBodeHeightPt = 440
-	// DefaultHeightPt is the height of [GroupDelay] and [Step].
-	DefaultHeightPt = 260
+	DefaultBodeHeightPt = 460
+	// DefaultHeightPt is the height of [GroupDelay], [Step] without its
+	// settling panel, [Noise] and [Passband].
+	DefaultHeightPt = 300
 	// MinSizePt and MaxSizePt bound a width or height given in [Options].
 	MinSizePt = 100
 	MaxSizePt = 4000
 )
+
+// Text sizes, in points (the SVG's user units): a page that shows a plot
+// w CSS px wide draws its text at size × w / [DefaultWidthPt] px.
+const (
+	// TickFontPt is the size of tick labels and legend names, the
+	// smallest text of every plot.
+	TickFontPt = 11
+	// LabelFontPt is the size of the axis labels.
+	LabelFontPt = 12
+)
+
+// PageFigureWidthPx is the width, in CSS px, at which the result page
+// shows a plot in a 1440 px window: the page's content column, about
+// 1100 px. At that width the smallest text of a plot at its default size
+// is TickFontPt × 1100 / 720 ≈ 16.8 px.
+const PageFigureWidthPx = 1100
+
+// MinTextPx is the smallest height, in CSS px, of any text of a plot as
+// the page shows it (the workbench's readability rule).
+const MinTextPx = 11
+
+// MinFigureWidthPx is the narrowest a page may show a plot at its default
+// size with every text at least MinTextPx high:
+// DefaultWidthPt × MinTextPx / TickFontPt = 720 px. A page that shows plots
+// narrower than that (a phone) should let them keep this width and scroll,
+// or show them enlarged on request.
+const MinFigureWidthPx = DefaultWidthPt * MinTextPx / TickFontPt
 
 // Options sets the size of a plot.
 type Options struct {
@@ -65,7 +94,7 @@ func Bode(w io.Writer, d *synth.Design, opt Options) error {
 	if d == nil {
 		return ErrNilDesign
 	}
-	return bode(w, d, asBuilt(d), opt)
+	return drawBode(w, d, designSweep(d), opt)
 }
 
 // GroupDelay writes the group delay of d in seconds (SI-prefixed) against
@@ -74,7 +103,7 @@ func GroupDelay(w io.Writer, d *synth.Design, opt Options) error {
 	if d == nil {
 		return ErrNilDesign
 	}
-	return groupDelay(w, d, asBuilt(d), opt)
+	return drawGroupDelay(w, designSweep(d), opt)
 }
 
 // Step writes the unit-step response of d against time (SI-prefixed) as
@@ -237,16 +266,14 @@ func newPlot() *plot.Plot {
 	p.TextHandler = textMeasure
 	for _, sty := range []*text.Style{
 		&p.Title.TextStyle, &p.X.Label.TextStyle, &p.Y.Label.TextStyle,
-		&p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle,
+		&p.X.Tick.Label, &p.Y.Tick.Label,
 	} {
 		sty.Handler = textMeasure
 	}
-	p.X.Label.TextStyle.Font = font.From(sans, 10)
-	p.Y.Label.TextStyle.Font = font.From(sans, 10)
-	p.X.Tick.Label.Font = font.From(sans, 9)
-	p.Y.Tick.Label.Font = font.From(sans, 9)
-	p.Legend.TextStyle.Font = font.From(sans, 9)
-	p.Legend.ThumbnailWidth = vg.Points(22)
+	p.X.Label.TextStyle.Font = font.From(sans, LabelFontPt)
+	p.Y.Label.TextStyle.Font = font.From(sans, LabelFontPt)
+	p.X.Tick.Label.Font = font.From(sans, TickFontPt)
+	p.Y.Tick.Label.Font = font.From(sans, TickFontPt)
 	p.X.Padding, p.Y.Padding = 0, 0
 	p.X.Width, p.Y.Width = 0, 0 // the frame plotter draws the border
 	p.X.Tick.Length, p.Y.Tick.Length = vg.Points(4), vg.Points(4)
@@ -301,28 +328,128 @@ func (h *measuringHandler) Box(txt string, fnt font.Font) (width, height, depth 
 	return width, height, depth
 }
 
-// render writes the plots, stacked in one column and aligned, as SVG.
-func render(w io.Writer, width, height vg.Length, plots ...*plot.Plot) error {
+// legendEntry is one name of a figure's legend with its sample.
+type legendEntry struct {
+	name  string
+	thumb plot.Thumbnailer
+}
+
+// legend is the key of a figure, drawn by render in a strip above the top
+// panel, outside every data area, so that it never covers data.
+type legend []legendEntry
+
+// add appends an entry.
+func (l *legend) add(name string, t plot.Thumbnailer) { *l = append(*l, legendEntry{name, t}) }
+
+// The legend's layout, in points: the sample's width, the gap between the
+// sample and its name, between two entries, and between the strip and the
+// top panel.
+const (
+	legendThumbPt = 24
+	legendGapPt   = 5
+	legendSpacePt = 18
+	legendBelowPt = 6
+)
+
+// legendText is the style of the legend's names.
+var legendText = text.Style{Color: color.Black, Font: font.From(sans, TickFontPt), Handler: textMeasure, YAlign: draw.YCenter}
+
+// rowHeight is the height of one row of the legend.
+func (l legend) rowHeight() vg.Length { return vg.Length(TickFontPt) * 1.45 }
+
+// rows lays the entries out in rows no wider than width, left to right,
+// and returns the index of the first entry of each row.
+func (l legend) rows(width vg.Length) []int {
+	if len(l) == 0 {
+		return nil
+	}
+	starts := []int{0}
+	x := vg.Length(0)
+	for i, e := range l {
+		w := legendThumbPt + legendGapPt + legendText.Width(e.name)
+		if x > 0 && x+w > width {
+			starts = append(starts, i)
+			x = 0
+		}
+		x += w + legendSpacePt
+	}
+	return starts
+}
+
+// The padding of a figure round its panels, in points.
+var figureTiles = draw.Tiles{
+	Cols:   1,
+	PadTop: vg.Points(8), PadBottom: vg.Points(4),
+	PadLeft: vg.Points(4), PadRight: vg.Points(14),
+	PadY: vg.Points(10),
+}
+
+// render writes the plots, stacked in one column and aligned, as SVG, with
+// the legend lg in a strip above them, aligned with the data area's left
+// edge.
+func render(w io.Writer, width, height vg.Length, lg legend, plots ...*plot.Plot) error {
 	c := vgsvg.New(width, height)
 	dc := draw.New(c)
 	dc.SetColor(color.White)
 	dc.Fill(dc.Rectangle.Path())
-	tiles := draw.Tiles{
-		Rows: len(plots), Cols: 1,
-		PadTop: vg.Points(8), PadBottom: vg.Points(4),
-		PadLeft: vg.Points(4), PadRight: vg.Points(14),
-		PadY: vg.Points(10),
-	}
+	tiles := figureTiles
+	tiles.Rows = len(plots)
 	grid := make([][]*plot.Plot, len(plots))
 	for i, p := range plots {
 		grid[i] = []*plot.Plot{p}
 	}
-	canvases := plot.Align(grid, tiles, dc)
+	area := dc
+	var starts []int
+	var canvases [][]draw.Canvas
+	// The strip's height depends on the rows, the rows on where the data
+	// area starts, and that on the strip: lay out with one row, and again
+	// if the names need more.
+	for nRows := min(len(lg), 1); ; {
+		area.Max.Y = dc.Max.Y - vg.Length(nRows)*lg.rowHeight()
+		if nRows > 0 {
+			area.Max.Y -= legendBelowPt
+		}
+		canvases = plot.Align(grid, tiles, area)
+		if len(lg) == 0 {
+			break
+		}
+		da := plots[0].DataCanvas(canvases[0][0])
+		starts = lg.rows(dc.Max.X - tiles.PadRight - da.Min.X)
+		if len(starts) <= nRows {
+			drawLegend(dc, lg, starts, da.Min.X, dc.Max.Y-tiles.PadTop)
+			break
+		}
+		nRows = len(starts)
+	}
 	for i, p := range plots {
 		p.Draw(canvases[i][0])
 	}
 	_, err := c.WriteTo(w)
 	return err
+}
+
+// drawLegend draws the entries of lg in the rows that start at starts,
+// from x0, the first row's top at top.
+func drawLegend(dc draw.Canvas, lg legend, starts []int, x0, top vg.Length) {
+	rh := lg.rowHeight()
+	for r, first := range starts {
+		end := len(lg)
+		if r+1 < len(starts) {
+			end = starts[r+1]
+		}
+		mid := top - rh*vg.Length(r) - rh/2
+		x := x0
+		for _, e := range lg[first:end] {
+			th := vg.Length(TickFontPt) * 0.8
+			tc := dc
+			tc.Min = vg.Point{X: x, Y: mid - th/2}
+			tc.Max = vg.Point{X: x + legendThumbPt, Y: mid + th/2}
+			e.thumb.Thumbnail(&tc)
+			x += legendThumbPt + legendGapPt
+			dc.FillText(legendText, vg.Point{X: x, Y: mid}, e.name)
+			x += legendText.Width(e.name) + legendSpacePt
+		}
+	}
 }
 
 // finite reports whether v is neither NaN nor infinite.
@@ -486,21 +613,17 @@ func simplify(keep []bool, l []vg.Point, tol vg.Length) []bool {
 func (c curve) Thumbnail(dc *draw.Canvas) { c.line.Thumbnail(dc) }
 
 // addCurves adds the lines through the points of each curve with at least
-// two points to p, and, if legend is set, their names to p's legend; it
-// returns the points drawn, for placeLegend.
-func addCurves(p *plot.Plot, legend bool, curves ...curve) []plotter.XYs {
-	var drawn []plotter.XYs
+// two points to p and, if lg is not nil, their names to lg.
+func addCurves(p *plot.Plot, lg *legend, curves ...curve) {
 	for _, c := range curves {
 		if len(c.line.XYs) < 2 {
 			continue
 		}
 		p.Add(c)
-		if legend {
-			p.Legend.Add(c.name, c)
+		if lg != nil {
+			lg.add(c.name, c)
 		}
-		drawn = append(drawn, c.line.XYs)
 	}
-	return drawn
 }
 
 // idealCurve and builtCurve style the two curves of every plot.
@@ -510,41 +633,6 @@ func idealCurve(pts plotter.XYs) curve {
 
 func builtCurve(pts plotter.XYs) curve {
 	return curve{&plotter.Line{XYs: pts, LineStyle: builtStyle}, builtName}
-}
-
-// placeLegend puts the legend in the corner of the data area that the
-// curves cross least (top right first on a tie).
-func placeLegend(p *plot.Plot, curves ...plotter.XYs) {
-	type corner struct{ top, left bool }
-	corners := []corner{{true, false}, {true, true}, {false, false}, {false, true}}
-	// Each point is placed once (the axes' Norm is most of the cost).
-	var counts [4]int
-	for _, pts := range curves {
-		for _, pt := range pts {
-			x, y := p.X.Norm(pt.X), p.Y.Norm(pt.Y)
-			for i, c := range corners {
-				inX := (c.left && x < 0.3) || (!c.left && x > 0.7)
-				inY := (c.top && y > 0.72) || (!c.top && y < 0.28)
-				if inX && inY {
-					counts[i]++
-				}
-			}
-		}
-	}
-	best, bestN := corners[0], math.MaxInt
-	for i, c := range corners {
-		if n := counts[i]; n < bestN {
-			best, bestN = c, n
-		}
-	}
-	p.Legend.Top, p.Legend.Left = best.top, best.left
-	p.Legend.XOffs, p.Legend.YOffs = vg.Points(-8), vg.Points(-5)
-	if best.left {
-		p.Legend.XOffs = vg.Points(8)
-	}
-	if !best.top {
-		p.Legend.YOffs = vg.Points(5)
-	}
 }
 
 // setRanges sets the axis ranges of p. It must come after the last p.Add,

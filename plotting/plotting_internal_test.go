@@ -14,25 +14,27 @@ import (
 	"github.com/polewright/polewright/synth/circuit"
 )
 
-// The SVG holds the curves, one shaded path per forbidden region, and only
-// fixed or numeric text.
+// The SVG holds the curves, one shaded path per forbidden region (and one
+// for the mask's legend sample), and only fixed or numeric text.
 func TestStructure(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
-		name    string
-		spec    string
-		built   bool
-		regions int // forbidden regions of the mask
+		name      string
+		spec      string
+		built     bool
+		regions   int // forbidden regions of the mask
+		pbRegions int // those of the passband plot: the passband(s)
 	}{
-		{"lowpass", lowpassSpec, true, 2},
-		{"lowpass-ideal", lowpassSpec, false, 2},
-		{"bandpass", bandpassSpec, true, 3},
-		{"bandstop", bandstopSpec, true, 3},
-		{"highpass-no-stopband", highpassSpec, true, 1},
+		{"lowpass", lowpassSpec, true, 2, 1},
+		{"lowpass-ideal", lowpassSpec, false, 2, 1},
+		{"bandpass", bandpassSpec, true, 3, 1},
+		{"bandstop", bandstopSpec, true, 3, 2},
+		{"highpass-no-stopband", highpassSpec, true, 1, 1},
 	}
 	allowed := map[string]bool{
 		"Magnitude (dB)": true, "Phase (°)": true, "Frequency (Hz)": true,
 		"Step response (V/V)": true, idealName: true, builtName: true,
+		"Magnitude (dB), passband": true, maskName: true,
 	}
 	for _, tc := range cases {
 		d := idealDesign(t, tc.spec)
@@ -70,9 +72,12 @@ func TestStructure(t *testing.T) {
 						require.NotContains(t, p.D, "Inf")
 					}
 				}
-				if pf.name == "bode" {
-					require.Equal(t, tc.regions, doc.count(maskFillSVG), "mask regions")
-				} else {
+				switch pf.name {
+				case "bode":
+					require.Equal(t, tc.regions+1, doc.count(maskFillSVG), "mask regions and the legend's sample")
+				case "passband":
+					require.Equal(t, tc.pbRegions+1, doc.count(maskFillSVG), "passband regions and the legend's sample")
+				default:
 					require.Zero(t, doc.count(maskFillSVG))
 				}
 
@@ -204,6 +209,7 @@ func TestNilDesign(t *testing.T) {
 	require.ErrorIs(t, Bode(&buf, nil, Options{}), ErrNilDesign)
 	require.ErrorIs(t, GroupDelay(&buf, nil, Options{}), ErrNilDesign)
 	require.ErrorIs(t, Step(&buf, nil, Options{}), ErrNilDesign)
+	require.ErrorIs(t, Passband(&buf, nil, Options{}), ErrNilDesign)
 	require.Zero(t, buf.Len())
 }
 
@@ -235,10 +241,10 @@ func TestOptionsSize(t *testing.T) {
 		opt          Options
 		wantW, wantH float64
 	}{
-		{"default", Options{}, 520, 260},
+		{"default", Options{}, DefaultWidthPt, DefaultHeightPt},
 		{"given", Options{WidthPt: 300, HeightPt: 200}, 300, 200},
 		{"clamped", Options{WidthPt: 10, HeightPt: 1e6}, MinSizePt, MaxSizePt},
-		{"invalid", Options{WidthPt: math.NaN(), HeightPt: math.Inf(1)}, 520, 260},
+		{"invalid", Options{WidthPt: math.NaN(), HeightPt: math.Inf(1)}, DefaultWidthPt, DefaultHeightPt},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -281,61 +287,44 @@ func TestMaskRegions(t *testing.T) {
 	}
 }
 
+// The magnitude axis is one linear scale from 30 dB below the stopband
+// floor to 5 % of its span above the gain or the curves' peak.
 func TestMagAxis(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
-		name                 string
-		gain, amax, amin     float64
-		stop                 bool
-		peak                 float64
-		wantLo, wantHi, wPiv float64
-		split                bool
+		name           string
+		gain, amin     float64
+		stop           bool
+		peak           float64
+		wantLo, wantHi float64
 	}{
-		// depth = 2·Amax; top = gain + depth/4; floor = gain − Amin − 30.
-		{"chebyshev", 0, 0.5, 50, true, 0, -80, 0.25, -1, true},
-		{"gain", 20, 1, 40, true, 20, -50, 20.5, 18, true},
-		{"no-stopband", 0, 3, 0, false, 0, -80, 1.5, -6, true},
-		{"peaking-built", 0, 1, 40, true, 3, -70, 3.25, -2, true},
-		{"shallow", 0, 6, 1, true, 0, -31, 3, -12, false},
+		// floor = gain − Amin − 30; top = max(gain, peak) + max(5 % of the span, 1).
+		{"chebyshev", 0, 50, true, 0, -80, 4},
+		{"gain", 20, 40, true, 20, -50, 23.5},
+		{"no-stopband", 0, 0, false, 0, -80, 4},
+		{"peaking-built", 0, 40, true, 3, -70, 6.65},
+		{"shallow", 0, 1, true, 0, -31, 1.55},
+		{"runaway-peak", 0, 40, true, 100, -70, 45.5},
+		{"unknown-peak", 0, 40, true, math.NaN(), -70, 3.5},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			a := newMagAxis(tc.gain, tc.amax, tc.amin, tc.stop, tc.peak)
+			a := newMagAxis(tc.gain, tc.amin, tc.stop, tc.peak)
 			require.InDelta(t, tc.wantLo, a.lo, 1e-12)
 			require.InDelta(t, tc.wantHi, a.hi, 1e-12)
-			require.InDelta(t, tc.wPiv, a.pivot, 1e-12)
-			require.Equal(t, tc.split, a.split)
 			ticks := a.ticks()
-			require.NotEmpty(t, ticks)
-			s := splitScale{pivot: a.pivot, frac: 1 - zoomFrac}
-			prev := math.Inf(-1)
-			for _, tk := range ticks {
+			require.GreaterOrEqual(t, len(ticks), 3)
+			// Evenly spaced: one scale, no break.
+			step := ticks[1].Value - ticks[0].Value
+			for i, tk := range ticks {
 				require.GreaterOrEqual(t, tk.Value, a.lo-1e-9)
 				require.LessOrEqual(t, tk.Value, a.hi+1e-9)
-				require.Greater(t, tk.Value, prev)
-				if a.split {
-					// No two labels closer than 6 % of the axis.
-					y := s.Normalize(a.lo, a.hi, tk.Value)
-					if !math.IsInf(prev, -1) {
-						require.Greater(t, y-s.Normalize(a.lo, a.hi, prev), 0.06, "ticks %v", ticks)
-					}
+				if i > 0 {
+					require.InDelta(t, step, tk.Value-ticks[i-1].Value, 1e-9*step)
 				}
-				prev = tk.Value
 			}
 		})
-	}
-}
-
-func TestSplitScale(t *testing.T) {
-	t.Parallel()
-	s := splitScale{pivot: -2, frac: 0.6}
-	cases := []struct{ x, want float64 }{
-		{-62, 0}, {-2, 0.6}, {0.5, 1}, {-32, 0.3}, {-0.75, 0.8},
-		{-122, -0.6}, {3, 1.4}, // beyond the ends: the nearer segment continues
-	}
-	for _, tc := range cases {
-		require.InDelta(t, tc.want, s.Normalize(-62, 0.5, tc.x), 1e-12, "x = %v", tc.x)
 	}
 }
 

@@ -25,7 +25,7 @@ func TestPublicAsBuilt(t *testing.T) {
 	for _, tc := range []struct {
 		name string
 		fn   func(io.Writer, *synth.Design, plotting.Options) error
-	}{{"bode", plotting.Bode}, {"delay", plotting.GroupDelay}, {"step", plotting.Step}} {
+	}{{"bode", plotting.Bode}, {"passband", plotting.Passband}, {"delay", plotting.GroupDelay}, {"step", plotting.Step}} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			var buf bytes.Buffer

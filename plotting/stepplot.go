@@ -121,7 +121,8 @@ func drawStep(w io.Writer, s *stepSeries, opt Options) error {
 	if finite(final) {
 		p.Add(hline{y: final, sty: guideStyle})
 	}
-	drawn := addCurves(p, true,
+	var lg legend
+	addCurves(p, &lg,
 		idealCurve(points(x, yIdeal, lo-span, hi+span)),
 		builtCurve(points(x, yBuilt, lo-span, hi+span)))
 	var errPlot *plot.Plot
@@ -148,7 +149,7 @@ func drawStep(w io.Writer, s *stepSeries, opt Options) error {
 				p.Add(bandRect{x0: st.at / scale, x1: end / scale, y0: fin - band, y1: fin + band})
 				m := vline{x: st.at / scale, sty: settleStyle}
 				p.Add(m)
-				p.Legend.Add(st.markerName(), m)
+				lg.add(st.markerName(), m)
 			}
 			p.HideX()
 			p.X.Label.Text = ""
@@ -157,18 +158,17 @@ func drawStep(w io.Writer, s *stepSeries, opt Options) error {
 	}
 	p.Add(frame{})
 	setRanges(p, 0, end/scale, lo, hi)
-	placeLegend(p, drawn...)
 	if errPlot == nil {
 		width, height := opt.size(DefaultWidthPt, DefaultHeightPt)
-		return render(w, width, height, p)
+		return render(w, width, height, lg, p)
 	}
 	width, height := opt.size(DefaultWidthPt, DefaultStepSettlingHeightPt)
-	return render(w, width, height, p, errPlot)
+	return render(w, width, height, lg, p, errPlot)
 }
 
 // DefaultStepSettlingHeightPt is the height of [Step] with its settling
 // panel (a design with Design.Step).
-const DefaultStepSettlingHeightPt = 440
+const DefaultStepSettlingHeightPt = 480
 
 // settling is what the step plot marks of Design.Step: the band as a
 // fraction of the final value, the as-built settling time (NaN when
@@ -312,7 +312,7 @@ func settlingErrorPlot(st *settling, x, eIdeal, eBuilt []float64, end float64, x
 	// Below the axis floor a curve is clamped just under it, so that it
 	// leaves the panel cleanly (the axis is logarithmic: no zeros).
 	floor, ceil := lo/2, hi*2
-	addCurves(p, false,
+	addCurves(p, nil,
 		idealCurve(log10Points(points(x, eIdeal, floor, ceil))),
 		builtCurve(log10Points(points(x, eBuilt, floor, ceil))))
 	if finite(st.at) {

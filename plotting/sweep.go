@@ -31,9 +31,21 @@ type sweep struct {
 	idealGD, builtGD []float64
 }
 
+// sweepData remembers the sweeps of the last designs drawn by [Bode],
+// [GroupDelay] and [Passband], with the design's own circuit: the three
+// share the as-built phase and delay, computed once.
+var sweepData = &designMemo[*sweep]{}
+
+// designSweep returns the sweep of d with its circuit as built, from
+// sweepData. Callers must not change it.
+func designSweep(d *synth.Design) *sweep {
+	return sweepData.get(d, func(d *synth.Design) *sweep { return newSweep(d, usable(asBuilt(d))) })
+}
+
 // newSweep collects the curves of d and, when tfs is not nil, of the
-// circuit as built.
-func newSweep(d *synth.Design, tfs circuit.Cascade) sweep {
+// circuit as built. The as-built phase is put on the ideal one's branch
+// (see alignPhase).
+func newSweep(d *synth.Design, tfs circuit.Cascade) *sweep {
 	r := d.Response
 	idx := make([]int, 0, len(r.FreqHz))
 	for i, f := range r.FreqHz {
@@ -77,8 +89,85 @@ func newSweep(d *synth.Design, tfs circuit.Cascade) sweep {
 		} else {
 			sw.builtPh = unwrapDeg(tfs.Response(nil, sw.f))
 		}
+		if sw.idealPh != nil {
+			sw.builtPh = alignPhase(sw.builtPh, sw.idealPh, sw.f, notchesHz(d))
+		}
 	}
-	return sw
+	return &sw
+}
+
+// notchRel is the half width, relative to its frequency, of the stretch
+// round a notch of the ideal filter over which alignPhase keeps the
+// as-built phase on its branch from before the notch.
+const notchRel = 0.05
+
+// notchesHz returns the frequencies of the ideal filter's zeros on the jω
+// axis (w > 0), ascending.
+func notchesHz(d *synth.Design) []float64 {
+	var out []float64
+	for _, z := range d.Zeros {
+		if z[1] > 0 && math.Abs(z[0]) <= 1e-9*math.Hypot(z[0], z[1]) {
+			out = append(out, z[1]/(2*math.Pi))
+		}
+	}
+	slices.Sort(out)
+	return out
+}
+
+// alignPhase returns the as-built phase built (degrees, equal to the
+// circuit's phase modulo 360°) moved by whole turns onto the branch of the
+// ideal phase ideal on the same grid fHz, so that the two are drawn alike:
+//
+//   - at the lowest frequency, the difference built − ideal is taken in
+//     (−180°, 180°] (one anchor, one branch for both);
+//   - from point to point it changes by less than 180° (it is unwrapped
+//     along the grid, as the phase itself would be), so that a real
+//     difference that grows (the op-amps' lag far above the passband) is
+//     shown as it grows;
+//   - within notchRel of an ideal notch (a zero on the jω axis, listed in
+//     notchesHz), and on leaving that stretch, the difference is taken
+//     within 180° of its value just before it. The ideal phase steps by
+//     +180° at such a zero; the circuit's zero lies a little off the axis,
+//     and when it lies to the right its phase turns by −180° instead, so
+//     that the two curves would part by 360° per notch. The as-built
+//     curve's turn at the notch therefore goes the same way as the ideal
+//     one's.
+//
+// Points where either phase is not finite are left as they are and do not
+// move the reference.
+func alignPhase(built, ideal, fHz, notches []float64) []float64 {
+	out := make([]float64, len(built))
+	prev, before := math.NaN(), 0.0 // the last difference; the one before the current notch
+	inNotch := false
+	for i, b := range built {
+		out[i] = b
+		if i >= len(ideal) || i >= len(fHz) || !finite(b) || !finite(ideal[i]) {
+			continue
+		}
+		near := false
+		for _, n := range notches {
+			if math.Abs(fHz[i]/n-1) < notchRel {
+				near = true
+				break
+			}
+		}
+		ref := prev
+		switch {
+		case math.IsNaN(prev):
+			ref = 0
+		case near && !inNotch:
+			before = prev
+			ref = before
+		case near || inNotch:
+			ref = before
+		}
+		inNotch = near
+		diff := b - ideal[i]
+		diff -= 360 * math.Round((diff-ref)/360)
+		out[i] = ideal[i] + diff
+		prev = diff
+	}
+	return out
 }
 
 // fallbackGrid returns log-spaced frequencies a decade beyond the spec's

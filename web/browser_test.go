@@ -169,7 +169,7 @@ func TestBrowser(t *testing.T) {
 	if realDeps().Plots == nil {
 		t.Log("plot checks skipped: this build has no plotting package wired in")
 	} else {
-		require.Equal(t, 4, plots, "magnitude/phase, group delay, step and the noise density")
+		require.Equal(t, 5, plots, "magnitude/phase, passband, group delay, step and the noise density")
 		curves := step(t, ctx, "curves", chromedp.Evaluate[int](bodeCurvesJS))
 		require.GreaterOrEqual(t, curves, 2, "ideal and as-built magnitude curves at least")
 		mask := step(t, ctx, "mask", chromedp.Evaluate[int](bodeMaskJS))

@@ -97,7 +97,9 @@
 // are drawn; a nil one leaves its part out of the page. The SVG they write
 // is inlined into the page with its XML prolog removed. A Plots that also
 // implements [NoisePlots] draws the noise density plot, which the page
-// shows and offers as GET /download/noise-svg. A downloaded SVG carries
+// shows and offers as GET /download/noise-svg; one that implements
+// [PassbandPlots] draws the passband plot (passband-svg), shown after the
+// magnitude and phase plot. A downloaded SVG carries
 // a <title> and the spec ([export.LabelSVG]) and every download is named
 // after the design ([export.DesignFileName]).
 //

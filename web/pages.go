@@ -164,7 +164,7 @@ func (h *handler) export(w io.Writer, d *synth.Design, kind string) error {
 	var draw func(io.Writer) error // nil: not a plot Deps.Plots draws
 	if p := h.deps.Plots; p != nil {
 		for _, pk := range plotKinds {
-			if pk.kind == kind {
+			if pk.kind == kind && pk.drawnBy(p) {
 				draw = func(w io.Writer) error { return pk.draw(p, w, d) }
 			}
 		}
@@ -455,6 +455,7 @@ var downloadKinds = map[string]struct {
 	"bom":           {"Bill of materials", "CSV", true, false},
 	"json":          {"Design", "JSON", false, false},
 	"bode-svg":      {"Magnitude and phase", "SVG", false, true},
+	"passband-svg":  {"Passband", "SVG", false, true},
 	"delay-svg":     {"Group delay", "SVG", false, true},
 	"step-svg":      {"Step response", "SVG", false, true},
 	"noise-svg":     {"Output noise", "SVG", true, true},

@@ -62,7 +62,7 @@ func TestReportBrowser(t *testing.T) {
 	svgs := step(t, ctx, "drawings", chromedp.Evaluate[int](`[...document.querySelectorAll("svg")].filter(s => s.getBoundingClientRect().width > 100).length`))
 	stages := step(t, ctx, "stages", chromedp.Evaluate[int](`document.querySelectorAll('[data-testid="stage"]').length`))
 	require.Positive(t, stages)
-	require.Equal(t, 4+stages, svgs, "four plots and one schematic per stage, drawn")
+	require.Equal(t, 5+stages, svgs, "five plots and one schematic per stage, drawn")
 	step(t, ctx, "phone", chromedp.EmulateViewport(390, 844, chromedp.EmulateMobile))
 	// Against the device's width: a mobile viewport widens itself to
 	// content that overflows it.

@@ -10,7 +10,6 @@ import (
 	"log/slog"
 	"regexp"
 	"runtime/debug"
-	"slices"
 	"strconv"
 	"sync"
 
@@ -75,9 +74,14 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 	// drawn concurrently.
 	var wg sync.WaitGroup
 	var plots []components.Plot
+	wanted := 0 // the plots Deps.Plots draws
 	if h.deps.Plots != nil {
 		plots = make([]components.Plot, len(plotKinds))
 		for i, pk := range plotKinds {
+			if !pk.drawnBy(h.deps.Plots) {
+				continue
+			}
+			wanted++
 			wg.Go(func() {
 				svg, err := drawSVG(func(w io.Writer) error { return pk.draw(h.deps.Plots, w, d) })
 				if err != nil {
@@ -155,7 +159,13 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 			res.Plots = append(res.Plots, p)
 		}
 	}
-	if h.deps.Plots != nil && slices.ContainsFunc(plots, func(p components.Plot) bool { return p.SVG == nil }) {
+	drawn := 0
+	for _, p := range plots {
+		if p.SVG != nil {
+			drawn++
+		}
+	}
+	if h.deps.Plots != nil && drawn < wanted {
 		res.Notes = append(res.Notes, "Some plots could not be drawn and are left out.")
 	}
 	if h.deps.Plots == nil {
@@ -180,18 +190,33 @@ func (h *handler) logWarn(ctx context.Context, msg string, err error, attrs ...s
 	h.log.LogAttrs(ctx, slog.LevelWarn, msg, attrs...)
 }
 
-// plotKinds are the plots of the result page, in order, with the export
-// kind of their download.
-var plotKinds = []struct {
+// plotKind is a plot of the result page with the export kind of its
+// download.
+type plotKind struct {
 	kind, title, caption string
 	draw                 func(p Plots, w io.Writer, d *synth.Design) error
-}{
-	{"bode-svg", "Magnitude and phase", "Magnitude against the mask (shaded: forbidden), ideal and as built; phase below. The top of the magnitude scale is stretched to show the passband ripple.",
-		func(p Plots, w io.Writer, d *synth.Design) error { return p.Bode(w, d) }},
-	{"delay-svg", "Group delay", "Group delay, ideal and as built.",
-		func(p Plots, w io.Writer, d *synth.Design) error { return p.GroupDelay(w, d) }},
-	{"step-svg", "Step response", "Response to a unit step at the input, ideal and as built.",
-		func(p Plots, w io.Writer, d *synth.Design) error { return p.Step(w, d) }},
+	// optional, when set, reports whether p draws the plot (an optional
+	// interface of [Plots]); nil: every Plots does.
+	optional func(p Plots) bool
+}
+
+// drawnBy reports whether p draws the plot.
+func (pk plotKind) drawnBy(p Plots) bool { return pk.optional == nil || pk.optional(p) }
+
+// plotKinds are the plots of the result page, in order.
+var plotKinds = []plotKind{
+	{kind: "bode-svg", title: "Magnitude and phase", caption: "Magnitude against the mask (shaded: forbidden), ideal and as built, on one dB scale; phase below. The passband's ripple is on the next plot.",
+		draw: func(p Plots, w io.Writer, d *synth.Design) error { return p.Bode(w, d) }},
+	{kind: "passband-svg", title: "Passband", caption: export.PassbandCaption,
+		draw: func(p Plots, w io.Writer, d *synth.Design) error { return p.(PassbandPlots).Passband(w, d) },
+		optional: func(p Plots) bool {
+			_, ok := p.(PassbandPlots)
+			return ok
+		}},
+	{kind: "delay-svg", title: "Group delay", caption: "Group delay, ideal and as built.",
+		draw: func(p Plots, w io.Writer, d *synth.Design) error { return p.GroupDelay(w, d) }},
+	{kind: "step-svg", title: "Step response", caption: "Response to a unit step at the input, ideal and as built.",
+		draw: func(p Plots, w io.Writer, d *synth.Design) error { return p.Step(w, d) }},
 }
 
 // FigureWidthPx is the width, in CSS pixels, at which the result page

@@ -58,6 +58,15 @@ type NoisePlots interface {
 	Noise(w io.Writer, d *synth.Design) error
 }
 
+// PassbandPlots is what a [Plots] may also draw: the magnitude over the
+// passband against its limits. When Deps.Plots implements it, the result
+// page shows that plot after the magnitude and phase plot; the download
+// passband-svg is the page's plot, else [export.Write]'s.
+type PassbandPlots interface {
+	// Passband writes the passband plot of d.
+	Passband(w io.Writer, d *synth.Design) error
+}
+
 // Schematics draws the circuit of one stage of a chain as an SVG document.
 type Schematics interface {
 	// Stage writes the schematic of ch.Stages[stage-1] (stage is 1-based),

@@ -193,6 +193,8 @@ func TestExports(t *testing.T) {
 			switch kind {
 			case "bode-svg":
 				err = plots.Bode(&page, d)
+			case "passband-svg":
+				err = plots.Passband(&page, d)
 			case "delay-svg":
 				err = plots.GroupDelay(&page, d)
 			case "step-svg":

@@ -91,6 +91,7 @@ func TestExportSVGKinds(t *testing.T) {
 		{"noise-svg", "output noise density"},
 		{"schematic-svg", "schematic, every stage"},
 		{"bode-svg", "magnitude and phase"},
+		{"passband-svg", "magnitude over the passband"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.kind, func(t *testing.T) {

@@ -7,7 +7,7 @@
 //	polewright help                            this usage (also -h, --help)
 //	polewright serve  [-addr 127.0.0.1:8080]   the workbench in a browser
 //	polewright design -spec FILE               design as JSON on stdout
-//	polewright export -spec FILE -as KIND      KIND: spice | bom | json | bode-svg | delay-svg | step-svg |
+//	polewright export -spec FILE -as KIND      KIND: spice | bom | json | bode-svg | passband-svg | delay-svg | step-svg |
 //	                                           noise-svg | schematic-svg | report | parts
 //
 // -spec - reads standard input. A spec that cannot be built exits with

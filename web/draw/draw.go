@@ -34,6 +34,14 @@ func (p Plots) GroupDelay(w io.Writer, d *synth.Design) error {
 // Step writes the step response plot of d.
 func (p Plots) Step(w io.Writer, d *synth.Design) error { return plotting.Step(w, d, p.Options) }
 
+var _ web.PassbandPlots = Plots{}
+
+// Passband writes the magnitude over the passband of d, with the mask's
+// passband limits.
+func (p Plots) Passband(w io.Writer, d *synth.Design) error {
+	return plotting.Passband(w, d, p.Options)
+}
+
 var _ web.NoisePlots = Plots{}
 
 // Noise writes the output noise density plot of d.

@@ -18,7 +18,7 @@ import (
 )
 
 // Kinds are the export kinds, as the CLI's -as and the API's ?as= take them.
-var Kinds = []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report", "parts"}
+var Kinds = []string{"spice", "bom", "json", "bode-svg", "passband-svg", "delay-svg", "step-svg", "noise-svg", "schematic-svg", "report", "parts"}
 
 // ErrKind is returned by [Write] for a kind not in [Kinds].
 var ErrKind = errors.New("export: unknown kind")
@@ -89,7 +89,7 @@ func Write(w io.Writer, d *synth.Design, kind string) error {
 		if ch, err = d.Chain(); err == nil {
 			err = ch.WriteBOM(&buf)
 		}
-	case "bode-svg", "delay-svg", "step-svg", "noise-svg":
+	case "bode-svg", "passband-svg", "delay-svg", "step-svg", "noise-svg":
 		err = writePlot(&buf, d, kind)
 	case "schematic-svg":
 		err = writeSchematics(&buf, d)

@@ -92,6 +92,7 @@ func TestSVGExports(t *testing.T) {
 				var doc svgDoc
 				require.NoError(t, xml.Unmarshal(b.Bytes(), &doc))
 				require.Contains(t, doc.Title, export.Describe(d))
+				require.Regexp(t, `, [a-z][a-z ,]+$`, doc.Title, "the title names what is drawn")
 				require.True(t, strings.HasPrefix(doc.Desc, "spec: "), doc.Desc)
 				back, err := synth.ParseSpecBytes([]byte(strings.TrimPrefix(doc.Desc, "spec: ")))
 				require.NoError(t, err)

@@ -18,6 +18,7 @@ var fileSuffixes = map[string]string{
 	"parts":         "-parts.csv",
 	"json":          "-design.json",
 	"bode-svg":      "-bode.svg",
+	"passband-svg":  "-passband.svg",
 	"delay-svg":     "-delay.svg",
 	"step-svg":      "-step.svg",
 	"noise-svg":     "-noise.svg",
@@ -28,6 +29,7 @@ var fileSuffixes = map[string]string{
 // kindTitles name what each SVG kind draws, for its <title>.
 var kindTitles = map[string]string{
 	"bode-svg":      "magnitude and phase",
+	"passband-svg":  "magnitude over the passband",
 	"delay-svg":     "group delay",
 	"step-svg":      "step response",
 	"noise-svg":     "output noise density",

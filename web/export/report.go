@@ -143,6 +143,8 @@ func newReport(d *synth.Design) (*report, error) {
 	drawings := []drawing{
 		{"bode", "Magnitude and phase", "Magnitude against the mask (shaded: forbidden), ideal and as built; phase below.",
 			func(w io.Writer) error { return plotting.Bode(w, d, plotting.Options{}) }},
+		{"passband", "Passband", passbandCaption,
+			func(w io.Writer) error { return plotting.Passband(w, d, plotting.Options{}) }},
 		{"delay", "Group delay", "Group delay, ideal and as built.",
 			func(w io.Writer) error { return plotting.GroupDelay(w, d, plotting.Options{}) }},
 		{"step", "Step response", "Response to a unit step at the input, ideal and as built.",
