@@ -68,6 +68,25 @@ const schematicTextJS = `(() => {
 	return [box, font, n];
 })()`
 
+// plotTextJS measures the text of every plot on the page as the
+// schematicTextJS does the schematics': the least height of a text box, the
+// least drawn font size and the number of text nodes.
+const plotTextJS = `(() => {
+	let box = Infinity, font = Infinity, n = 0;
+	for (const svg of document.querySelectorAll('[data-testid^="plot-"] svg')) {
+		const scale = svg.getScreenCTM().a;
+		for (const t of svg.querySelectorAll("text")) {
+			if (t.textContent.trim() === "") { continue; }
+			const r = t.getBoundingClientRect();
+			if (r.width === 0 && r.height === 0) { continue; } // folded away
+			box = Math.min(box, r.height);
+			font = Math.min(font, parseFloat(getComputedStyle(t).fontSize) * scale);
+			n++;
+		}
+	}
+	return [box, font, n];
+})()`
+
 // formAgreesJS compares the spec form with the page it is on: every
 // control holds the value the server rendered (its default), and every
 // spec parameter of the page's address is in its control. It returns the
@@ -98,7 +117,8 @@ const formAgreesJS = `(() => {
 // TestBrowserLayout drives the result page in headless chromium at a
 // desktop width (1440 px) and a phone's (390 px): every table fits its
 // container, the page never scrolls sideways, the plots are drawn at
-// FigureWidthPx, the schematics' text is at least 11 px on the desktop,
+// FigureWidthPx, the plots' and the schematics' text is at least 11 px on
+// the desktop,
 // and after back and forward the form agrees with the page shown. With
 // POLEWRIGHT_SCREENSHOTS=1 it writes the README's screenshots to
 // testdata.
@@ -132,6 +152,11 @@ func TestBrowserLayout(t *testing.T) {
 			css := step(t, ctx, "--figure-width", chromedp.Evaluate[string](
 				`getComputedStyle(document.documentElement).getPropertyValue("--figure-width").trim()`))
 			require.Equal(t, strconv.Itoa(web.FigureWidthPx)+"px", css, "the style sheet says FigureWidthPx")
+			pm := step(t, ctx, "plot text", chromedp.Evaluate[[]float64](plotTextJS))
+			require.Positive(t, pm[2], "plots with text")
+			t.Logf("plot text at 1440 px: %.0f nodes, boxes at least %.1f px high, fonts at least %.1f px", pm[2], pm[0], pm[1])
+			require.GreaterOrEqual(t, pm[0], 11.0, "every plot text box is at least 11 px high")
+			require.GreaterOrEqual(t, pm[1], 11.0, "every plot font is drawn at 11 px or more")
 		}
 		m := step(t, ctx, "schematic text", chromedp.Evaluate[[]float64](schematicTextJS))
 		require.Positive(t, m[2], "schematics with text")

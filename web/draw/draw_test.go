@@ -7,7 +7,9 @@ import (
 
 	"github.com/stretchr/testify/require"
 
+	"github.com/polewright/polewright/plotting"
 	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/web"
 	"github.com/polewright/polewright/web/draw"
 )
 
@@ -38,4 +40,10 @@ func TestDraw(t *testing.T) {
 	require.Contains(t, b.String(), ch.Ref(1, ch.Stages[0].Parts[0].Ref), "chain-wide designators")
 	require.Error(t, deps.Schematics.Stage(&b, ch, 0))
 	require.Error(t, deps.Schematics.Stage(&b, ch, len(ch.Stages)+1))
+}
+
+// TestFigureWidthAgrees: the page shows its plots at web.FigureWidthPx,
+// and plotting sizes their text for plotting.PageFigureWidthPx: one width.
+func TestFigureWidthAgrees(t *testing.T) {
+	require.Equal(t, web.FigureWidthPx, plotting.PageFigureWidthPx)
 }
