@@ -113,3 +113,21 @@ func TestFormResetsOnShow(t *testing.T) {
 	require.Regexp(t, `id="f-passband_hz" name="passband_hz" value="20000"`, result)
 	require.Regexp(t, `id="f-stopband_hz" name="stopband_hz" value="180000"`, result)
 }
+
+// TestFormStartsFromConverter: on the start page and under a result the
+// form's first panel is the converter's ("what does it need?"), before
+// the response, the mask and the converter fields it fills.
+func TestFormStartsFromConverter(t *testing.T) {
+	t.Parallel()
+	h, _ := newHandler(t)
+	for _, path := range []string{"/", "/design?" + elliptic8Query} {
+		page := do(t, h, "GET", path, "").Body.String()
+		form := strings.Index(page, `data-testid="spec-form"`)
+		require.Positive(t, form, path)
+		panel := strings.Index(page[form:], `data-testid="converter-panel"`)
+		require.Positive(t, panel, "%s: the converter panel is in the form", path)
+		first := strings.Index(page[form:], "<fieldset")
+		require.Less(t, panel-first, 40, "%s: the converter panel is the form's first fieldset", path)
+		require.Contains(t, page[form+panel:], "Start from the converter")
+	}
+}

@@ -316,7 +316,7 @@ func missingConverterField(vals formValues) string {
 const helperNote = "For an anti-alias lowpass in front of a converter: the passband edge becomes the signal bandwidth fb, the stopband edge " +
 	"fs − fb (the lowest frequency that folds back into the signal band) and the attenuation " +
 	"6.02·N + 1.76 dB (the ideal N-bit quantisation SNR, common practice). Both stay editable. " +
-	"An empty sample rate or resolution is taken from the converter fields above."
+	"An empty sample rate or resolution is taken from the converter fields below."
 
 // helperFallback names the converter field whose value the helper uses
 // when its own is empty.

@@ -67,7 +67,7 @@ const (
 	groupBench   = "Tolerances and Monte Carlo"
 	groupConv    = "Converter (optional)"
 	groupBoard   = "Supply and the op-amp's DC and parasitics (optional)"
-	groupHelper  = "From a converter"
+	groupHelper  = "Start from the converter: what does it need?"
 )
 
 // specFields are the spec's fields as the form and the query carry them,
