@@ -300,7 +300,7 @@ func magnitudePlot(d *synth.Design, sw *sweep, lg *legend) *plot.Plot {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
-	p.X.Scale = plot.LogScale{}
+	p.X.Scale = &logScale{}
 	p.HideX()
 
 	gainDB, amax, amin, stop := specLosses(d, sw)
@@ -341,7 +341,7 @@ func phasePlot(sw *sweep) *plot.Plot {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
-	p.X.Scale = plot.LogScale{}
+	p.X.Scale = &logScale{}
 	p.X.Tick.Marker = plot.ConstantTicks(xt)
 	p.X.Label.Text = "Frequency (Hz)"
 

@@ -20,7 +20,7 @@ func drawGroupDelay(w io.Writer, sw *sweep, opt Options) error {
 	p := newPlot()
 	fLo, fHi := sw.f[0], sw.f[len(sw.f)-1]
 	xt := freqTicks(fLo, fHi)
-	p.X.Scale = plot.LogScale{}
+	p.X.Scale = &logScale{}
 	p.X.Tick.Marker = plot.ConstantTicks(xt)
 	p.X.Label.Text = "Frequency (Hz)"
 

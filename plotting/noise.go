@@ -99,7 +99,7 @@ func Noise(w io.Writer, d *synth.Design, opt Options) error {
 
 	p := newPlot()
 	xt := freqTicks(fLo, fHi)
-	p.X.Scale = plot.LogScale{}
+	p.X.Scale = &logScale{}
 	p.X.Tick.Marker = plot.ConstantTicks(xt)
 	p.X.Label.Text = "Frequency (Hz)"
 	yt := log10Axis(logTicks(lo, hi))

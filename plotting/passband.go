@@ -206,7 +206,7 @@ func drawPassband(w io.Writer, d *synth.Design, sw *sweep, tfs circuit.Cascade, 
 
 	p := newPlot()
 	xt := zoomFreqTicks(lo, hi)
-	p.X.Scale = plot.LogScale{}
+	p.X.Scale = &logScale{}
 	p.X.Tick.Marker = plot.ConstantTicks(xt)
 	p.X.Label.Text = "Frequency (Hz)"
 	yt := linTicks(yLo, yHi, niceStep(yHi-yLo, 6))

@@ -549,7 +549,7 @@ func (sc *scratch) simplified(l []vg.Point, tol vg.Length) []vg.Point {
 // simplifyTolPt is the largest distance, in points, of a dropped point of
 // a curve from the line drawn: a tenth of a point, a small fraction of the
 // thinnest curve's width and below what a screen or a print shows.
-const simplifyTolPt = 0.1
+const simplifyTolPt = 0.25
 
 // simplifyWindow is the length of the runs that simplify simplifies
 // alone.
@@ -730,4 +730,26 @@ func log10Points(pts plotter.XYs) plotter.XYs {
 		out[i] = plotter.XY{X: p.X, Y: math.Log10(p.Y)}
 	}
 	return out
+}
+
+// logScale is gonum/plot's LogScale with the logarithms of the axis's
+// ends kept between calls: Normalize runs for every point drawn, and the
+// library's takes three logarithms each time. The result is the same to
+// the bit. Each axis needs its own (it remembers its range).
+type logScale struct {
+	min, max, logMin, span float64
+}
+
+// Normalize returns the fractional distance of x between min and max on a
+// logarithmic scale; it panics, as plot.LogScale does, for a value ≤ 0.
+func (s *logScale) Normalize(min, max, x float64) float64 {
+	if min <= 0 || max <= 0 || x <= 0 {
+		panic("Values must be greater than 0 for a log scale.")
+	}
+	if min != s.min || max != s.max || s.span == 0 {
+		s.min, s.max = min, max
+		s.logMin = math.Log(min)
+		s.span = math.Log(max) - s.logMin
+	}
+	return (math.Log(x) - s.logMin) / s.span
 }
