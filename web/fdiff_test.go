@@ -61,10 +61,17 @@ func TestDifferentialExample(t *testing.T) {
 	require.Equal(t, len(d.Sections), strings.Count(page, "half B, the mirror"))
 	require.False(t, strings.Contains(page, "could not be drawn"))
 
-	// A notch design for a differential converter is refused, naming the
-	// field.
+	// A notch design for a differential converter is built single-ended
+	// and converted after its last section; an unbuildable differential
+	// SAR is still refused, naming the field.
 	rec = do(t, h, "POST", "/api/v1/design", `{"response": "lowpass", "approximation": "elliptic", "order": 4, "passband_hz": 1000,
 	  "stopband_atten_db": 40, "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 2, "input": "differential"}}`)
+	require.Equal(t, http.StatusOK, rec.Code, rec.Body.String())
+	d.Sections = nil
+	require.NoError(t, json.Unmarshal(rec.Body.Bytes(), &d))
+	require.Contains(t, d.Sections[len(d.Sections)-1].TopologyReason, "single-ended to differential conversion follows")
+	rec = do(t, h, "POST", "/api/v1/design", `{"response": "lowpass", "approximation": "elliptic", "order": 4, "passband_hz": 1000,
+	  "stopband_atten_db": 40, "converter": {"bits": 16, "sample_rate_hz": 1e6, "full_scale_vpp": 2, "input": "differential", "architecture": "sar"}}`)
 	require.Equal(t, http.StatusBadRequest, rec.Code)
 	var e struct{ Error, Field string }
 	require.NoError(t, json.Unmarshal(rec.Body.Bytes(), &e))
