@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"slices"
+	"strings"
 
 	"github.com/polewright/polewright/standards/si"
 	"github.com/polewright/polewright/synth/circuit"
@@ -151,15 +152,15 @@ func (d *Design) commonModeCheck() (Check, bool) {
 		at = si.Format(worst.FreqHz, "Hz", 4)
 	}
 	ok := worst.WorstDB >= CommonModeLimitDB
-	whose, cure := "the first stage's", "tighter resistors and capacitors in that stage cure it"
+	halves, cure := "the first stage's matched halves", "tighter resistors and capacitors in that stage cure it"
 	if rep.Stage > 1 {
-		whose, cure = fmt.Sprintf("stage %d's conversion", rep.Stage), "tighter resistors there cure it"
+		halves, cure = fmt.Sprintf("the matched halves of stage %d's conversion", rep.Stage), "tighter resistors there cure it"
 	}
-	text := fmt.Sprintf("%s matched halves reject a common-mode input by at least %.3g dB (median %.3g dB) at %s over %d trials of independent part spread, at least %d dB asked.",
-		upperFirst(whose), worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB)
+	text := fmt.Sprintf("%s reject a common-mode input by at least %.3g dB (median %.3g dB) at %s over %d trials of independent part spread, at least %d dB asked.",
+		upperFirst(halves), worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB)
 	if !ok {
-		text = fmt.Sprintf("Mismatch of %s halves lets a common-mode input through: only %.3g dB of rejection at worst (median %.3g dB) at %s over %d trials, under %d dB; %s.",
-			whose, worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB, cure)
+		text = fmt.Sprintf("Mismatch of %s lets a common-mode input through: only %.3g dB of rejection at worst (median %.3g dB) at %s over %d trials, under %d dB; %s.",
+			strings.Replace(halves, "matched ", "", 1), worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB, cure)
 	}
 	return newCheck(CheckCommonMode, ok, SeverityWarning, worst.WorstDB, CommonModeLimitDB, "dB", max(rep.Stage, 1), text), true
 }
