@@ -95,3 +95,46 @@ func TestWithConversion(t *testing.T) {
 	_, err = fd.WithConversion(circuit.Part{Value: 1e3})
 	require.ErrorIs(t, err, circuit.ErrInvalid)
 }
+
+// TestConversionCommonMode: the conversion's common-mode to
+// differential transfer with mismatched halves against the closed form
+// from its node equations (ideal FDA: both inputs at Vx, outputs summing
+// to zero; ka = RfA/RinA, kb = RfB/RinB): a common-mode input Vc gives
+// Vod = −2·Vc·(ka − kb)/(2 + ka + kb), and a differential one (In at
+// +½, half B's input at −½) Vod = −(ka + kb + 2·ka·kb)/(2 + ka + kb)
+// (−1 when matched at unity).
+func TestConversionCommonMode(t *testing.T) {
+	t.Parallel()
+	mixed, err := sallenKeyLP(skR1, skR2, skC1, skC2).WithConversion(circuit.Part{Value: 10e3})
+	require.NoError(t, err)
+	_, conv, ok := mixed.SplitConversion()
+	require.True(t, ok)
+	// Mismatch: R?A input +1 %, half B feedback −0.5 %.
+	var rinA, rfA, rinB, rfB float64
+	for i := range conv.Parts {
+		p := &conv.Parts[i]
+		switch {
+		case p.A == circuit.In || p.B == circuit.In:
+			p.Value *= 1.01
+			rinA = p.Value
+		case circuit.HalfOf(p.Ref) == circuit.HalfA:
+			rfA = p.Value
+		case p.A == circuit.Ground || p.B == circuit.Ground:
+			rinB = p.Value
+		default:
+			p.Value *= 0.995
+			rfB = p.Value
+		}
+	}
+	require.NotZero(t, rinA*rfA*rinB*rfB)
+	ka, kb := rfA/rinA, rfB/rinB
+	dm, cm, err := conv.InputModes()
+	require.NoError(t, err)
+	ideal := circuit.Model{Ideal: true}
+	hc, err := cm.SolveAt(ideal, 0)
+	require.NoError(t, err)
+	hd, err := dm.SolveAt(ideal, 0)
+	require.NoError(t, err)
+	require.InEpsilon(t, -2*(ka-kb)/(2+ka+kb), real(hc), 1e-9)
+	require.InEpsilon(t, -(ka+kb+2*ka*kb)/(2+ka+kb), real(hd), 1e-9)
+}
