@@ -137,7 +137,8 @@ func requireConvertedAtEnd(t *testing.T, d *synth.Design, ch circuit.Chain) {
 }
 
 // TestDifferentialNotchesSingleEnded: a differential design whose
-// sections include ones with jω-axis zeros (no fully differential form)
+// sections include ones with jω-axis zeros or all-pass sections of a
+// delay equalizer (no fully differential form)
 // is built single-ended, as auto builds it, and converted after the last
 // section, whether auto chose the differential output for a differential
 // converter or the spec asked for fully-differential; the design's
@@ -151,6 +152,9 @@ func TestDifferentialNotchesSingleEnded(t *testing.T) {
 		   "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 2, "input": "differential"}}`},
 		{"chebyshev2-asked", `{"response": "lowpass", "approximation": "chebyshev2", "order": 5, "passband_hz": 1000, "stopband_atten_db": 40,
 		   "values": "exact", "opamp": {"ideal": true}, "topology": "fully-differential"}`},
+		{"equalized-auto", `{"response": "lowpass", "approximation": "chebyshev1", "order": 4, "passband_hz": 1000, "passband_ripple_db": 0.5,
+		   "values": "exact", "opamp": {"ideal": true}, "delay_equalizer": {"max_spread_pct": 10},
+		   "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 2, "input": "differential", "architecture": "sigma-delta"}}`},
 		{"bandstop-auto", `{"response": "bandstop", "approximation": "chebyshev1", "order": 2, "passband_hz": [500, 2000], "passband_ripple_db": 1,
 		   "values": "exact", "opamp": {"ideal": true},
 		   "converter": {"bits": 16, "sample_rate_hz": 48000, "full_scale_vpp": 2, "input": "differential", "architecture": "sigma-delta"}}`},

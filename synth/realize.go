@@ -166,7 +166,8 @@ func (d *Design) realize(ordered []section.Section) error {
 		// The conversion inverts (half A is an inverting amplifier on the
 		// last stage's output); its outputs are taken crossed when the
 		// chain would otherwise invert.
-		st, err := results[last].Stage.WithConversion(circuit.Part{Value: inverterOhm, Exact: inverterOhm, Series: rs.Name(), TolerancePct: rs.TolerancePct()})
+		rOhm := conversionOhm(s.ResistorRangeOhm, rs, opt.Exact)
+		st, err := results[last].Stage.WithConversion(circuit.Part{Value: rOhm, Exact: rOhm, Series: rs.Name(), TolerancePct: rs.TolerancePct()})
 		if err != nil {
 			return fmt.Errorf("synth: conversion after stage %d: %w", last+1, err)
 		}
@@ -178,7 +179,7 @@ func (d *Design) realize(ordered []section.Section) error {
 			inverting++
 		}
 		results[last].Stage = st
-		polarity = conversionNote(st, crossed)
+		polarity = conversionNote(st, rOhm, crossed)
 	}
 	if diff && !conv && inverting%2 == 1 {
 		// A differential signal's sign is free: cross the last outputs.
@@ -336,14 +337,33 @@ func (d *Design) singleEndedNote(noForm []int) string {
 // design built single-ended carries: the conversion stage appended to it
 // (st, built by [circuit.Stage.WithConversion]) and whether its outputs
 // are taken crossed.
-func conversionNote(st circuit.Stage, crossed bool) string {
+func conversionNote(st circuit.Stage, rOhm float64, crossed bool) string {
 	fda := st.OpAmps[len(st.OpAmps)-1].Ref
 	sign := "the chain as a whole does not invert"
 	if crossed {
 		sign = "its outputs are taken crossed (a differential signal's sign costs no part), so that the chain as a whole does not invert"
 	}
 	return fmt.Sprintf("the single-ended to differential conversion follows: fully differential op-amp %s with an input and a feedback resistor of %s in each half (unity differential gain), half A's input on this stage's output and half B's on the reference; %s",
-		fda, si.Format(inverterOhm, "Ω", 3), sign)
+		fda, si.Format(rOhm, "Ω", 3), sign)
+}
+
+// conversionOhm is the value of the conversion's four resistors: 10 kΩ
+// (inverterOhm), or, when the resistor window excludes it, the series
+// value nearest the window's geometric mean (the mean itself for exact
+// values, or when the nearest series value falls outside the window).
+func conversionOhm(window [2]float64, rs eseries.Series, exact bool) float64 {
+	lo, hi := window[0], window[1]
+	if inverterOhm >= lo && inverterOhm <= hi {
+		return inverterOhm
+	}
+	mid := math.Sqrt(lo * hi)
+	if exact {
+		return mid
+	}
+	if v := rs.Nearest(mid); v >= lo && v <= hi {
+		return v
+	}
+	return mid
 }
 
 // realizeError words a failed mapping as a spec error: the field is
