@@ -69,6 +69,12 @@ func TestWithConversion(t *testing.T) {
 			}
 		})
 	}
+	// With the model's parasitics the section is still second order:
+	// the conversion's halves hold no capacitor of the section's.
+	par := circuit.Model{GBWHz: 1e6, DCGainDB: 100, InputCapacitanceFarad: 5e-12, OutputResistanceOhm: 50}
+	r, err := mixed.TransferFunction(par)
+	require.NoError(t, err)
+	require.Equal(t, 2, r.SectionOrder)
 	for _, st := range []circuit.Stage{mixed, mixed.CrossOutputs()} {
 		back, conv, ok := st.SplitConversion()
 		require.True(t, ok)
