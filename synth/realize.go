@@ -167,7 +167,11 @@ func (d *Design) realize(ordered []section.Section) error {
 		// last stage's output); its outputs are taken crossed when the
 		// chain would otherwise invert.
 		rOhm := conversionOhm(s.ResistorRangeOhm, rs, opt.Exact)
-		st, err := results[last].Stage.WithConversion(circuit.Part{Value: rOhm, Exact: rOhm, Series: rs.Name(), TolerancePct: rs.TolerancePct()})
+		series := rs.Name()
+		if opt.Exact {
+			series = "" // as the sections' resistors
+		}
+		st, err := results[last].Stage.WithConversion(circuit.Part{Value: rOhm, Exact: rOhm, Series: series, TolerancePct: rs.TolerancePct()})
 		if err != nil {
 			return fmt.Errorf("synth: conversion after stage %d: %w", last+1, err)
 		}
@@ -339,7 +343,7 @@ func (d *Design) singleEndedNote(noForm []int) string {
 // are taken crossed.
 func conversionNote(st circuit.Stage, rOhm float64, crossed bool) string {
 	fda := st.OpAmps[len(st.OpAmps)-1].Ref
-	sign := "the chain as a whole does not invert"
+	sign := "its inversion puts right the stages' own, so that the chain as a whole does not invert"
 	if crossed {
 		sign = "its outputs are taken crossed (a differential signal's sign costs no part), so that the chain as a whole does not invert"
 	}
