@@ -88,6 +88,7 @@ func differentialExample(t *testing.T, name string, converted bool) {
 	require.Contains(t, deck, ".subckt pw_fda inp inn outp outn ref")
 	if converted {
 		require.Contains(t, deck, ".subckt pw_opamp ")
+		require.Contains(t, deck, ", then its single-ended to differential conversion")
 	}
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
