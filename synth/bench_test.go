@@ -190,12 +190,31 @@ func reportCPU(b *testing.B, start time.Duration) {
 // BenchmarkDifferential times the whole design (circuits, as-built
 // response, noise, step, board; no Monte Carlo) of an order-8
 // Butterworth lowpass built of single-ended multiple-feedback stages and
-// of fully differential ones (issue 12: within 2× of the single-ended).
+// of fully differential ones (issue 12: within 2× of the single-ended),
+// and of an order-8 elliptic lowpass under auto and converted to
+// differential after its last section.
 func BenchmarkDifferential(b *testing.B) {
 	for _, top := range []string{"multiple-feedback", "fully-differential"} {
 		s := withOrder(baseSpec(synth.Lowpass, "butterworth"), 8, 1)
 		s.Topology = top
 		b.Run(top, func(b *testing.B) {
+			b.ReportAllocs()
+			ctx := context.Background()
+			start := cpuTime()
+			for b.Loop() {
+				if _, err := synth.Synthesize(ctx, s); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportCPU(b, start)
+		})
+	}
+	// An elliptic order 8 (notch sections: built single-ended, converted
+	// after the last section when fully differential) beside auto.
+	for _, top := range []string{"auto", "fully-differential"} {
+		s := withOrder(baseSpec(synth.Lowpass, "elliptic"), 8, 1)
+		s.Topology = top
+		b.Run("elliptic-"+top, func(b *testing.B) {
 			b.ReportAllocs()
 			ctx := context.Background()
 			start := cpuTime()

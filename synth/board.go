@@ -160,7 +160,9 @@ func swingPins(st circuit.Stage) []pinAt {
 			pins = append(pins, pinAt{u.OutN, PinOutput, u.Ref})
 		}
 	}
-	if !slices.ContainsFunc(st.OpAmps, func(u circuit.OpAmp) bool { return u.Out == st.Out }) {
+	// (A differential stage's Out is one of its FDA's outputs, its OutN
+	// when the outputs are taken crossed.)
+	if !slices.ContainsFunc(st.OpAmps, func(u circuit.OpAmp) bool { return u.Out == st.Out || u.FullyDifferential() && u.OutN == st.Out }) {
 		ref := ""
 		for _, part := range st.Parts {
 			other := part.A

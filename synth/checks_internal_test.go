@@ -59,6 +59,10 @@ func TestChecksAtThresholds(t *testing.T) {
 			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 55, MedianDB: 60}, {FreqHz: 1000, WorstDB: 40, MedianDB: 50}}}}}, true},
 		{"common mode below", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10,
 			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 39.99, MedianDB: 60}, {FreqHz: 1000, WorstDB: 45, MedianDB: 50}}}}}, false},
+		{"conversion common mode at the limit", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10, Stage: 3,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 40, MedianDB: 60}}}}}, true},
+		{"conversion common mode below", (*Design).commonModeCheck, &Design{Spec: spec, MonteCarlo: &MonteCarloReport{CommonMode: &CommonModeReport{Trials: 10, Stage: 3,
+			Points: []CommonModePoint{{FreqHz: 0, WorstDB: 39.99, MedianDB: 60}}}}}, false},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {

@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"slices"
+	"strings"
 
 	"github.com/polewright/polewright/standards/si"
 	"github.com/polewright/polewright/synth/circuit"
@@ -39,6 +40,11 @@ type CommonModeReport struct {
 	// Trials is the number of trials: the spec's Monte Carlo trials, at
 	// most MaxCommonModeTrials.
 	Trials int `json:"trials"`
+	// Stage is the stage (1-based) whose halves the figure is of: the
+	// first, or, in a design built single-ended and converted after its
+	// last section, the last stage's conversion (its FDA and their
+	// resistors), which takes the last single-ended output.
+	Stage int `json:"stage"`
 	// Points holds the rejection at DC (lowpass and bandstop responses)
 	// and at each passband edge.
 	Points []CommonModePoint `json:"points"`
@@ -63,7 +69,16 @@ func (d *Design) commonMode(ch circuit.Chain) error {
 	if !ch.Differential() || d.MonteCarlo == nil {
 		return nil
 	}
-	st := ch.Stages[0]
+	st, stage := ch.Stages[0], 1
+	if !st.Differential() {
+		// Built single-ended and converted after the last section: the
+		// conversion's halves are what a common mode reaches.
+		stage = len(ch.Stages)
+		var ok bool
+		if _, st, ok = ch.Stages[stage-1].SplitConversion(); !ok {
+			return fmt.Errorf("synth: common mode: stage %d has no conversion", stage)
+		}
+	}
 	if !slices.ContainsFunc(st.Parts, func(p circuit.Part) bool { return p.TolerancePct > 0 }) {
 		return nil
 	}
@@ -109,7 +124,7 @@ func (d *Design) commonMode(ch circuit.Chain) error {
 			per[i] = append(per[i], r)
 		}
 	}
-	rep := &CommonModeReport{Trials: trials}
+	rep := &CommonModeReport{Trials: trials, Stage: stage}
 	for i, f := range freqs {
 		slices.Sort(per[i])
 		rep.Points = append(rep.Points, CommonModePoint{FreqHz: f, WorstDB: per[i][0], MedianDB: per[i][len(per[i])/2]})
@@ -137,11 +152,23 @@ func (d *Design) commonModeCheck() (Check, bool) {
 		at = si.Format(worst.FreqHz, "Hz", 4)
 	}
 	ok := worst.WorstDB >= CommonModeLimitDB
-	text := fmt.Sprintf("The first stage's matched halves reject a common-mode input by at least %.3g dB (median %.3g dB) at %s over %d trials of independent part spread, at least %d dB asked.",
-		worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB)
-	if !ok {
-		text = fmt.Sprintf("Mismatch of the first stage's halves lets a common-mode input through: only %.3g dB of rejection at worst (median %.3g dB) at %s over %d trials, under %d dB; tighter resistors and capacitors in that stage cure it.",
-			worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB)
+	halves, cure := "the first stage's matched halves", "tighter resistors and capacitors in that stage cure it"
+	if rep.Stage > 1 {
+		halves, cure = fmt.Sprintf("the matched halves of stage %d's conversion", rep.Stage), "tighter resistors there cure it"
 	}
-	return newCheck(CheckCommonMode, ok, SeverityWarning, worst.WorstDB, CommonModeLimitDB, "dB", 1, text), true
+	text := fmt.Sprintf("%s reject a common-mode input by at least %.3g dB (median %.3g dB) at %s over %d trials of independent part spread, at least %d dB asked.",
+		upperFirst(halves), worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB)
+	if !ok {
+		text = fmt.Sprintf("Mismatch of %s lets a common-mode input through: only %.3g dB of rejection at worst (median %.3g dB) at %s over %d trials, under %d dB; %s.",
+			strings.Replace(halves, "matched ", "", 1), worst.WorstDB, worst.MedianDB, at, rep.Trials, CommonModeLimitDB, cure)
+	}
+	return newCheck(CheckCommonMode, ok, SeverityWarning, worst.WorstDB, CommonModeLimitDB, "dB", max(rep.Stage, 1), text), true
+}
+
+// upperFirst returns s with its first byte upper-cased (ASCII).
+func upperFirst(s string) string {
+	if s == "" || s[0] < 'a' || s[0] > 'z' {
+		return s
+	}
+	return string(s[0]-'a'+'A') + s[1:]
 }

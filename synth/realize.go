@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/polewright/polewright/standards/eseries"
+	"github.com/polewright/polewright/standards/si"
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/section"
 	"github.com/polewright/polewright/synth/topology"
@@ -75,46 +76,79 @@ func (d *Design) realize(ordered []section.Section) error {
 	opt.MinOhm, opt.MaxOhm = s.ResistorRangeOhm[0], s.ResistorRangeOhm[1]
 	opt.MinFarad, opt.MaxFarad = s.CapacitorRangeFarad[0], s.CapacitorRangeFarad[1]
 
-	results := make([]topology.Result, len(ordered))
-	inverting, firstOrder := 0, -1
-	allpassFirst := -1 // a first-order all-pass section, which can invert instead
 	diff := s.Differential()
-	for i, sec := range ordered {
-		top := s.Topology
-		switch k := sec.Kind(); {
-		case diff:
-			top = topology.FullyDifferential
-		case sec.IsAllpass():
-			top = topology.Allpass
-			if sec.Order() == 1 && allpassFirst < 0 {
-				allpassFirst = i
+	// conv: a differential design with a section that has no fully
+	// differential form (a notch kind, an all-pass) is built single-ended,
+	// as auto builds it, and converted to differential after its last
+	// stage. noForm lists those sections.
+	conv := false
+	var noForm []int
+	var results []topology.Result
+	var inverting, firstOrder, allpassFirst int
+	for {
+		results = make([]topology.Result, len(ordered))
+		inverting, firstOrder = 0, -1
+		allpassFirst = -1 // a first-order all-pass section, which can invert instead
+		var firstErr error
+		for i, sec := range ordered {
+			top := s.Topology
+			if conv && top == topology.FullyDifferential {
+				top = topology.Auto
 			}
-		case sec.Order() == 1:
-			top, firstOrder = topology.RCBuffer, i
-		case top == topology.OneAmpNotch && k != section.LowpassNotch && k != section.HighpassNotch && k != section.Notch:
-			// one-amp-notch asks for the notch sections; the others
-			// take auto's choice.
-			top = topology.Auto
-		}
-		r, err := topology.Realize(sec, top, opt)
-		if err != nil {
-			if diff {
-				return d.differentialError(i, err)
+			switch k := sec.Kind(); {
+			case diff && !conv:
+				top = topology.FullyDifferential
+			case sec.IsAllpass():
+				top = topology.Allpass
+				if sec.Order() == 1 && allpassFirst < 0 {
+					allpassFirst = i
+				}
+			case sec.Order() == 1:
+				top, firstOrder = topology.RCBuffer, i
+			case top == topology.OneAmpNotch && k != section.LowpassNotch && k != section.HighpassNotch && k != section.Notch:
+				// one-amp-notch asks for the notch sections; the others
+				// take auto's choice.
+				top = topology.Auto
 			}
-			return realizeError(i, d.Sections[i], s.Topology, err)
-		}
-		if top != s.Topology {
-			// The form was chosen here, not asked for by the spec.
-			if rest, ok := strings.CutPrefix(r.Reason, top+" as asked: "); ok {
-				r.Reason = "first-order section, built as " + top + ": " + rest
+			r, err := topology.Realize(sec, top, opt)
+			if err != nil {
+				switch {
+				case diff && !conv && errors.Is(err, topology.ErrNoForm):
+					noForm = append(noForm, i)
+					continue
+				case diff && !conv:
+					// Another refusal counts only when every section
+					// has a fully differential form.
+					if firstErr == nil {
+						firstErr = d.differentialError(i, err)
+					}
+					continue
+				case conv:
+					return realizeError(i, d.Sections[i], topology.Auto, err)
+				}
+				return realizeError(i, d.Sections[i], s.Topology, err)
+			}
+			if top != s.Topology {
+				// The form was chosen here, not asked for by the spec.
+				if rest, ok := strings.CutPrefix(r.Reason, top+" as asked: "); ok {
+					r.Reason = "first-order section, built as " + top + ": " + rest
+				}
+			}
+			results[i] = r
+			if r.Inverting {
+				inverting++
 			}
 		}
-		results[i] = r
-		if r.Inverting {
-			inverting++
+		if diff && !conv && len(noForm) > 0 {
+			conv = true
+			continue
 		}
+		if firstErr != nil {
+			return firstErr
+		}
+		break
 	}
-	if s.Topology == topology.Auto && !diff {
+	if (s.Topology == topology.Auto || conv) && (!diff || conv) {
 		d.keepNotchesInMask(ordered, results, opt)
 	}
 	notes := d.takeUpGains(ordered, results, opt)
@@ -128,9 +162,32 @@ func (d *Design) realize(ordered []section.Section) error {
 	// right by the first-order stage's inverting form, or else by a
 	// unity-gain inverter after the last stage.
 	polarity := ""
-	if diff && inverting%2 == 1 {
+	last := len(results) - 1
+	if conv {
+		// The conversion inverts (half A is an inverting amplifier on the
+		// last stage's output); its outputs are taken crossed when the
+		// chain would otherwise invert.
+		rOhm := conversionOhm(s.ResistorRangeOhm, rs, opt.Exact)
+		series := rs.Name()
+		if opt.Exact {
+			series = "" // as the sections' resistors
+		}
+		st, err := results[last].Stage.WithConversion(circuit.Part{Value: rOhm, Exact: rOhm, Series: series, TolerancePct: rs.TolerancePct()})
+		if err != nil {
+			return fmt.Errorf("synth: conversion after stage %d: %w", last+1, err)
+		}
+		crossed := inverting%2 == 0
+		if crossed {
+			st = st.CrossOutputs()
+		} else {
+			results[last].Inverting = !results[last].Inverting
+			inverting++
+		}
+		results[last].Stage = st
+		polarity = conversionNote(st, rOhm, crossed)
+	}
+	if diff && !conv && inverting%2 == 1 {
 		// A differential signal's sign is free: cross the last outputs.
-		last := len(results) - 1
 		results[last].Stage = results[last].Stage.CrossOutputs()
 		results[last].Inverting = !results[last].Inverting
 		inverting++
@@ -156,16 +213,18 @@ func (d *Design) realize(ordered []section.Section) error {
 		results[j].Reason += note
 	}
 	if inverting%2 == 1 {
-		last := len(results) - 1
 		results[last].Stage = withInverter(results[last].Stage, rs)
 		polarity = "a unity-gain inverter follows, so that the chain as a whole does not invert"
 	}
 
-	if diff {
+	if diff && !conv {
 		// The source is single-ended: the first stage converts it, its
 		// half B input on the reference.
 		results[0].Stage = results[0].Stage.SingleEndedInput()
 		results[0].Reason += "; " + ConversionNote
+	}
+	if conv {
+		results[0].Reason += "; " + d.singleEndedNote(noForm)
 	}
 	model := circuitModel(s.OpAmp)
 	// One memo of transfer functions serves every analysis of the design.
@@ -235,10 +294,12 @@ func (s Spec) Differential() bool {
 		s.Topology == topology.Auto && s.Converter != nil && s.Converter.Input == InputDifferential
 }
 
-// differentialError words a section that has no fully differential form
-// (a notch kind, an all-pass) or no part values: the field is topology
-// when the spec asked for fully-differential, converter.input when auto
-// chose it for a differential converter.
+// differentialError words a section of a fully differential design
+// that has no part values: the field is topology when the spec asked for
+// fully-differential, converter.input when auto chose it for a
+// differential converter. (A section with no fully differential form at
+// all, a notch kind or an all-pass, is not refused: the design is then
+// built single-ended and converted after its last stage.)
 func (d *Design) differentialError(i int, err error) error {
 	sec := d.Sections[i]
 	field, why := "topology", "topology fully-differential"
@@ -256,12 +317,61 @@ func (d *Design) differentialError(i int, err error) error {
 		reason = te.Reason
 	}
 	hint := ""
-	if errors.Is(err, topology.ErrNoForm) {
-		hint = "; the notch and all-pass sections have no fully differential form here: choose an approximation without jω-axis zeros (not elliptic or chebyshev2, not bandstop) and no delay equalizer, or a single-ended design"
-	} else if errors.Is(err, topology.ErrLimits) {
+	if errors.Is(err, topology.ErrLimits) {
 		hint = "; widen resistor_range_ohm or capacitor_range_farad"
 	}
 	return fieldErr(field, "%s cannot be built for %s: %s%s", desc, why, reason, hint)
+}
+
+// singleEndedNote is the sentence the first section of a differential
+// design built single-ended carries: which sections have no fully
+// differential form, and where the conversion is.
+func (d *Design) singleEndedNote(noForm []int) string {
+	var b strings.Builder
+	for j, i := range noForm {
+		if j > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, "%d (%s)", i+1, d.Sections[i].Kind)
+	}
+	which := "section " + b.String() + " has"
+	if len(noForm) > 1 {
+		which = "sections " + b.String() + " have"
+	}
+	return fmt.Sprintf("built single-ended, as auto builds it, for a differential output: %s no fully differential form here, so every section is single-ended, in the usual headroom order, and a fully differential amplifier after the last section converts the signal to differential", which)
+}
+
+// conversionNote is the sentence the last section of a differential
+// design built single-ended carries: the conversion stage appended to it
+// (st, built by [circuit.Stage.WithConversion]) and whether its outputs
+// are taken crossed.
+func conversionNote(st circuit.Stage, rOhm float64, crossed bool) string {
+	fda := st.OpAmps[len(st.OpAmps)-1].Ref
+	sign := "its inversion puts right the stages' own, so that the chain as a whole does not invert"
+	if crossed {
+		sign = "its outputs are taken crossed (a differential signal's sign costs no part), so that the chain as a whole does not invert"
+	}
+	return fmt.Sprintf("the single-ended to differential conversion follows: fully differential op-amp %s with an input and a feedback resistor of %s in each half (unity differential gain), half A's input on this stage's output and half B's on the reference; %s",
+		fda, si.Format(rOhm, "Ω", 3), sign)
+}
+
+// conversionOhm is the value of the conversion's four resistors: 10 kΩ
+// (inverterOhm), or, when the resistor window excludes it, the series
+// value nearest the window's geometric mean (the mean itself for exact
+// values, or when the nearest series value falls outside the window).
+func conversionOhm(window [2]float64, rs eseries.Series, exact bool) float64 {
+	lo, hi := window[0], window[1]
+	if inverterOhm >= lo && inverterOhm <= hi {
+		return inverterOhm
+	}
+	mid := math.Sqrt(lo * hi)
+	if exact {
+		return mid
+	}
+	if v := rs.Nearest(mid); v >= lo && v <= hi {
+		return v
+	}
+	return mid
 }
 
 // realizeError words a failed mapping as a spec error: the field is

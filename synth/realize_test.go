@@ -218,3 +218,35 @@ func TestGBWSpread(t *testing.T) {
 	last := len(plain.MonteCarlo.Stages) - 1
 	require.Greater(t, wide.MonteCarlo.Stages[last].QStdPct, 2*plain.MonteCarlo.Stages[last].QStdPct)
 }
+
+// TestConversionResistorWindow: the conversion's resistors are 10 kΩ
+// inside the resistor window, and inside the window when it excludes
+// 10 kΩ (E96's value nearest the window's geometric mean, √(20k·200k) =
+// 63.2 kΩ: 63.4 kΩ, IEC 60063).
+func TestConversionResistorWindow(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name, window string
+		want         float64
+	}{
+		{"default", "", 10e3},
+		{"above 10k", `, "resistor_range_ohm": [20000, 200000]`, 63.4e3},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			s, err := synth.ParseSpecBytes([]byte(`{"response": "lowpass", "approximation": "elliptic", "order": 3, "passband_hz": 1000, "stopband_atten_db": 40,
+			  "resistor_series": "E96", "topology": "fully-differential"` + tc.window + `}`))
+			require.NoError(t, err)
+			d, err := synth.Synthesize(context.Background(), s)
+			require.NoError(t, err)
+			ch, err := d.Chain()
+			require.NoError(t, err)
+			_, conv, ok := ch.Stages[len(ch.Stages)-1].SplitConversion()
+			require.True(t, ok)
+			require.Len(t, conv.Parts, 4)
+			for _, p := range conv.Parts {
+				require.InEpsilon(t, tc.want, p.Value, 1e-12, p.Ref)
+			}
+		})
+	}
+}

@@ -152,7 +152,7 @@ var specFields = []field{
 	{Name: "converter_architecture", Path: []string{"converter", "architecture"}, Label: "Architecture", Noun: "the converter's architecture", Kind: kindChoice,
 		Choices: synth.Architectures, Default: "other", OmitDefault: true, Hint: "sar: an R–C driver is designed between the last op-amp and the converter's input", Group: groupConv},
 	{Name: "converter_input", Path: []string{"converter", "input"}, Label: "Input", Noun: "the converter's input", Kind: kindChoice,
-		Choices: synth.ConverterInputs, Default: "single-ended", OmitDefault: true, Hint: "differential: every stage is built fully differential (auto), the first converting the single-ended source", Group: groupConv},
+		Choices: synth.ConverterInputs, Default: "single-ended", OmitDefault: true, Hint: "differential: every stage is built fully differential (auto), the first converting the single-ended source; with notch or all-pass sections, single-ended stages and a conversion after the last", Group: groupConv},
 	{Name: "converter_sampling_capacitance_farad", Path: []string{"converter", "sampling_capacitance_farad"}, Label: "Sampling capacitor (F)", Noun: "the converter's sampling capacitor", Kind: kindNumber,
 		Placeholder: "e.g. 30p", Hint: "sar: the capacitor the input charges at each acquisition", Group: groupConv},
 	{Name: "converter_acquisition_time_s", Path: []string{"converter", "acquisition_time_s"}, Label: "Acquisition time (s)", Noun: "the converter's acquisition time", Kind: kindNumber,

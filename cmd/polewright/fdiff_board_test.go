@@ -19,7 +19,9 @@ import (
 )
 
 // TestDifferentialBoardAgainstNgspice runs a differential board (the
-// geophone example on its 5 V supply, with an op-amp offset, bias
+// geophone example, all stages fully differential, and the elliptic
+// vibration example, single-ended sections converted after the last, each
+// on its 5 V supply, with an op-amp offset, bias
 // currents, input capacitance and output resistance added) in ngspice
 // (Debian package ngspice, the outside reference):
 //
@@ -37,7 +39,18 @@ import (
 func TestDifferentialBoardAgainstNgspice(t *testing.T) {
 	t.Parallel()
 	spicerun.Require(t)
-	example, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", "geophone-differential-sigma-delta.json"))
+	for _, name := range []string{"geophone-differential-sigma-delta", "vibration-elliptic-differential-sigma-delta"} {
+		t.Run(name, func(t *testing.T) {
+			t.Parallel()
+			differentialBoard(t, name)
+		})
+	}
+}
+
+// differentialBoard is TestDifferentialBoardAgainstNgspice for one
+// example.
+func differentialBoard(t *testing.T, name string) {
+	example, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", name+".json"))
 	require.NoError(t, err)
 	var obj map[string]any
 	require.NoError(t, json.Unmarshal(example, &obj))

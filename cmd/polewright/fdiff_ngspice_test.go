@@ -18,8 +18,11 @@ import (
 )
 
 // TestDifferentialExampleAgainstNgspice takes the differential
-// sigma-delta example (testdata/examples/geophone-differential-sigma-delta.json)
-// through the CLI: the design's stages are fully differential with the
+// sigma-delta examples (testdata/examples/geophone-differential-sigma-delta.json,
+// and vibration-elliptic-differential-sigma-delta.json, whose notch
+// sections are single-ended and converted after the last) through the
+// CLI: the design's stages are fully differential (or, converted, the
+// last carries the conversion) with the
 // common-mode figure and check; the exported deck has the FDA
 // subcircuit, outputs outp and outn and out = v(outp) − v(outn); and
 // ngspice (the outside reference) runs it to v(out) within 0.05 dB of
@@ -29,13 +32,31 @@ import (
 func TestDifferentialExampleAgainstNgspice(t *testing.T) {
 	t.Parallel()
 	spicerun.Require(t)
-	spec, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", "geophone-differential-sigma-delta.json"))
+	for _, tc := range []struct {
+		name      string
+		converted bool // built single-ended, converted after the last section
+	}{
+		{"geophone-differential-sigma-delta", false},
+		{"vibration-elliptic-differential-sigma-delta", true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			differentialExample(t, tc.name, tc.converted)
+		})
+	}
+}
+
+// differentialExample is TestDifferentialExampleAgainstNgspice for one
+// example.
+func differentialExample(t *testing.T, name string, converted bool) {
+	spec, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", name+".json"))
 	require.NoError(t, err)
 	code, out, errOut := runCLI(t, string(spec), "design", "-spec", "-")
 	require.Equal(t, exitOK, code, errOut)
 	var d struct {
 		Sections []struct {
-			Topology string `json:"topology"`
+			Topology       string `json:"topology"`
+			TopologyReason string `json:"topology_reason"`
 		} `json:"sections"`
 		Response struct {
 			FreqHz     []float64 `json:"freq_hz"`
@@ -49,7 +70,10 @@ func TestDifferentialExampleAgainstNgspice(t *testing.T) {
 	require.NoError(t, json.Unmarshal([]byte(out), &d))
 	require.NotEmpty(t, d.Sections)
 	for _, s := range d.Sections {
-		require.True(t, strings.HasPrefix(s.Topology, "fully-differential"), s.Topology)
+		require.Equal(t, !converted, strings.HasPrefix(s.Topology, "fully-differential"), s.Topology)
+	}
+	if converted {
+		require.Contains(t, d.Sections[len(d.Sections)-1].TopologyReason, "single-ended to differential conversion follows")
 	}
 	require.NotNil(t, d.MonteCarlo.CommonMode)
 	ids := []string{}
@@ -62,6 +86,10 @@ func TestDifferentialExampleAgainstNgspice(t *testing.T) {
 	require.Equal(t, exitOK, code, errOut)
 	require.Contains(t, deck, "\nEout out 0 outp outn 1\n")
 	require.Contains(t, deck, ".subckt pw_fda inp inn outp outn ref")
+	if converted {
+		require.Contains(t, deck, ".subckt pw_opamp ")
+		require.Contains(t, deck, ", then its single-ended to differential conversion")
+	}
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
 	freq, v, err := spicerun.RunAll(ctx, t.TempDir(), []byte(deck))
@@ -91,7 +119,7 @@ func TestDifferentialExampleAgainstNgspice(t *testing.T) {
 		checked++
 		worst = math.Max(worst, math.Abs(own[i]-20*math.Log10(cmplx.Abs(v[0][i]))))
 	}
-	t.Logf("differential example: .ac vs realized over %d points: worst %.3g dB", checked, worst)
+	t.Logf("%s: .ac vs realized over %d points: worst %.3g dB", name, checked, worst)
 	require.Greater(t, checked, 100)
 	require.Less(t, worst, 0.05)
 }

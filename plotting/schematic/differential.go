@@ -22,14 +22,58 @@ const halfGap = 16
 // single-ended source, from the reference) to its + input and −out. The
 // terminals are labelled in+/in− (or in/ref) and out+/out−, the outputs
 // following the stage's own Out and OutN (which may be crossed).
+//
+// A single-ended section followed by its conversion to differential
+// ([circuit.Stage.WithConversion]) is drawn as the section, its output
+// labelled as the conversion's input, above the conversion's two halves.
 func differential(w io.Writer, st circuit.Stage, opt Options) error {
+	name := opt.Title
+	if name == "" {
+		name = "schematic of a " + st.Topology + " stage"
+	}
+	var drawings []*drawing
+	var captions []string
+	conv, fromSection := st, ""
+	if se, c, ok := st.SplitConversion(); ok {
+		title := "single-ended section"
+		if opt.Title != "" {
+			title = opt.Title + " — " + title
+		}
+		d := layLabelled(&se, opt.Refs, title, "in", "to conversion")
+		fromSection = "from section"
+		drawings, captions = append(drawings, d), append(captions, name+", the single-ended section")
+		conv = c
+		opt.Title = "conversion to differential"
+	}
+	halves, err := fdaHalves(conv, opt, fromSection)
+	if err != nil {
+		return err
+	}
+	drawings = append(drawings, halves[0], halves[1])
+	captions = append(captions, name+", half A", name+", half B")
+	for _, d := range drawings {
+		if d.groundLabel = opt.GroundLabel; d.groundLabel != "" {
+			for _, g := range d.grounds {
+				d.bounds = d.bounds.union(rect{g.x + 8, g.y + 4, g.x + 12 + 6*len(d.groundLabel), g.y + 16})
+			}
+		}
+	}
+	return stacked(w, name, drawings, captions)
+}
+
+// fdaHalves lays out the two half-circuits of a stage of one FDA with
+// two matched halves; inA, when set, labels half A's input terminal.
+func fdaHalves(st circuit.Stage, opt Options, inA string) ([2]*drawing, error) {
+	var halves [2]*drawing
 	if len(st.OpAmps) != 1 || !st.OpAmps[0].FullyDifferential() {
-		return errNotDrawable
+		return halves, errNotDrawable
 	}
 	u := st.OpAmps[0]
-	var halves [2]*drawing
 	for i, half := range []string{circuit.HalfA, circuit.HalfB} {
 		hs, in, out := halfStage(st, half)
+		if half == circuit.HalfA && inA != "" {
+			in = inA
+		}
 		title := "half A: " + in + " to " + out + " through " + u.Ref + "'s − input (its + input, half B's, drawn at the reference)"
 		if half == circuit.HalfB {
 			title = "half B, the mirror: " + in + " to " + out + " through " + u.Ref + "'s + input, drawn as − (toward out− it inverts)"
@@ -41,27 +85,23 @@ func differential(w io.Writer, st circuit.Stage, opt Options) error {
 			title = opt.Title + " — " + title
 		}
 		if err := hs.Validate(); err != nil {
-			return errNotDrawable
+			return halves, errNotDrawable
 		}
-		d := layLabelled(&hs, opt.Refs, title, in, out)
-		if d.groundLabel = opt.GroundLabel; d.groundLabel != "" {
-			for _, g := range d.grounds {
-				d.bounds = d.bounds.union(rect{g.x + 8, g.y + 4, g.x + 12 + 6*len(d.groundLabel), g.y + 16})
-			}
-		}
-		halves[i] = d
+		halves[i] = layLabelled(&hs, opt.Refs, title, in, out)
 	}
-	name := opt.Title
-	if name == "" {
-		name = "schematic of a " + st.Topology + " stage"
-	}
+	return halves, nil
+}
+
+// stacked writes drawings one above the other in one SVG named name,
+// each as a nested svg named by its caption.
+func stacked(w io.Writer, name string, drawings []*drawing, captions []string) error {
 	var b bytes.Buffer
 	width, height := 0, 0
-	for _, d := range halves {
+	for _, d := range drawings {
 		width = max(width, d.bounds.x1-d.bounds.x0)
 		height += d.bounds.y1 - d.bounds.y0
 	}
-	height += halfGap
+	height += halfGap * (len(drawings) - 1)
 	sw := svgw{&b}
 	sw.s(`<svg xmlns="http://www.w3.org/2000/svg" class="schematic differential" viewBox="0 0 `)
 	sw.n(width)
@@ -77,10 +117,10 @@ func differential(w io.Writer, st circuit.Stage, opt Options) error {
 	sw.esc(name)
 	sw.s("</title>\n")
 	y := 0
-	for i, d := range halves {
+	for i, d := range drawings {
 		var inner bytes.Buffer
-		d.writeSVG(&inner, name+", half "+[]string{"A", "B"}[i])
-		// The half's own root element, placed at y by the x and y
+		d.writeSVG(&inner, captions[i])
+		// The drawing's own root element, placed at y by the x and y
 		// attributes of a nested svg.
 		s := inner.String()
 		s = strings.Replace(s, `<svg xmlns="http://www.w3.org/2000/svg" class="schematic"`, `<svg class="schematic-half" x="0" y="`+itoa(y)+`"`, 1)

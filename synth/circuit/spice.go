@@ -610,7 +610,11 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 	hasFDA, hasSE := false, false
 	for k, st := range c.Stages {
 		stage := k + 1
-		fmt.Fprintf(b, "* stage %d: %s\n", stage, commentLine(st.Topology))
+		note := ""
+		if _, _, ok := st.SplitConversion(); ok {
+			note = ", then its single-ended to differential conversion (the FDA, half B's input on the reference)"
+		}
+		fmt.Fprintf(b, "* stage %d: %s%s\n", stage, commentLine(st.Topology), note)
 		for _, p := range st.Parts {
 			fmt.Fprintf(b, "%s %s %s %s\n", SpiceName(c.Ref(stage, p.Ref)),
 				node(stage, p.A), node(stage, p.B), spiceNum(p.Value))

@@ -603,7 +603,8 @@ func (lt *logTerms) best(j int) (x, ratio float64) {
 
 // SectionOrderOf returns the section order of the stage's transfer
 // function whose denominator has degree deg under model m: deg less one
-// pole per single-pole op-amp, and at most the stage's own capacitors, so
+// pole per single-pole op-amp, and at most the stage's own capacitors (of
+// a fully differential stage's halves, half A's), so
 // that the poles the model's parasitics add (input capacitance behind an
 // output resistance) do not count as the section's.
 func (st Stage) SectionOrderOf(deg int, m Model) int {
@@ -613,12 +614,11 @@ func (st Stage) SectionOrderOf(deg int, m Model) int {
 	if m.HasParasitics() {
 		caps := 0
 		for _, p := range st.Parts {
-			if p.Kind == Capacitor {
+			// A fully differential stage's two halves are one section:
+			// half B's parts mirror half A's.
+			if p.Kind == Capacitor && HalfOf(p.Ref) != HalfB {
 				caps++
 			}
-		}
-		if st.Differential() {
-			caps /= 2 // two halves of one section
 		}
 		deg = min(deg, caps)
 	}

@@ -30,7 +30,9 @@
 //     each as two matched halves around one fully differential op-amp
 //     (circuit.Stage.ToFullyDifferential); each half is the single-ended
 //     design, whose equations are above. Notch and all-pass sections are
-//     refused (ErrNoForm).
+//     refused (ErrNoForm); package synth then builds the whole chain
+//     single-ended and converts it after the last section
+//     (circuit.Stage.WithConversion).
 //   - one-amp-notch: lowpass-notch, highpass-notch and notch on one
 //     op-amp, the Delyiannis-Friend bandpass with feedforward from the
 //     input to both op-amp inputs (Friend, Harris and Hilberman's STAR

@@ -26,8 +26,9 @@ const (
 	// positive-feedback divider) or bandpass, or a first-order inverting
 	// RC stage, as two matched halves (see [circuit.Stage.ToFullyDifferential]),
 	// differentially driven. Sections with jω-axis zeros (the notch kinds)
-	// have no fully differential form here and are refused, as are
-	// all-pass sections.
+	// have no fully differential form here and are refused (ErrNoForm),
+	// as are all-pass sections; package synth then builds the whole chain
+	// single-ended and converts it after the last section.
 	FullyDifferential = "fully-differential"
 	// TwoIntegratorNotch is the three-op-amp notch stage (a two-integrator
 	// loop with feedforward); [Auto] reaches it, and so does the name.

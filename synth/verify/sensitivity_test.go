@@ -99,12 +99,13 @@ func TestSensitivitiesAgainstCentralDifferences(t *testing.T) {
 		}
 	}
 	for name, st := range map[string]circuit.Stage{
-		"sallen-key-lp": sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9),
-		"sallen-key-hp": sallenKeyHP(10e-9, 10e-9, 12e3, 47e3),
-		"mfb-lp":        mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9),
-		"rc-buffer":     rcBuffer(15e3, 10e-9),
-		"fda-mfb-lp":    mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), true),
-		"fda-mfb-lp-se": mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), false),
+		"sallen-key-lp":           sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9),
+		"sallen-key-hp":           sallenKeyHP(10e-9, 10e-9, 12e3, 47e3),
+		"mfb-lp":                  mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9),
+		"rc-buffer":               rcBuffer(15e3, 10e-9),
+		"fda-mfb-lp":              mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), true),
+		"fda-mfb-lp-se":           mustFD(t, mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), false),
+		"sallen-key-lp-converted": mustConverted(t, sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9)),
 	} {
 		cases = append(cases, stageCase{name, st, []circuit.Model{ideal, singlePole, {GBWHz: 50e3, DCGainDB: 80}}})
 	}
@@ -329,4 +330,13 @@ func mustFD(t *testing.T, st circuit.Stage, diffIn bool) circuit.Stage {
 		fd = fd.SingleEndedInput()
 	}
 	return fd
+}
+
+// mustConverted is st followed by the single-ended to differential
+// conversion (circuit.Stage.WithConversion, 10 kΩ halves).
+func mustConverted(t *testing.T, st circuit.Stage) circuit.Stage {
+	t.Helper()
+	out, err := st.WithConversion(circuit.Part{Value: 10e3})
+	require.NoError(t, err)
+	return out
 }

@@ -15,10 +15,14 @@ zeros, poles and gain (rad/s):
 
     butter(N, Wn, btype, analog=True, output="zpk")
     cheby1(N, rp, Wn, btype, analog=True, output="zpk")
+    ellip(N, rp, rs, Wn, btype, analog=True, output="zpk")
 
 with Wn = 2*pi*passband_hz. polewright's Butterworth edge is where the loss
 equals passband_ripple_db, so the cases give 10*log10(2) dB, SciPy's
-half-power edge. The synth test evaluates this transfer function at
+half-power edge; an elliptic case's rs is its stopband_atten_db. The
+elliptic lowpass and the bandstop cases have sections with jw-axis zeros,
+which polewright builds single-ended and converts to differential after
+the last section. The synth test evaluates this transfer function at
 ngspice's frequencies and compares the differential deck's v(out) with it.
 
 Records: name, spec (the JSON spec the test designs), zeros and poles as
@@ -46,6 +50,16 @@ CASES = [
      {"topology": "fully-differential"}),
     ("bandpass-butterworth-2", "bandpass", "butterworth", 2, [800.0, 1250.0], HALF_POWER_DB,
      {"topology": "fully-differential"}),
+    # Sections with jw-axis zeros have no fully differential form: these
+    # are built single-ended and converted to differential after the last
+    # section.
+    ("lowpass-elliptic-4-auto", "lowpass", "elliptic", 4, [1000.0], 0.5,
+     {"stopband_atten_db": 40.0,
+      "converter": {"bits": 24, "sample_rate_hz": 256000, "output_rate_hz": 4000,
+                    "full_scale_vpp": 5, "architecture": "sigma-delta", "input": "differential"}}),
+    ("bandstop-butterworth-2-auto", "bandstop", "butterworth", 2, [800.0, 1250.0], HALF_POWER_DB,
+     {"converter": {"bits": 24, "sample_rate_hz": 256000, "output_rate_hz": 4000,
+                    "full_scale_vpp": 5, "architecture": "sigma-delta", "input": "differential"}}),
 ]
 
 
@@ -60,6 +74,9 @@ def main():
         wn = wn[0] if len(wn) == 1 else wn
         if approx == "butterworth":
             z, p, k = signal.butter(order, wn, btype=resp, analog=True, output="zpk")
+        elif approx == "elliptic":
+            z, p, k = signal.ellip(order, ripple, extra["stopband_atten_db"], wn, btype=resp,
+                                   analog=True, output="zpk")
         else:
             z, p, k = signal.cheby1(order, ripple, wn, btype=resp, analog=True, output="zpk")
         spec = {"response": resp, "approximation": approx, "order": order,
