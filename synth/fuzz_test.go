@@ -129,6 +129,13 @@ func FuzzDesignFinite(f *testing.F) {
 		  "opamp": {"gbw_hz": 1e6, "offset_v": 0.1, "bias_a": 1e-3, "input_capacitance_farad": 1e-9, "output_resistance_ohm": 1e4, "noise_corner_hz": 1e6}, ` + conv + `}`,
 		`{"response": "highpass", "approximation": "chebyshev2", "order": 6, "passband_hz": 1000, "supply": {"positive_v": 1, "negative_v": -1},
 		  "opamp": {"ideal": true, "input_capacitance_farad": 1e-9, "output_resistance_ohm": 1e4}, "signal_vpp": 200}`,
+		// Differential converters: fully differential stages, and notch
+		// sections built single-ended and converted at the end, on a
+		// supply with every parasitic.
+		`{"approximation": "butterworth", "order": 8, "passband_hz": 1000, "converter": {"bits": 24, "sample_rate_hz": 512000, "output_rate_hz": 8000, "full_scale_vpp": 5, "architecture": "sigma-delta", "input": "differential"}}`,
+		`{"approximation": "elliptic", "order": 7, "passband_hz": 1000, "stopband_atten_db": 90, "converter": {"bits": 24, "sample_rate_hz": 512000, "output_rate_hz": 8000, "full_scale_vpp": 5, "architecture": "sigma-delta", "input": "differential"},
+		  "supply": {"positive_v": 5}, "opamp": {"gbw_hz": 1e6, "offset_v": 1e-3, "bias_a": 1e-6, "input_capacitance_farad": 1e-11, "output_resistance_ohm": 100}, "montecarlo": {"trials": 30, "seed": 2}}`,
+		`{"response": "bandstop", "approximation": "chebyshev2", "order": 6, "passband_hz": [40, 70], "stopband_hz": [48, 52], "topology": "fully-differential", ` + wide + `}`,
 	} {
 		f.Add([]byte(s))
 	}
