@@ -29,7 +29,7 @@ type modalTerm struct {
 }
 
 // newModalEval returns the partial fractions of the validated stages with
-// the roots [build] found, or ErrIllConditioned when a residue cannot be
+// the roots [build] found (residues as [modesOf] finds them), or ErrIllConditioned when a residue cannot be
 // computed (a pole repeated exactly across stages), ErrUnstable for a pole
 // with Re p ≥ 0.
 func newModalEval(stages []Stage, rs []rooted) (*modalEval, error) {
@@ -42,22 +42,7 @@ func newModalEval(stages []Stage, rs []rooted) (*modalEval, error) {
 			if imag(x) < 0 {
 				continue
 			}
-			p := x * complex(r.ws, 0)
-			res := complex(r.ws*r.k, 0)
-			for _, z := range r.zeros {
-				res *= x - z
-			}
-			for i, q := range r.poles {
-				if i != m {
-					res /= x - q
-				}
-			}
-			for l, st := range stages {
-				if l != k {
-					res *= st.At(p)
-				}
-			}
-			res /= p
+			p, res := residue(stages, rs, k, m)
 			if cmplx.IsNaN(res) || cmplx.IsInf(res) {
 				return nil, ErrIllConditioned
 			}

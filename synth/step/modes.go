@@ -61,22 +61,7 @@ func modesOf(stages []Stage, rs []rooted) ([]mode, error) {
 			if imag(x) < 0 {
 				continue
 			}
-			p := x * complex(r.ws, 0)
-			res := complex(r.ws*r.k, 0)
-			for _, z := range r.zeros {
-				res *= x - z
-			}
-			for i, q := range r.poles {
-				if i != m {
-					res /= x - q
-				}
-			}
-			for l, st := range stages {
-				if l != k {
-					res *= st.At(p)
-				}
-			}
-			res /= p
+			p, res := residue(stages, rs, k, m)
 			amp := cmplx.Abs(res)
 			if imag(x) > 0 {
 				amp *= 2
@@ -103,6 +88,29 @@ func modesOf(stages []Stage, rs []rooted) ([]mode, error) {
 		}
 	}
 	return ms, nil
+}
+
+// residue returns pole m of stage k in rad/s, p, and the residue of
+// H(s)/s there (the formula in [modesOf]'s comment).
+func residue(stages []Stage, rs []rooted, k, m int) (p, res complex128) {
+	r := rs[k]
+	x := r.poles[m]
+	p = x * complex(r.ws, 0)
+	res = complex(r.ws*r.k, 0)
+	for _, z := range r.zeros {
+		res *= x - z
+	}
+	for i, q := range r.poles {
+		if i != m {
+			res /= x - q
+		}
+	}
+	for l, st := range stages {
+		if l != k {
+			res *= st.At(p)
+		}
+	}
+	return p, res / p
 }
 
 // highGain returns H(∞) of the cascade: the product over the stages of
