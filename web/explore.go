@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"net/http"
@@ -163,73 +162,16 @@ func (h *handler) exploreProgress(w http.ResponseWriter, r *http.Request) {
 		h.exploreSpecError(w, r, vals, err)
 		return
 	}
-	hd := w.Header()
-	hd.Set("Content-Type", "text/event-stream")
-	hd.Set("Cache-Control", "no-store")
-	hd.Set("X-Accel-Buffering", "no")
-	w.WriteHeader(http.StatusOK)
-	send := func(event string, data any) bool {
-		b, err := json.Marshal(data)
-		if err != nil {
-			return false
-		}
-		if _, err := fmt.Fprintf(w, "event: %s\ndata: %s\n\n", event, b); err != nil {
-			return false
-		}
-		return rc.Flush() == nil
-	}
+	send := eventStream(w, rc)
 	page := "/explore?" + canonicalQuery(vals)
 	res, f := h.explores.join(ctx, plan)
 	if res != nil {
 		send("done", doneEvent{URL: page})
 		return
 	}
-	seen := 0
-	flushProgress := func() bool {
-		ev, seq := f.latest()
-		if seq == seen {
-			return true
-		}
-		seen = seq
-		return send("progress", ev)
-	}
-	tick := time.NewTicker(progressInterval)
-	defer tick.Stop()
-	for {
-		select {
-		case <-tick.C:
-			if !flushProgress() {
-				h.explores.leave(f)
-				return
-			}
-		case <-ctx.Done():
-			h.explores.leave(f)
-			if r.Context().Err() == nil {
-				send("error", errorEvent{Message: "the exploration took too long; try again with fewer trials, or name a topology or a resistor series"})
-			}
-			return
-		case <-f.done:
-			h.explores.leave(f)
-			flushProgress()
-			switch {
-			case f.err == nil:
-				send("done", doneEvent{URL: page})
-			case errors.Is(f.err, context.Canceled) && r.Context().Err() != nil:
-			case errors.Is(f.err, context.DeadlineExceeded) || errors.Is(f.err, context.Canceled):
-				send("error", errorEvent{Message: "the exploration took too long; try again with fewer trials, or name a topology or a resistor series"})
-			default:
-				if _, ok := synth.IsFieldError(f.err); ok {
-					ev := specError(vals, f.err)
-					ev.URL = page
-					send("error", ev)
-				} else {
-					h.logWarn(r.Context(), "exploration failed", f.err)
-					send("error", errorEvent{Message: "internal error; it has been logged"})
-				}
-			}
-			return
-		}
-	}
+	h.followRun(ctx, r, send, followed{
+		latest: f.latest, done: f.done, err: func() error { return f.err }, leave: func() { h.explores.leave(f) },
+	}, vals, page, "the exploration took too long; try again with fewer trials, or name a topology or a resistor series", "exploration failed")
 }
 
 // exploreColumns are the table's figures, in order.

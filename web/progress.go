@@ -58,22 +58,7 @@ func (h *handler) designProgress(w http.ResponseWriter, r *http.Request) {
 	// its run (errors: the writer has no deadline to set).
 	_ = rc.SetWriteDeadline(time.Now().Add(ProgressTimeout + 10*time.Second))
 
-	hd := w.Header()
-	hd.Set("Content-Type", "text/event-stream")
-	hd.Set("Cache-Control", "no-store")
-	hd.Set("X-Accel-Buffering", "no")
-	w.WriteHeader(http.StatusOK)
-
-	send := func(event string, data any) bool {
-		b, err := json.Marshal(data)
-		if err != nil {
-			return false
-		}
-		if _, err := fmt.Fprintf(w, "event: %s\ndata: %s\n\n", event, b); err != nil {
-			return false
-		}
-		return rc.Flush() == nil
-	}
+	send := eventStream(w, rc)
 
 	vals, spec, err := parseQuery(r.URL.Query())
 	if err != nil {
@@ -89,50 +74,91 @@ func (h *handler) designProgress(w http.ResponseWriter, r *http.Request) {
 		send("done", doneEvent{URL: "/design?" + canonicalQuery(vals)})
 		return
 	}
+	h.followRun(ctx, r, send, followed{
+		latest: f.latest, done: f.done, err: func() error { return f.err }, leave: func() { h.cache.leave(f) },
+	}, vals, "/design?"+canonicalQuery(vals), "the design took too long; try again with fewer trials or a lower order", "progress run failed")
+}
+
+// eventStream answers w with a server-sent event stream and returns the
+// function that sends one event (its data as JSON), false once the
+// client is gone.
+func eventStream(w http.ResponseWriter, rc *http.ResponseController) func(event string, data any) bool {
+	hd := w.Header()
+	hd.Set("Content-Type", "text/event-stream")
+	hd.Set("Cache-Control", "no-store")
+	hd.Set("X-Accel-Buffering", "no")
+	w.WriteHeader(http.StatusOK)
+	return func(event string, data any) bool {
+		b, err := json.Marshal(data)
+		if err != nil {
+			return false
+		}
+		if _, err := fmt.Fprintf(w, "event: %s\ndata: %s\n\n", event, b); err != nil {
+			return false
+		}
+		return rc.Flush() == nil
+	}
+}
+
+// followed is a run in progress that a stream follows: its latest
+// progress and sequence number, the channel closed when it ends, its
+// error then, and how the request leaves it.
+type followed struct {
+	latest func() (progressEvent, int)
+	done   <-chan struct{}
+	err    func() error
+	leave  func()
+}
+
+// followRun streams run's progress ("progress", at most once per
+// progressInterval, only when it moved) until it ends, then "done" with
+// url, or "error": tooLong when it ran out of time, the spec's error
+// event (its address url) for a spec at fault, else an internal error
+// logged as what. A client that goes away leaves the run, which stops
+// unless other requests wait for it (leave waits for it to stop, so that
+// no work outlives the requests that asked for it).
+func (h *handler) followRun(ctx context.Context, r *http.Request, send func(string, any) bool, run followed, vals formValues, url, tooLong, what string) {
 	seen := 0
 	flushProgress := func() bool {
-		ev, seq := f.latest()
+		ev, seq := run.latest()
 		if seq == seen {
 			return true
 		}
 		seen = seq
 		return send("progress", ev)
 	}
-
 	tick := time.NewTicker(progressInterval)
 	defer tick.Stop()
 	for {
 		select {
 		case <-tick.C:
 			if !flushProgress() {
-				// The client is gone: the run stops unless other requests
-				// wait for it (leave waits for it to stop, so that no work
-				// outlives the requests that asked for it).
-				h.cache.leave(f)
+				run.leave()
 				return
 			}
 		case <-ctx.Done():
-			h.cache.leave(f)
+			run.leave()
 			if r.Context().Err() == nil {
-				send("error", errorEvent{Message: "the design took too long; try again with fewer trials or a lower order"})
+				send("error", errorEvent{Message: tooLong})
 			}
 			return
-		case <-f.done:
-			h.cache.leave(f)
+		case <-run.done:
+			run.leave()
 			flushProgress()
-			out := f
-			switch {
-			case out.err == nil:
-				send("done", doneEvent{URL: "/design?" + canonicalQuery(vals)})
-			case errors.Is(out.err, context.Canceled) && r.Context().Err() != nil:
+			switch err := run.err(); {
+			case err == nil:
+				send("done", doneEvent{URL: url})
+			case errors.Is(err, context.Canceled) && r.Context().Err() != nil:
 				// The client went away; nobody is listening.
-			case errors.Is(out.err, context.DeadlineExceeded) || errors.Is(out.err, context.Canceled):
-				send("error", errorEvent{Message: "the design took too long; try again with fewer trials or a lower order"})
+			case errors.Is(err, context.DeadlineExceeded) || errors.Is(err, context.Canceled):
+				send("error", errorEvent{Message: tooLong})
 			default:
-				if _, ok := synth.IsFieldError(out.err); ok {
-					send("error", specError(vals, out.err))
+				if _, ok := synth.IsFieldError(err); ok {
+					ev := specError(vals, err)
+					ev.URL = url
+					send("error", ev)
 				} else {
-					h.logWarn(r.Context(), "progress run failed", out.err)
+					h.logWarn(r.Context(), what, err)
 					send("error", errorEvent{Message: "internal error; it has been logged"})
 				}
 			}
