@@ -66,21 +66,15 @@ func writeSchematics(w io.Writer, d *synth.Design) error {
 	var body bytes.Buffer
 	width, y := 0, 0
 	for k := 1; k <= len(ch.Stages); k++ {
-		var one bytes.Buffer
-		if err := StageSVG(&one, d, ch, k); err != nil {
+		one, sw, sh, err := sizedStageSVG(d, ch, k)
+		if err != nil {
 			return err
 		}
-		m := rootSize.FindSubmatch(one.Bytes())
-		if m == nil {
-			return fmt.Errorf("export: stage %d's schematic has no width and height", k)
-		}
-		sw, _ := strconv.Atoi(string(m[1]))
-		sh, _ := strconv.Atoi(string(m[2]))
 		if k > 1 {
 			y += schematicGapPx
 		}
 		fmt.Fprintf(&body, "<g class=\"stage\" data-stage=\"%d\" transform=\"translate(0 %d)\">\n", k, y)
-		body.Write(one.Bytes())
+		body.Write(one)
 		body.WriteString("</g>\n")
 		width = max(width, sw)
 		y += sh
@@ -93,4 +87,20 @@ func writeSchematics(w io.Writer, d *synth.Design) error {
 		_, err = io.WriteString(w, "</svg>\n")
 	}
 	return err
+}
+
+// sizedStageSVG draws stage k of ch as [StageSVG] does and returns the
+// drawing with its width and height in px, read from its root element.
+func sizedStageSVG(d *synth.Design, ch circuit.Chain, k int) (svg []byte, width, height int, err error) {
+	var one bytes.Buffer
+	if err := StageSVG(&one, d, ch, k); err != nil {
+		return nil, 0, 0, err
+	}
+	m := rootSize.FindSubmatch(one.Bytes())
+	if m == nil {
+		return nil, 0, 0, fmt.Errorf("export: stage %d's schematic has no width and height", k)
+	}
+	width, _ = strconv.Atoi(string(m[1]))
+	height, _ = strconv.Atoi(string(m[2]))
+	return one.Bytes(), width, height, nil
 }

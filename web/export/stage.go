@@ -34,23 +34,19 @@ func WriteStageSchematic(w io.Writer, d *synth.Design, k int) error {
 	if k < 1 || k > len(ch.Stages) {
 		return fmt.Errorf("export: the design has %d stages, not a stage %d", len(ch.Stages), k)
 	}
-	var one bytes.Buffer
-	if err := StageSVG(&one, d, ch, k); err != nil {
+	one, sw, sh, err := sizedStageSVG(d, ch, k)
+	if err != nil {
 		return err
-	}
-	m := rootSize.FindSubmatch(one.Bytes())
-	if m == nil {
-		return fmt.Errorf("export: stage %d's schematic has no width and height", k)
 	}
 	var b bytes.Buffer
 	fmt.Fprintf(&b, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"+
-		"<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 %s %s\" width=\"%s\" height=\"%s\" color=\"#000\">\n<title>", m[1], m[2], m[1], m[2])
+		"<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 %d %d\" width=\"%d\" height=\"%d\" color=\"#000\">\n<title>", sw, sh, sw, sh)
 	xmlEscape(&b, fmt.Sprintf("polewright: %s, schematic of stage %d", Describe(d), k))
 	b.WriteString("</title>\n<desc>")
 	spec, _ := json.Marshal(d.Spec)
 	xmlEscape(&b, "spec: "+string(spec))
-	fmt.Fprintf(&b, "</desc>\n<rect width=\"%s\" height=\"%s\" fill=\"#fff\"/>\n", m[1], m[2])
-	b.Write(one.Bytes())
+	fmt.Fprintf(&b, "</desc>\n<rect width=\"%d\" height=\"%d\" fill=\"#fff\"/>\n", sw, sh)
+	b.Write(one)
 	b.WriteString("</svg>\n")
 	_, err = w.Write(b.Bytes())
 	return err
