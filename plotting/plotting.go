@@ -16,8 +16,8 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
+	"github.com/polewright/polewright/plotting/internal/svgcanvas"
 	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/circuit"
 )
@@ -388,7 +388,8 @@ var figureTiles = draw.Tiles{
 // the legend lg in a strip above them, aligned with the data area's left
 // edge.
 func render(w io.Writer, width, height vg.Length, lg legend, plots ...*plot.Plot) error {
-	c := vgsvg.New(width, height)
+	c := svgcanvas.New(width, height)
+	defer c.Release()
 	dc := draw.New(c)
 	dc.SetColor(color.White)
 	dc.Fill(dc.Rectangle.Path())
