@@ -4,6 +4,7 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"slices"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -267,26 +268,35 @@ func envelopeBands(mc *synth.MonteCarloReport, lo, hi float64) []band {
 		fill         color.Color
 		name         string
 	}{{e.MinDB, e.MaxDB, envelopeOuterFill, envelopeOuterName}, {e.P01DB, e.P99DB, envelopeInnerFill, envelopeInnerName}} {
-		var top, bottom plotter.XYs
+		ok := func(i int) bool {
+			f := e.FreqHz[i]
+			return i < len(b.lower) && i < len(b.upper) && f > 0 && finite(f) && !math.IsNaN(b.lower[i]) && !math.IsNaN(b.upper[i])
+		}
+		m := 0
+		for i := range e.FreqHz {
+			if ok(i) {
+				m++
+			}
+		}
+		if m < 2 {
+			continue
+		}
+		// The upper edge left to right, then the lower edge back: one
+		// ring, built in place (plotter.NewPolygon would copy it again).
+		ring := make(plotter.XYs, 2*m)
+		k := 0
 		for i, f := range e.FreqHz {
-			if i >= len(b.lower) || i >= len(b.upper) || !(f > 0) || !finite(f) || math.IsNaN(b.lower[i]) || math.IsNaN(b.upper[i]) {
+			if !ok(i) {
 				continue
 			}
-			top = append(top, plotter.XY{X: f, Y: min(max(b.upper[i], lo), hi)})
-			bottom = append(bottom, plotter.XY{X: f, Y: min(max(b.lower[i], lo), hi)})
+			ring[k] = plotter.XY{X: f, Y: min(max(b.upper[i], lo), hi)}
+			ring[2*m-1-k] = plotter.XY{X: f, Y: min(max(b.lower[i], lo), hi)}
+			k++
 		}
-		if len(top) < 2 {
-			continue
+		if slices.ContainsFunc(ring, func(p plotter.XY) bool { return math.IsInf(p.Y, 0) }) {
+			continue // as plotter.NewPolygon refuses it
 		}
-		ring := make(plotter.XYs, 0, 2*len(top))
-		ring = append(ring, top...)
-		for i := len(bottom) - 1; i >= 0; i-- {
-			ring = append(ring, bottom[i])
-		}
-		poly, err := plotter.NewPolygon(ring)
-		if err != nil {
-			continue
-		}
+		poly := &plotter.Polygon{XYs: []plotter.XYs{ring}, LineStyle: plotter.DefaultLineStyle}
 		poly.Color = b.fill
 		poly.LineStyle.Width = 0
 		out = append(out, band{shape{poly}, b.name})

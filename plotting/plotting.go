@@ -492,19 +492,31 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 	if sty.Width == 0 || len(c.line.XYs) == 0 {
 		return
 	}
-	trX, trY := p.Transforms(&dc)
+	trX, trY := newAxisMap(p.X, dc.Min.X, dc.Max.X), newAxisMap(p.Y, dc.Min.Y, dc.Max.Y)
 	sc := scratchPool.Get().(*scratch)
 	defer scratchPool.Put(sc)
 	ps := slices.Grow(sc.pts[:0], len(c.line.XYs))
 	for _, pt := range c.line.XYs {
-		ps = append(ps, vg.Point{X: trX(pt.X), Y: trY(pt.Y)})
+		ps = append(ps, vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)})
 	}
 	sc.pts = ps
 	ps = sc.simplified(ps, simplifyTolPt)
-	lines := dc.ClipLinesXY(ps)
+	var lines [][]vg.Point
+	if inside(dc, ps) {
+		// What clipping returns for a line inside the area: the line.
+		sc.one[0] = ps
+		lines = sc.one[:]
+	} else {
+		lines = sc.clip.clip(dc, ps)
+	}
 	dc.SetLineStyle(sty)
+	pl, direct := polylinerOf(dc.Canvas)
 	for _, l := range lines {
 		if len(l) == 0 {
+			continue
+		}
+		if direct {
+			pl.StrokePolyline(l)
 			continue
 		}
 		path := make(vg.Path, 0, len(l))
@@ -514,6 +526,76 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 		}
 		dc.Stroke(path)
 	}
+	sc.one[0] = nil
+}
+
+// polyliner is a canvas that strokes a polyline without a vg.Path
+// (svgcanvas.Canvas, with the same output as Stroke of the path).
+type polyliner interface {
+	StrokePolyline([]vg.Point)
+}
+
+// polylinerOf returns the polyliner under the canvases that gonum/plot
+// wraps around the one drawn on.
+func polylinerOf(c vg.Canvas) (polyliner, bool) {
+	for {
+		switch cv := c.(type) {
+		case polyliner:
+			return cv, true
+		case draw.Canvas:
+			c = cv.Canvas
+		case *draw.Canvas:
+			c = cv.Canvas
+		default:
+			return nil, false
+		}
+	}
+}
+
+// inside reports whether every point of l lies in dc's rectangle, edges
+// included, where gonum/plot's clipping keeps a line whole.
+func inside(dc draw.Canvas, l []vg.Point) bool {
+	for _, pt := range l {
+		if !(pt.X >= dc.Min.X && pt.X <= dc.Max.X && pt.Y >= dc.Min.Y && pt.Y <= dc.Max.Y) {
+			return false
+		}
+	}
+	return true
+}
+
+// axisMap maps data values along an axis to canvas coordinates with the
+// same arithmetic as plot.Plot.Transforms, without its closures and
+// interface calls for the two scales the plots use.
+type axisMap struct {
+	a           plot.Axis
+	lin         bool
+	log         *logScale
+	cMin, cSpan vg.Length
+}
+
+func newAxisMap(a plot.Axis, cMin, cMax vg.Length) axisMap {
+	m := axisMap{a: a, cMin: cMin, cSpan: cMax - cMin}
+	switch sc := a.Scale.(type) {
+	case plot.LinearScale:
+		m.lin = true
+	case *logScale:
+		m.log = sc
+	}
+	return m
+}
+
+// at returns the canvas coordinate of the data value x.
+func (m *axisMap) at(x float64) vg.Length {
+	var v float64
+	switch {
+	case m.lin:
+		v = (x - m.a.Min) / (m.a.Max - m.a.Min)
+	case m.log != nil:
+		v = m.log.Normalize(m.a.Min, m.a.Max, x)
+	default:
+		v = m.a.Norm(x)
+	}
+	return vg.Length(v)*m.cSpan + m.cMin
 }
 
 // scratch is the memory curve.Plot works in, pooled in scratchPool: the
@@ -522,6 +604,8 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 type scratch struct {
 	pts  []vg.Point
 	keep []bool
+	one  [1][]vg.Point // the one line of a curve inside its area
+	clip clipper
 }
 
 var scratchPool = sync.Pool{New: func() any { return new(scratch) }}

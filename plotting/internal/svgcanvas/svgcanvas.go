@@ -150,13 +150,29 @@ func (c *Canvas) Pop() {
 }
 
 // Stroke draws the outline of path.
-func (c *Canvas) Stroke(path vg.Path) {
+func (c *Canvas) Stroke(path vg.Path) { c.stroke(path, nil) }
+
+// stroke strokes path, or the polyline pts when path is nil.
+func (c *Canvas) stroke(path vg.Path, pts []vg.Point) {
 	ctx := c.context()
 	if ctx.lineWidth.Points() <= 0 {
 		return
 	}
 	c.buf.WriteString(`<path d="`)
-	c.pathData(path)
+	if path != nil {
+		c.pathData(path)
+	} else {
+		for i, pt := range pts {
+			if i == 0 {
+				c.buf.WriteByte('M')
+			} else {
+				c.buf.WriteByte('L')
+			}
+			c.g(pt.X.Points())
+			c.buf.WriteByte(',')
+			c.g(pt.Y.Points())
+		}
+	}
 	c.buf.WriteString(`" style="fill:none;stroke:`)
 	c.colour(ctx.color)
 	if a := opacity(ctx.color); a != 1 {
@@ -183,6 +199,16 @@ func (c *Canvas) Stroke(path vg.Path) {
 		c.buf.Write(c.num)
 	}
 	c.buf.WriteString("\" />\n")
+}
+
+// StrokePolyline strokes the line through pts, exactly as Stroke of the
+// path that moves to pts[0] and draws lines to the others, without
+// building that path.
+func (c *Canvas) StrokePolyline(pts []vg.Point) {
+	if len(pts) == 0 {
+		return
+	}
+	c.stroke(nil, pts)
 }
 
 // Fill fills path.

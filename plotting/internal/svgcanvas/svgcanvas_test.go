@@ -172,3 +172,35 @@ func BenchmarkStroke(b *testing.B) {
 		}
 	})
 }
+
+// TestStrokePolylineAsPath requires StrokePolyline to write what vgsvg
+// writes for Stroke of the path through the same points.
+func TestStrokePolylineAsPath(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, n := range []int{1, 2, 17, 600} {
+		pts := make([]vg.Point, n)
+		for i := range pts {
+			pts[i] = vg.Point{X: vg.Length(rng.Float64() * 720), Y: vg.Length(rng.NormFloat64() * 300)}
+		}
+		var path vg.Path
+		path.Move(pts[0])
+		for _, pt := range pts[1:] {
+			path.Line(pt)
+		}
+		var want, got bytes.Buffer
+		ref := vgsvg.New(720, 460)
+		ref.SetLineWidth(1.2)
+		ref.SetLineDash([]vg.Length{5, 2.5}, 0)
+		ref.Stroke(path)
+		_, err := ref.WriteTo(&want)
+		require.NoError(t, err)
+		c := New(720, 460)
+		c.SetLineWidth(1.2)
+		c.SetLineDash([]vg.Length{5, 2.5}, 0)
+		c.StrokePolyline(pts)
+		_, err = c.WriteTo(&got)
+		require.NoError(t, err)
+		c.Release()
+		require.Equal(t, want.String(), got.String(), "%d points", n)
+	}
+}
