@@ -49,6 +49,7 @@ func BenchmarkTransferFunction(b *testing.B) {
 	}{
 		{"sallen-key/single-pole", benchchain.SinglePole},
 		{"sallen-key/ideal", ideal},
+		{"sallen-key/parasitics", withParasiticsModel(benchchain.SinglePole)},
 	} {
 		b.Run(tc.name, func(b *testing.B) {
 			b.ReportAllocs()
@@ -59,6 +60,13 @@ func BenchmarkTransferFunction(b *testing.B) {
 			}
 		})
 	}
+}
+
+// withParasiticsModel returns m with 3 pF of input capacitance and 50 Ω
+// of output resistance.
+func withParasiticsModel(m circuit.Model) circuit.Model {
+	m.InputCapacitanceFarad, m.OutputResistanceOhm = 3e-12, 50
+	return m
 }
 
 func BenchmarkSolveAt(b *testing.B) {

@@ -100,6 +100,7 @@ type loop struct {
 	sys    *system
 	row, o int
 	pl, mi int
+	rho    float64 // −Ro/rn (see compile)
 	invA0  float64
 	invWt  float64
 	scale  float64
@@ -124,9 +125,9 @@ func (st Stage) newLoop(m Model, k int) (*loop, error) {
 		return nil, invalidf("loop gain: op-amp %d is fully differential (its loop is not broken here)", k)
 	}
 	st, t = st.withParasitics(m, t)
-	scale, _ := stageScale(st, m)
+	scale, rn := stageScale(st, m)
 	u := st.OpAmps[k-1]
-	return &loop{sys: compile(st, m, t, scale), row: len(t.names) - 1 + k, o: t.unknown(u.Out),
+	return &loop{sys: compile(st, m, t, scale), row: len(t.names) - 1 + k, o: t.unknown(u.Out), rho: -m.OutputResistanceOhm / rn,
 		pl: t.unknown(u.Plus), mi: t.unknown(u.Minus), invA0: 1 / m.a0(), invWt: 1 / (2 * math.Pi * m.GBWHz), scale: scale}, nil
 }
 
@@ -135,11 +136,13 @@ func (l *loop) at(s complex128) (complex128, error) {
 	sys := l.sys
 	sys.fill(s / complex(l.scale, 0))
 	n := sys.n
-	// The op-amp's equation becomes V(out) = 1: the test source.
+	// The op-amp's equation becomes V(internal) = V(out) + ρ·I = 1: the
+	// test source.
 	for j := range n {
 		sys.a[l.row*n+j] = 0
 	}
 	sys.a[l.row*n+l.o] = 1
+	sys.a[l.row*n+l.row] += complex(l.rho, 0)
 	if err := factorSolve(sys, l.row); err != nil {
 		return 0, err
 	}

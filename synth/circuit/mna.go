@@ -137,6 +137,11 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		invA0 = 1 / m.a0()
 		invWt = 1 / (2 * math.Pi * m.GBWHz)
 	}
+	// The output resistance, eliminated (see withParasitics): the
+	// amplifier's internal voltage is V(Out) + ρ·x with x the output
+	// current unknown, which is rn times the current from Out into the
+	// amplifier (it enters Out's balance with +1): ρ = −Ro/rn.
+	rho := -m.OutputResistanceOhm / rn
 	cm := nodes + 1 + len(st.OpAmps)
 	for k, u := range st.OpAmps {
 		row := nodes + 1 + k
@@ -148,20 +153,26 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		if mi := idx(u.Minus); mi >= 0 {
 			sys.g[row*n+mi] += 1
 		}
-		on := -1
+		on, cmCol := -1, -1
 		if u.FullyDifferential() {
-			on = idx(u.OutN)
+			on, cmCol = idx(u.OutN), cm
 			sys.g[on*n+cm] += 1 // output current into OutN
-			sys.g[cm*n+o] = 1   // V(Out) + V(OutN) = 0
+			sys.g[cm*n+o] = 1   // V(Out) + V(OutN) = 0 at the internal nodes
 			sys.g[cm*n+on] = 1
+			sys.g[cm*n+row] += rho
+			sys.g[cm*n+cm] += rho
 			cm++
 		}
 		if !m.Ideal {
 			sys.g[row*n+o] += invA0
 			sys.c[row*n+o] += invWt * scale
+			sys.g[row*n+row] += rho * invA0
+			sys.c[row*n+row] += rho * invWt * scale
 			if on >= 0 {
 				sys.g[row*n+on] -= invA0
 				sys.c[row*n+on] -= invWt * scale
+				sys.g[row*n+cmCol] -= rho * invA0
+				sys.c[row*n+cmCol] -= rho * invWt * scale
 			}
 			sys.deg++
 		}

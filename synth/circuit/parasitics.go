@@ -80,22 +80,28 @@ func (st Stage) WithParasitics(m Model) Stage {
 	return aug
 }
 
-// withParasitics is WithParasitics for a checked stage whose node table is
-// t: it also returns the table with the internal nodes added (t itself
-// when nothing is added).
+// withParasitics is the form of WithParasitics that this package's nodal
+// analyses compile, for a checked stage whose node table is t: the input
+// capacitors are appended as parts (they join existing nodes, so t is
+// returned unchanged), and the output resistance is left to [compile],
+// which writes each op-amp's equation with the internal node eliminated:
+// with I the amplifier's output current into Out, V(internal) =
+// V(Out) + Ro·I, so the equation reads
+//
+//	(V(Out) + Ro·I)/A(s) − V(+) + V(−) = 0
+//
+// and the current I (an unknown already) replaces the internal node's
+// voltage and balance. The circuit is the same as WithParasitics's, node
+// for node (the tests compare the two), in a system smaller by one
+// unknown per amplifier output, which every analysis pays for at the
+// matrix size cubed.
 func (st Stage) withParasitics(m Model, t *nodeTable) (Stage, *nodeTable) {
-	if !m.HasParasitics() {
+	if !(m.InputCapacitanceFarad > 0) {
 		return st, t
 	}
-	aug := st.WithParasitics(m)
-	t2 := &nodeTable{names: slices.Clone(t.names), terminals: slices.Clone(t.terminals), parent: slices.Clone(t.parent)}
-	for _, u := range aug.OpAmps {
-		t2.add(u.Out)
-		if u.FullyDifferential() {
-			t2.add(u.OutN)
-		}
-	}
-	return aug, t2
+	caps := m
+	caps.OutputResistanceOhm = 0
+	return st.WithParasitics(caps), t
 }
 
 // validParasitics checks the model's parasitic and DC fields.
