@@ -454,8 +454,27 @@ func (d *Design) analyseStage(i int, st circuit.Stage, model circuit.Model, memo
 		worst = math.Max(worst, math.Abs(*r.OpAmpQErrorPct))
 	}
 	start := 0.0 // where the search for the op-amp need starts
-	if !model.Ideal && worst > 0 {
-		start = model.GBWHz * worst / opAmpNeedPct // errors fall as 1/GBW
+	gbwWorst := worst
+	if !model.Ideal && model.HasParasitics() {
+		// The search's errors are the gain-bandwidth's alone (its models
+		// have no parasitics), and so is its starting estimate: the input
+		// capacitance's share of worst does not fall with GBW, and
+		// starting from it cost the search a few more steps.
+		gbwWorst = 0
+		plain := model
+		plain.InputCapacitanceFarad, plain.OutputResistanceOhm = 0, 0
+		if tf, err := memo.TransferFunction(st, plain); err == nil {
+			tf.SectionOrder = sec.Order
+			if fp, qp, ok := tf.DominantPair(); ok {
+				gbwWorst = math.Abs(pct(fp, f0i))
+				if sec.Order == 2 {
+					gbwWorst = math.Max(gbwWorst, math.Abs(pct(qp, qi)))
+				}
+			}
+		}
+	}
+	if !model.Ideal && gbwWorst > 0 {
+		start = model.GBWHz * gbwWorst / opAmpNeedPct // errors fall as 1/GBW
 	}
 	sec.OpAmpNeeds = opAmpNeeds(st, model, f0i, qi, sec.Order, start, sec.Kind == section.Notch, memo)
 	if !model.Ideal && worst > OpAmpErrorFlagPct {
