@@ -199,36 +199,82 @@ type shape struct{ poly *plotter.Polygon }
 // curve.Plot): the Monte Carlo envelope's bands have two points per
 // frequency of the analysis.
 func (s shape) Plot(c draw.Canvas, p *plot.Plot) {
-	trX, trY := p.Transforms(&c)
-	rings := make([][]vg.Point, 0, len(s.poly.XYs))
+	trX, trY := newAxisMap(p.X, c.Min.X, c.Max.X), newAxisMap(p.Y, c.Min.Y, c.Max.Y)
+	sc := scratchPool.Get().(*scratch)
+	defer scratchPool.Put(sc)
+	rings := sc.rings[:0]
 	n := 0
 	for _, xys := range s.poly.XYs {
 		ring := make([]vg.Point, len(xys))
 		for j, pt := range xys {
-			ring[j] = vg.Point{X: trX(pt.X), Y: trY(pt.Y)}
+			ring[j] = vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)}
 		}
-		if ring = c.ClipPolygonXY(simplified(ring, simplifyTolPt)); len(ring) > 0 {
+		ring = sc.simplified(ring, simplifyTolPt)
+		if !inside(c, ring) {
+			// (a ring inside the area is its own clipped ring)
+			ring = c.ClipPolygonXY(ring)
+		}
+		if len(ring) > 0 {
 			rings = append(rings, ring)
 			n += len(ring) + 1
 		}
 	}
+	sc.rings = rings
+	defer clear(sc.rings)
+	pl, direct := polylinerOf(c.Canvas)
 	if s.poly.Color != nil && len(rings) > 0 {
 		c.SetColor(s.poly.Color)
-		pa := make(vg.Path, 0, n)
-		for _, ring := range rings {
-			pa.Move(ring[0])
-			for _, pt := range ring[1:] {
-				pa.Line(pt)
+		if direct {
+			pl.FillPolygons(rings)
+		} else {
+			pa := make(vg.Path, 0, n)
+			for _, ring := range rings {
+				pa.Move(ring[0])
+				for _, pt := range ring[1:] {
+					pa.Line(pt)
+				}
+				pa.Close()
 			}
-			pa.Close()
+			c.Fill(pa)
 		}
-		c.Fill(pa)
 	}
 	for _, ring := range rings {
 		if ring[len(ring)-1] != ring[0] {
 			ring = append(ring, ring[0])
 		}
-		c.StrokeLines(s.poly.LineStyle, c.ClipLinesXY(ring)...)
+		var lines [][]vg.Point
+		if inside(c, ring) {
+			if len(ring) > 1 {
+				sc.one[0] = ring
+				lines = sc.one[:]
+			}
+		} else {
+			lines = sc.clip.clip(c, ring)
+		}
+		// draw.Canvas.StrokeLines, without a path for an invisible edge.
+		if len(lines) == 0 {
+			continue
+		}
+		c.SetLineStyle(s.poly.LineStyle)
+		if s.poly.LineStyle.Width <= 0 && direct {
+			continue // the canvas strokes nothing of zero width
+		}
+		for _, l := range lines {
+			if len(l) == 0 {
+				continue
+			}
+			if direct {
+				pl.StrokePolyline(l)
+				continue
+			}
+			pa := make(vg.Path, 0, len(l))
+			pa.Move(l[0])
+			for _, pt := range l[1:] {
+				pa.Line(pt)
+			}
+			c.Stroke(pa)
+		}
+		sc.one[0] = nil
 	}
 }
 

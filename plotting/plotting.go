@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"slices"
+	"strings"
 	"sync"
 	"weak"
 
@@ -328,6 +329,37 @@ func (h *measuringHandler) Box(txt string, fnt font.Font) (width, height, depth 
 	return width, height, depth
 }
 
+// Draw implements text.Handler: text.Plain's Draw, step for step, with
+// each line's width from Box (remembered) rather than measured again.
+func (h *measuringHandler) Draw(c vg.Canvas, txt string, sty text.Style, pt vg.Point) {
+	txt = strings.TrimRight(txt, "\n")
+	if len(txt) == 0 {
+		return
+	}
+	fnt := h.Fonts.Lookup(sty.Font, sty.Font.Size)
+	c.SetColor(sty.Color)
+	if sty.Rotation != 0 {
+		c.Push()
+		c.Rotate(sty.Rotation)
+	}
+	sin64, cos64 := math.Sincos(sty.Rotation)
+	cos := vg.Length(cos64)
+	sin := vg.Length(sin64)
+	pt.X, pt.Y = pt.Y*sin+pt.X*cos, pt.Y*cos-pt.X*sin
+	lines := h.Lines(txt)
+	ht := sty.Height(txt)
+	pt.Y += ht*vg.Length(sty.YAlign) - fnt.Extents().Ascent
+	for i, line := range lines {
+		w, _, _ := h.Box(line, sty.Font)
+		xoffs := vg.Length(sty.XAlign) * w
+		n := vg.Length(len(lines) - i)
+		c.FillString(fnt, pt.Add(vg.Point{X: xoffs, Y: n * sty.Font.Size}), line)
+	}
+	if sty.Rotation != 0 {
+		c.Pop()
+	}
+}
+
 // legendEntry is one name of a figure's legend with its sample.
 type legendEntry struct {
 	name  string
@@ -388,7 +420,12 @@ var figureTiles = draw.Tiles{
 // the legend lg in a strip above them, aligned with the data area's left
 // edge.
 func render(w io.Writer, width, height vg.Length, lg legend, plots ...*plot.Plot) error {
-	c := svgcanvas.New(width, height)
+	var c *svgcanvas.Canvas
+	if bw, ok := w.(*bytes.Buffer); ok {
+		c = svgcanvas.NewOn(bw, width, height) // drawn in place, no copy
+	} else {
+		c = svgcanvas.New(width, height)
+	}
 	defer c.Release()
 	dc := draw.New(c)
 	dc.SetColor(color.White)
@@ -533,6 +570,7 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 // (svgcanvas.Canvas, with the same output as Stroke of the path).
 type polyliner interface {
 	StrokePolyline([]vg.Point)
+	FillPolygons([][]vg.Point)
 }
 
 // polylinerOf returns the polyliner under the canvases that gonum/plot
@@ -604,8 +642,9 @@ func (m *axisMap) at(x float64) vg.Length {
 type scratch struct {
 	pts  []vg.Point
 	keep []bool
-	one  [1][]vg.Point // the one line of a curve inside its area
-	clip clipper
+	one   [1][]vg.Point // the one line of a curve inside its area
+	clip  clipper
+	rings [][]vg.Point // a shape's rings
 }
 
 var scratchPool = sync.Pool{New: func() any { return new(scratch) }}

@@ -249,17 +249,34 @@ var buffers = sync.Pool{New: func() any {
 // page is left to the collector rather than held.
 const maxPooledBytes = 4 << 20
 
-// getBuffer returns an empty buffer from buffers.
-func getBuffer() *bytes.Buffer { return buffers.Get().(*bytes.Buffer) }
+// keptBuffers holds a few grown buffers across garbage collections, which
+// empty a sync.Pool: a page view allocates enough to start a collection
+// every page or two, so that buffers from the pool alone were mostly new
+// and grew again (a sixth of a page view's allocation).
+var keptBuffers = make(chan *bytes.Buffer, 16)
 
-// putBuffer returns b to buffers, emptied; nothing that b's bytes were
-// shared with may be used after.
+// getBuffer returns an empty buffer, a kept one if there is one.
+func getBuffer() *bytes.Buffer {
+	select {
+	case b := <-keptBuffers:
+		return b
+	default:
+		return buffers.Get().(*bytes.Buffer)
+	}
+}
+
+// putBuffer returns b to keptBuffers or buffers, emptied; nothing that b's
+// bytes were shared with may be used after.
 func putBuffer(b *bytes.Buffer) {
 	if b.Cap() > maxPooledBytes {
 		return
 	}
 	b.Reset()
-	buffers.Put(b)
+	select {
+	case keptBuffers <- b:
+	default:
+		buffers.Put(b)
+	}
 }
 
 // initialValues are the values of the blank form.

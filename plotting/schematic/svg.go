@@ -63,7 +63,12 @@ func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 		return differential(w, st, opt)
 	}
 	d := lay(&st, opt.Refs, opt.Title)
-	var b bytes.Buffer
+	// Written in place when w is a buffer (a page's pooled one), else
+	// into one of its own and copied.
+	b, direct := w.(*bytes.Buffer)
+	if !direct {
+		b = new(bytes.Buffer)
+	}
 	b.Grow(4096 + 600*len(st.Parts))
 	name := opt.Title
 	if name == "" {
@@ -81,7 +86,10 @@ func Stage(w io.Writer, st circuit.Stage, opt Options) error {
 			d.bounds = d.bounds.union(rect{g.x + 8, g.y + 4, g.x + 12 + 6*len(d.groundLabel), g.y + 16})
 		}
 	}
-	d.writeSVG(&b, name)
+	d.writeSVG(b, name)
+	if direct {
+		return nil
+	}
 	_, err := w.Write(b.Bytes())
 	return err
 }

@@ -204,3 +204,75 @@ func TestStrokePolylineAsPath(t *testing.T) {
 		require.Equal(t, want.String(), got.String(), "%d points", n)
 	}
 }
+
+// TestNewOnWritesInPlace requires a canvas made on a buffer to leave what
+// the buffer held and write the same document as New's after it.
+func TestNewOnWritesInPlace(t *testing.T) {
+	draw := func(c vg.Canvas) {
+		c.SetLineWidth(2)
+		var p vg.Path
+		p.Move(vg.Point{X: 1, Y: 2})
+		p.Line(vg.Point{X: 30.5, Y: 4.25})
+		c.Stroke(p)
+		c.Push()
+		c.Translate(vg.Point{X: 3, Y: 4})
+	}
+	var want bytes.Buffer
+	c := New(100, 50)
+	draw(c)
+	_, err := c.WriteTo(&want)
+	require.NoError(t, err)
+	c.Release()
+
+	dst := bytes.NewBufferString("prefix\n")
+	on := NewOn(dst, 100, 50)
+	draw(on)
+	n, err := on.WriteTo(dst)
+	require.NoError(t, err)
+	on.Release()
+	require.Equal(t, "prefix\n"+want.String(), dst.String())
+	require.Equal(t, int64(want.Len()), n)
+
+	var other bytes.Buffer // written elsewhere: copied
+	on2 := NewOn(bytes.NewBufferString("x"), 100, 50)
+	draw(on2)
+	_, err = on2.WriteTo(&other)
+	require.NoError(t, err)
+	require.Equal(t, want.String(), other.String())
+}
+
+// TestFillPolygonsAsPath requires FillPolygons to write what vgsvg writes
+// for Fill of the path through the same rings, each closed.
+func TestFillPolygonsAsPath(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	for _, sizes := range [][]int{{1}, {3}, {4, 7}, {300, 2, 5}} {
+		var rings [][]vg.Point
+		var path vg.Path
+		for _, n := range sizes {
+			ring := make([]vg.Point, n)
+			for i := range ring {
+				ring[i] = vg.Point{X: vg.Length(rng.Float64() * 720), Y: vg.Length(rng.Float64() * 460)}
+			}
+			rings = append(rings, ring)
+			path.Move(ring[0])
+			for _, pt := range ring[1:] {
+				path.Line(pt)
+			}
+			path.Close()
+		}
+		clr := color.NRGBA{R: 0xd9, G: 0x6c, B: 0x06, A: 0x30}
+		var want, got bytes.Buffer
+		ref := vgsvg.New(720, 460)
+		ref.SetColor(clr)
+		ref.Fill(path)
+		_, err := ref.WriteTo(&want)
+		require.NoError(t, err)
+		c := New(720, 460)
+		c.SetColor(clr)
+		c.FillPolygons(rings)
+		_, err = c.WriteTo(&got)
+		require.NoError(t, err)
+		c.Release()
+		require.Equal(t, want.String(), got.String(), "rings %v", sizes)
+	}
+}
