@@ -640,8 +640,8 @@ func (m *axisMap) at(x float64) vg.Length {
 // canvas points of a curve and simplify's marks. Nothing drawn keeps it
 // (the SVG canvas writes a path out when it is stroked).
 type scratch struct {
-	pts  []vg.Point
-	keep []bool
+	pts   []vg.Point
+	keep  []bool
 	one   [1][]vg.Point // the one line of a curve inside its area
 	clip  clipper
 	rings [][]vg.Point // a shape's rings
