@@ -48,7 +48,17 @@ func (st Stage) WithParasitics(m Model) Stage {
 		return st
 	}
 	aug := st
-	aug.Parts = slices.Clip(slices.Clone(st.Parts))
+	// One allocation of the parts with room for the parasitic ones: the
+	// analyses call this for every stage (growing the slice was a few
+	// per cent of a board design).
+	extra := 0
+	for _, u := range st.OpAmps {
+		extra += 3 // two input capacitors and an output resistor at most
+		if u.FullyDifferential() {
+			extra++
+		}
+	}
+	aug.Parts = append(make([]Part, 0, len(st.Parts)+extra), st.Parts...)
 	aug.OpAmps = slices.Clone(st.OpAmps)
 	n := 0
 	if c := m.InputCapacitanceFarad; c > 0 {
