@@ -173,7 +173,7 @@ func addMask(p *plot.Plot, lg *legend, regions []region, lo, hi float64) {
 			XYs:       plotter.XYs{{X: r.x0, Y: far}, {X: r.x0, Y: r.limit}, {X: r.x1, Y: r.limit}, {X: r.x1, Y: far}},
 			LineStyle: maskEdge,
 		}}
-		p.Add(shape{poly}, edge)
+		p.Add(shape{poly: poly}, edge)
 		if i == 0 && lg != nil {
 			lg.add(maskName, maskSample{})
 		}
@@ -190,8 +190,53 @@ func (maskSample) Thumbnail(c *draw.Canvas) {
 	c.StrokeLine2(maskEdge, c.Min.X, c.Max.Y, c.Max.X, c.Max.Y)
 }
 
-// shape is a polygon without its DataRange method (see curve).
-type shape struct{ poly *plotter.Polygon }
+// shape is a polygon without its DataRange method (see curve). Its one
+// ring comes from ring when that is set (poly.XYs is then empty).
+type shape struct {
+	poly *plotter.Polygon
+	ring *bandRing
+}
+
+// bandRing is the ring of a Monte Carlo envelope band: the upper edge
+// (clamped to [lo, hi]) at the usable frequencies left to right, then the
+// lower edge back, n points each, made as the band is drawn rather than
+// kept as plotter.XYs.
+type bandRing struct {
+	f, upper, lower []float64
+	lo, hi          float64
+	n               int
+}
+
+// ok reports whether frequency i has a finite frequency and both edges.
+func (r *bandRing) ok(i int) bool {
+	f := r.f[i]
+	return i < len(r.lower) && i < len(r.upper) && f > 0 && finite(f) && !math.IsNaN(r.lower[i]) && !math.IsNaN(r.upper[i])
+}
+
+// infinite reports whether a clamped edge is infinite at a usable
+// frequency.
+func (r *bandRing) infinite() bool {
+	for i := range r.f {
+		if r.ok(i) && (math.IsInf(min(max(r.upper[i], r.lo), r.hi), 0) || math.IsInf(min(max(r.lower[i], r.lo), r.hi), 0)) {
+			return true
+		}
+	}
+	return false
+}
+
+// points writes the ring's 2n points, mapped by trX and trY, into out.
+func (r *bandRing) points(out []vg.Point, trX, trY *axisMap) {
+	k := 0
+	for i, f := range r.f {
+		if !r.ok(i) {
+			continue
+		}
+		x := trX.at(f)
+		out[k] = vg.Point{X: x, Y: trY.at(min(max(r.upper[i], r.lo), r.hi))}
+		out[2*r.n-1-k] = vg.Point{X: x, Y: trY.at(min(max(r.lower[i], r.lo), r.hi))}
+		k++
+	}
+}
 
 // Plot implements plot.Plotter. It draws the polygon as plotter.Polygon
 // does (each ring transformed and clipped, filled, its edge stroked), each
@@ -204,11 +249,35 @@ func (s shape) Plot(c draw.Canvas, p *plot.Plot) {
 	defer scratchPool.Put(sc)
 	rings := sc.rings[:0]
 	n := 0
+	// The rings' points in one piece of scratch memory, each ring with room
+	// for the point that closes its edge (and no more: appending must not
+	// run into the next ring).
+	total := 0
 	for _, xys := range s.poly.XYs {
-		ring := make([]vg.Point, len(xys))
-		for j, pt := range xys {
-			ring[j] = vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)}
+		total += len(xys) + 1
+	}
+	if s.ring != nil {
+		total += 2*s.ring.n + 1
+	}
+	mem := slices.Grow(sc.ringPts[:0], total)[:total]
+	sc.ringPts = mem
+	nRings := len(s.poly.XYs)
+	if s.ring != nil {
+		nRings = 1
+	}
+	for k := range nRings {
+		var ring []vg.Point
+		if s.ring != nil {
+			ring = mem[: 2*s.ring.n : 2*s.ring.n+1]
+			s.ring.points(ring, &trX, &trY)
+		} else {
+			xys := s.poly.XYs[k]
+			ring = mem[: len(xys) : len(xys)+1]
+			for j, pt := range xys {
+				ring[j] = vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)}
+			}
 		}
+		mem = mem[cap(ring):]
 		ring = sc.simplified(ring, simplifyTolPt)
 		if !inside(c, ring) {
 			// (a ring inside the area is its own clipped ring)
@@ -314,13 +383,10 @@ func envelopeBands(mc *synth.MonteCarloReport, lo, hi float64) []band {
 		fill         color.Color
 		name         string
 	}{{e.MinDB, e.MaxDB, envelopeOuterFill, envelopeOuterName}, {e.P01DB, e.P99DB, envelopeInnerFill, envelopeInnerName}} {
-		ok := func(i int) bool {
-			f := e.FreqHz[i]
-			return i < len(b.lower) && i < len(b.upper) && f > 0 && finite(f) && !math.IsNaN(b.lower[i]) && !math.IsNaN(b.upper[i])
-		}
+		probe := bandRing{f: e.FreqHz, upper: b.upper, lower: b.lower}
 		m := 0
 		for i := range e.FreqHz {
-			if ok(i) {
+			if probe.ok(i) {
 				m++
 			}
 		}
@@ -328,24 +394,15 @@ func envelopeBands(mc *synth.MonteCarloReport, lo, hi float64) []band {
 			continue
 		}
 		// The upper edge left to right, then the lower edge back: one
-		// ring, built in place (plotter.NewPolygon would copy it again).
-		ring := make(plotter.XYs, 2*m)
-		k := 0
-		for i, f := range e.FreqHz {
-			if !ok(i) {
-				continue
-			}
-			ring[k] = plotter.XY{X: f, Y: min(max(b.upper[i], lo), hi)}
-			ring[2*m-1-k] = plotter.XY{X: f, Y: min(max(b.lower[i], lo), hi)}
-			k++
+		// ring, made as it is drawn (see bandRing).
+		r := &bandRing{f: e.FreqHz, upper: b.upper, lower: b.lower, lo: lo, hi: hi, n: m}
+		if r.infinite() {
+			continue // as plotter.NewPolygon would refuse it
 		}
-		if slices.ContainsFunc(ring, func(p plotter.XY) bool { return math.IsInf(p.Y, 0) }) {
-			continue // as plotter.NewPolygon refuses it
-		}
-		poly := &plotter.Polygon{XYs: []plotter.XYs{ring}, LineStyle: plotter.DefaultLineStyle}
+		poly := &plotter.Polygon{LineStyle: plotter.DefaultLineStyle}
 		poly.Color = b.fill
 		poly.LineStyle.Width = 0
-		out = append(out, band{shape{poly}, b.name})
+		out = append(out, band{shape{poly: poly, ring: r}, b.name})
 	}
 	return out
 }
@@ -381,8 +438,8 @@ func magnitudePlot(d *synth.Design, sw *sweep, lg *legend) *plot.Plot {
 	var mask legend
 	addMask(p, &mask, maskRegions(d.Spec, gainDB, amax, amin, stop, fLo, fHi), ax.lo, ax.hi)
 	addCurves(p, lg,
-		idealCurve(points(sw.f, sw.idealDB, cLo, cHi)),
-		builtCurve(points(sw.f, sw.builtDB, cLo, cHi)))
+		idealCurve(&series{xs: sw.f, ys: sw.idealDB, lo: cLo, hi: cHi}),
+		builtCurve(&series{xs: sw.f, ys: sw.builtDB, lo: cLo, hi: cHi}))
 	for _, b := range bands {
 		lg.add(b.name, b.shape)
 	}
@@ -413,8 +470,8 @@ func phasePlot(sw *sweep) *plot.Plot {
 	p.Add(grid{x: xt, y: yt})
 	// The names are in the magnitude panel's legend.
 	addCurves(p, nil,
-		idealCurve(points(sw.f, sw.idealPh, math.Inf(-1), math.Inf(1))),
-		builtCurve(points(sw.f, sw.builtPh, math.Inf(-1), math.Inf(1))))
+		idealCurve(&series{xs: sw.f, ys: sw.idealPh, lo: math.Inf(-1), hi: math.Inf(1)}),
+		builtCurve(&series{xs: sw.f, ys: sw.builtPh, lo: math.Inf(-1), hi: math.Inf(1)}))
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, lo, hi)
 	return p

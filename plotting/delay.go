@@ -37,8 +37,8 @@ func drawGroupDelay(w io.Writer, sw *sweep, opt Options) error {
 	p.Add(grid{x: xt, y: yt})
 	var lg legend
 	addCurves(p, &lg,
-		idealCurve(points(sw.f, scaled(sw.idealGD, 1/scale), lo-span, hi+span)),
-		builtCurve(points(sw.f, scaled(sw.builtGD, 1/scale), lo-span, hi+span)))
+		idealCurve(&series{xs: sw.f, ys: sw.idealGD, yk: 1 / scale, lo: lo - span, hi: hi + span}),
+		builtCurve(&series{xs: sw.f, ys: sw.builtGD, yk: 1 / scale, lo: lo - span, hi: hi + span}))
 	p.Add(frame{})
 	setRanges(p, fLo, fHi, lo, hi)
 	width, height := opt.size(DefaultWidthPt, DefaultHeightPt)

@@ -111,10 +111,10 @@ func Noise(w io.Writer, d *synth.Design, opt Options) error {
 	for _, pt := range pts {
 		scaledPts = append(scaledPts, plotter.XY{X: pt.X, Y: math.Min(math.Max(pt.Y/scale, lo/2), hi*2)})
 	}
-	curves := []curve{{&plotter.Line{XYs: log10Points(scaledPts), LineStyle: noiseStyle}, noiseName}}
+	curves := []curve{{line: &plotter.Line{XYs: log10Points(scaledPts), LineStyle: noiseStyle}, name: noiseName}}
 	if finite(ref) && ref > 0 {
 		r := math.Log10(ref / scale)
-		curves = append(curves, curve{&plotter.Line{XYs: plotter.XYs{{X: fLo, Y: r}, {X: fHi, Y: r}}, LineStyle: quantStyle}, quantName})
+		curves = append(curves, curve{line: &plotter.Line{XYs: plotter.XYs{{X: fLo, Y: r}, {X: fHi, Y: r}}, LineStyle: quantStyle}, name: quantName})
 	}
 	var lg legend
 	addCurves(p, &lg, curves...)

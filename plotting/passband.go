@@ -245,8 +245,8 @@ func drawPassband(w io.Writer, d *synth.Design, sw *sweep, tfs circuit.Cascade, 
 		}
 	}
 	addCurves(p, &lg,
-		idealCurve(points(f, ideal, cLo, cHi)),
-		builtCurve(points(f, built, cLo, cHi)))
+		idealCurve(&series{xs: f, ys: ideal, lo: cLo, hi: cHi}),
+		builtCurve(&series{xs: f, ys: built, lo: cLo, hi: cHi}))
 	for _, b := range envelope {
 		lg.add(b.name, b.shape)
 	}

@@ -514,6 +514,62 @@ func points(xs, ys []float64, lo, hi float64) plotter.XYs {
 type curve struct {
 	line *plotter.Line
 	name string
+	src  *series // the points, computed as they are drawn (nil: line.XYs)
+}
+
+// series is what points and log10Points would make of a curve's data,
+// computed as the curve is drawn rather than kept as plotter.XYs: the
+// pairs (xs[i]·xk, ys[i]·yk) with x finite and y not NaN, y clamped to
+// [lo, hi] and dropped unless finite, then log10 of y when log10 is set.
+// A multiplier of 0 stands for none.
+type series struct {
+	xs, ys []float64
+	xk, yk float64
+	lo, hi float64
+	log10  bool
+}
+
+// each calls fn with the points of s in order until fn returns false.
+func (s *series) each(fn func(x, y float64) bool) {
+	for i, x := range s.xs {
+		if i >= len(s.ys) {
+			return
+		}
+		y := s.ys[i]
+		if s.xk != 0 {
+			x *= s.xk
+		}
+		if s.yk != 0 {
+			y *= s.yk
+		}
+		if !finite(x) || math.IsNaN(y) {
+			continue
+		}
+		if y = min(max(y, s.lo), s.hi); !finite(y) {
+			continue
+		}
+		if s.log10 {
+			y = math.Log10(y)
+		}
+		if !fn(x, y) {
+			return
+		}
+	}
+}
+
+// atLeast reports whether c has at least n points.
+func (c curve) atLeast(n int) bool {
+	if c.src == nil {
+		return len(c.line.XYs) >= n
+	}
+	k := 0
+	c.src.each(func(float64, float64) bool { k++; return k < n })
+	return k >= n
+}
+
+// seriesCurve returns the curve through the points of s, styled sty.
+func seriesCurve(s *series, sty draw.LineStyle, name string) curve {
+	return curve{line: &plotter.Line{LineStyle: sty}, name: name, src: s}
 }
 
 // Plot implements plot.Plotter. It draws the line as plotter.Line does
@@ -526,15 +582,24 @@ type curve struct {
 // one would be, within the same distance.
 func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 	sty := c.line.LineStyle
-	if sty.Width == 0 || len(c.line.XYs) == 0 {
+	if sty.Width == 0 || !c.atLeast(1) {
 		return
 	}
 	trX, trY := newAxisMap(p.X, dc.Min.X, dc.Max.X), newAxisMap(p.Y, dc.Min.Y, dc.Max.Y)
 	sc := scratchPool.Get().(*scratch)
 	defer scratchPool.Put(sc)
-	ps := slices.Grow(sc.pts[:0], len(c.line.XYs))
-	for _, pt := range c.line.XYs {
-		ps = append(ps, vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)})
+	var ps []vg.Point
+	if c.src != nil {
+		ps = slices.Grow(sc.pts[:0], len(c.src.xs))
+		c.src.each(func(x, y float64) bool {
+			ps = append(ps, vg.Point{X: trX.at(x), Y: trY.at(y)})
+			return true
+		})
+	} else {
+		ps = slices.Grow(sc.pts[:0], len(c.line.XYs))
+		for _, pt := range c.line.XYs {
+			ps = append(ps, vg.Point{X: trX.at(pt.X), Y: trY.at(pt.Y)})
+		}
 	}
 	sc.pts = ps
 	ps = sc.simplified(ps, simplifyTolPt)
@@ -640,11 +705,12 @@ func (m *axisMap) at(x float64) vg.Length {
 // canvas points of a curve and simplify's marks. Nothing drawn keeps it
 // (the SVG canvas writes a path out when it is stroked).
 type scratch struct {
-	pts   []vg.Point
-	keep  []bool
-	one   [1][]vg.Point // the one line of a curve inside its area
-	clip  clipper
-	rings [][]vg.Point // a shape's rings
+	pts     []vg.Point
+	keep    []bool
+	one     [1][]vg.Point // the one line of a curve inside its area
+	clip    clipper
+	rings   [][]vg.Point // a shape's rings
+	ringPts []vg.Point   // their points
 }
 
 var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
@@ -740,7 +806,7 @@ func (c curve) Thumbnail(dc *draw.Canvas) { c.line.Thumbnail(dc) }
 // two points to p and, if lg is not nil, their names to lg.
 func addCurves(p *plot.Plot, lg *legend, curves ...curve) {
 	for _, c := range curves {
-		if len(c.line.XYs) < 2 {
+		if !c.atLeast(2) {
 			continue
 		}
 		p.Add(c)
@@ -751,13 +817,9 @@ func addCurves(p *plot.Plot, lg *legend, curves ...curve) {
 }
 
 // idealCurve and builtCurve style the two curves of every plot.
-func idealCurve(pts plotter.XYs) curve {
-	return curve{&plotter.Line{XYs: pts, LineStyle: idealStyle}, idealName}
-}
+func idealCurve(s *series) curve { return seriesCurve(s, idealStyle, idealName) }
 
-func builtCurve(pts plotter.XYs) curve {
-	return curve{&plotter.Line{XYs: pts, LineStyle: builtStyle}, builtName}
-}
+func builtCurve(s *series) curve { return seriesCurve(s, builtStyle, builtName) }
 
 // setRanges sets the axis ranges of p. It must come after the last p.Add,
 // which widens them to the data ranges of the plotters.

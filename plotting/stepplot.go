@@ -123,8 +123,8 @@ func drawStep(w io.Writer, s *stepSeries, opt Options) error {
 	}
 	var lg legend
 	addCurves(p, &lg,
-		idealCurve(points(x, yIdeal, lo-span, hi+span)),
-		builtCurve(points(x, yBuilt, lo-span, hi+span)))
+		idealCurve(&series{xs: ts, xk: 1 / scale, ys: yIdeal, lo: lo - span, hi: hi + span}),
+		builtCurve(&series{xs: ts, xk: 1 / scale, ys: yBuilt, lo: lo - span, hi: hi + span}))
 	var errPlot *plot.Plot
 	if st != nil {
 		// Each response's distance from its own final value, relative to
@@ -313,8 +313,8 @@ func settlingErrorPlot(st *settling, x, eIdeal, eBuilt []float64, end float64, x
 	// leaves the panel cleanly (the axis is logarithmic: no zeros).
 	floor, ceil := lo/2, hi*2
 	addCurves(p, nil,
-		idealCurve(log10Points(points(x, eIdeal, floor, ceil))),
-		builtCurve(log10Points(points(x, eBuilt, floor, ceil))))
+		idealCurve(&series{xs: x, ys: eIdeal, lo: floor, hi: ceil, log10: true}),
+		builtCurve(&series{xs: x, ys: eBuilt, lo: floor, hi: ceil, log10: true}))
 	if finite(st.at) {
 		m := vline{x: st.at / scale, sty: settleStyle}
 		p.Add(m)
