@@ -65,7 +65,9 @@ func (h *handler) design(w http.ResponseWriter, r *http.Request) {
 	if !ok {
 		return
 	}
-	res, err := h.buildResult(r.Context(), vals, d)
+	frame := &svgFrame{}
+	defer frame.release() // after the page is written
+	res, err := h.buildResult(r.Context(), vals, d, frame)
 	if err == nil {
 		// The drawings do not watch the deadline: a request that crossed
 		// it while they ran is answered as one that crossed it designing.

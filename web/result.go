@@ -11,6 +11,7 @@ import (
 	"regexp"
 	"runtime/debug"
 	"strconv"
+	"strings"
 	"sync"
 
 	"github.com/a-h/templ"
@@ -25,7 +26,10 @@ import (
 // buildResult computes the result view of design d, whose spec the form
 // values vals hold. Plots and schematics that fail to draw are left out
 // with a note (and logged); only a failure of the view itself is an error.
-func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Design) (components.Result, error) {
+// The drawings go into pooled buffers held by frame until the page is
+// written (the caller releases it after); a nil frame copies each drawing
+// into a string of its own.
+func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Design, frame *svgFrame) (components.Result, error) {
 	query := canonicalQuery(vals)
 	spec := d.Spec
 	res := components.Result{
@@ -83,7 +87,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 			}
 			wanted++
 			wg.Go(func() {
-				svg, err := drawSVG(func(w io.Writer) error { return pk.draw(h.deps.Plots, w, d) })
+				svg, err := frame.drawSVG(func(w io.Writer) error { return pk.draw(h.deps.Plots, w, d) })
 				if err != nil {
 					h.logWarn(ctx, "plot failed", err, slog.String("plot", pk.kind))
 					return
@@ -99,7 +103,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 	var noisePlot *components.Plot
 	if np, ok := h.deps.Plots.(NoisePlots); ok && d.Noise != nil {
 		wg.Go(func() {
-			svg, err := drawSVG(func(w io.Writer) error { return np.Noise(w, d) })
+			svg, err := frame.drawSVG(func(w io.Writer) error { return np.Noise(w, d) })
 			if err != nil {
 				h.logWarn(ctx, "plot failed", err, slog.String("plot", noiseKind))
 				return
@@ -130,7 +134,7 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 				continue
 			}
 			wg.Go(func() {
-				svg, err := drawSVGText(func(w io.Writer) error {
+				svg, head, err := frame.draw(func(w io.Writer) error {
 					if rs, ok := h.deps.Schematics.(ReferenceSchematics); ok && d.Spec.Supply != nil {
 						return rs.StageOnReference(w, ch, k+1, "ref")
 					}
@@ -140,8 +144,8 @@ func (h *handler) buildResult(ctx context.Context, vals formValues, d *synth.Des
 					h.logWarn(ctx, "schematic failed", err, slog.Int("stage", k+1))
 					return
 				}
-				res.Cards[k].SVG = templ.Raw(svg)
-				res.Cards[k].SchematicStyle = templ.SafeCSS(schematicStyle(svg))
+				res.Cards[k].SVG = svg
+				res.Cards[k].SchematicStyle = templ.SafeCSS(schematicStyle(head))
 				res.Cards[k].Download = stageDownload(d, k+1, query)
 			})
 		}
@@ -240,24 +244,92 @@ func drawSVG(draw func(io.Writer) error) (templ.Component, error) {
 	return templ.Raw(text), nil
 }
 
+// svgFrame holds the pooled buffers of one page's drawings until the page
+// is written: copying each drawing into a string (so that its buffer could
+// go back to the pool at once) was a tenth of a page view's allocation. A
+// nil frame copies. Its methods are safe for concurrent use.
+type svgFrame struct {
+	mu   sync.Mutex
+	bufs []*bytes.Buffer
+}
+
+// drawSVG is [drawSVG] with the drawing kept in f's buffers.
+func (f *svgFrame) drawSVG(draw func(io.Writer) error) (templ.Component, error) {
+	c, _, err := f.draw(draw)
+	return c, err
+}
+
+// draw runs draw as [drawSVGText] does and returns the inline SVG as a
+// component that writes it from f's buffer, and the SVG's start tag as a
+// string (for reading its size).
+func (f *svgFrame) draw(draw func(io.Writer) error) (templ.Component, string, error) {
+	if f == nil {
+		text, err := drawSVGText(draw)
+		if err != nil {
+			return nil, "", err
+		}
+		return templ.Raw(text), startTag(text), nil
+	}
+	buf := getBuffer()
+	b, err := drawInto(buf, draw)
+	if err != nil {
+		putBuffer(buf)
+		return nil, "", err
+	}
+	f.mu.Lock()
+	f.bufs = append(f.bufs, buf)
+	f.mu.Unlock()
+	return templ.ComponentFunc(func(_ context.Context, w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	}), startTag(string(b[:bytes.IndexByte(b, '>')+1])), nil
+}
+
+// startTag returns svg up to the end of its first tag.
+func startTag(svg string) string { return svg[:strings.IndexByte(svg, '>')+1] }
+
+// release returns f's buffers to the pool; the components f made must
+// not be written after.
+func (f *svgFrame) release() {
+	if f == nil {
+		return
+	}
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	for _, b := range f.bufs {
+		putBuffer(b)
+	}
+	f.bufs = nil
+}
+
+// drawInto runs draw into buf and returns the inline SVG in buf's memory
+// (see drawSVGText).
+func drawInto(buf *bytes.Buffer, draw func(io.Writer) error) (b []byte, err error) {
+	defer func() {
+		if rec := recover(); rec != nil {
+			b, err = nil, fmt.Errorf("web: drawing panicked: %v\n%s", rec, debug.Stack())
+		}
+	}()
+	if err := draw(buf); err != nil {
+		return nil, err
+	}
+	b = inlineSVG(buf.Bytes())
+	if !bytes.HasPrefix(b, []byte("<svg")) {
+		return nil, errors.New("web: the drawing is not an SVG document")
+	}
+	return b, nil
+}
+
 // drawSVGText runs draw into a buffer and returns the SVG to inline, its
 // XML prolog and doctype removed. A panic in draw (which runs on its own
 // goroutine, out of reach of the recovery middleware) is returned as an
 // error carrying its stack, for the log.
 func drawSVGText(draw func(io.Writer) error) (text string, err error) {
-	defer func() {
-		if rec := recover(); rec != nil {
-			text, err = "", fmt.Errorf("web: drawing panicked: %v\n%s", rec, debug.Stack())
-		}
-	}()
 	buf := getBuffer()
 	defer putBuffer(buf)
-	if err := draw(buf); err != nil {
+	b, err := drawInto(buf, draw)
+	if err != nil {
 		return "", err
-	}
-	b := inlineSVG(buf.Bytes())
-	if !bytes.HasPrefix(b, []byte("<svg")) {
-		return "", errors.New("web: the drawing is not an SVG document")
 	}
 	return string(b), nil // a copy: buf goes back to the pool
 }
