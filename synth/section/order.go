@@ -25,14 +25,41 @@ const tieDB = 1e-9
 //
 // Order checks ctx between subsets and returns ctx.Err() if it is done.
 func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float64, error) {
+	return newTable(secs, gridHz).order(ctx)
+}
+
+// OrderPeaks orders secs as [Order] does and returns them in that order
+// with their node peaks ([NodePeaks]), each section evaluated on gridHz
+// once for both. The programme is exact on its grid; between grid points
+// the true peaks may differ by a hair, so ascending Q (the tie-break) is
+// returned instead when its refined worst node peak is no higher.
+func OrderPeaks(ctx context.Context, secs []Section, gridHz []float64) ([]Section, []float64, error) {
+	t := newTable(secs, gridHz)
+	perm, _, err := t.order(ctx)
+	if err != nil {
+		return nil, nil, err
+	}
+	peaks := t.nodePeaks(perm)
+	if asc := ascendingQ(secs); !slices.Equal(asc, perm) {
+		if ascPeaks := t.nodePeaks(asc); slices.Max(ascPeaks) <= slices.Max(peaks)*(1+1e-10) {
+			perm, peaks = asc, ascPeaks
+		}
+	}
+	ordered := make([]Section, len(perm))
+	for i, k := range perm {
+		ordered[i] = secs[k]
+	}
+	return ordered, peaks, nil
+}
+
+// order is [Order] on the table's grid.
+func (t *table) order(ctx context.Context) ([]int, float64, error) {
+	secs, gridHz := t.secs, t.gridHz
 	n := len(secs)
 	if n == 0 {
 		return nil, math.Inf(-1), nil
 	}
-	db := make([][]float64, n)
-	for i, s := range secs {
-		db[i] = sectionDB(s, gridHz)
-	}
+	db := t.db()
 	asc := ascendingQ(secs)
 	if n > MaxExact {
 		g, gPeak := greedy(secs, db)

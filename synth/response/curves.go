@@ -1,0 +1,113 @@
+package response
+
+import (
+	"math"
+
+	"github.com/polewright/polewright/synth/zpk"
+)
+
+// MagnitudePhaseDelay returns [MagnitudeDB], [PhaseDeg] and [GroupDelayS]
+// of h at each f in freqHz, computed together in one pass over the
+// frequencies, in magDB, phaseDeg and delayS (each as dst in the package
+// documentation). The three results are those of the three functions to
+// within rounding, with the same conventions at jω-axis roots.
+//
+// A conjugate pair of poles or zeros σ ± jw left of the jω axis that
+// stands next to each other in h (as a second-order section's roots do)
+// is taken as one quadratic factor (jω)² − 2σ(jω) + σ² + w²: its argument
+// lies in (0, π) for ω > 0, so the pair costs one complex product where
+// the root-by-root sum costs two, and its two distances
+// d± = σ² + (ω ∓ w)² serve the magnitude and the delay. Every other root
+// is taken on its own, as by the three functions.
+func MagnitudePhaseDelay(magDB, phaseDeg, delayS []float64, h zpk.ZPK, freqHz []float64) ([]float64, []float64, []float64) {
+	n := len(freqHz)
+	magDB, phaseDeg, delayS = resize(magDB, n), resize(phaseDeg, n), resize(delayS, n)
+	var zbuf, pbuf [32]rootFactor
+	zs := splitRoots(zbuf[:0], h.Zeros)
+	ps := splitRoots(pbuf[:0], h.Poles)
+	g := gainDB(h.Gain)
+	neg := 0.0
+	if h.Gain < 0 {
+		neg = math.Pi
+	}
+	const deg = 180 / math.Pi
+	for i, f := range freqHz {
+		omega := RadPerSec(f)
+		zm, zw, zd := factorsAt(zs, omega)
+		pm, pw, pd := factorsAt(ps, omega)
+		magDB[i] = g + ratioDB(zm, pm)
+		phaseDeg[i] = (zw.angle() - pw.angle() + neg) * deg
+		delayS[i] = pd - zd
+	}
+	return magDB, phaseDeg, delayS
+}
+
+// rootFactor kinds.
+const (
+	factorSingle = iota // one root off the jω axis
+	factorAxis          // one root on the jω axis
+	factorPair          // a conjugate pair left of the axis
+)
+
+// rootFactor is one root, or a conjugate pair σ ± jw (w > 0) left of the
+// jω axis, of a transfer function.
+type rootFactor struct {
+	kind         int
+	sigma, w, s2 float64 // s2 = σ²
+}
+
+// splitRoots appends the factors of roots to dst: adjacent conjugate
+// pairs left of the jω axis as pairs, every other root on its own.
+func splitRoots(dst []rootFactor, roots []complex128) []rootFactor {
+	for i := 0; i < len(roots); i++ {
+		r := roots[i]
+		sigma, w := real(r), imag(r)
+		switch {
+		case onAxis(sigma, w):
+			dst = append(dst, rootFactor{kind: factorAxis, sigma: sigma, w: w, s2: sigma * sigma})
+		case sigma < 0 && w != 0 && i+1 < len(roots) && roots[i+1] == complex(sigma, -w):
+			dst = append(dst, rootFactor{kind: factorPair, sigma: sigma, w: math.Abs(w), s2: sigma * sigma})
+			i++
+		default:
+			dst = append(dst, rootFactor{kind: factorSingle, sigma: sigma, w: w, s2: sigma * sigma})
+		}
+	}
+	return dst
+}
+
+// factorsAt returns, at ω, the product of the squared distances |jω − r|²
+// over the factors' roots, the product of the factors jω − r with its
+// turns (see winding), and the sum of d/dω arg(jω − r) over the roots off
+// the axis.
+func factorsAt(fs []rootFactor, omega float64) (m scaled, w winding, delay float64) {
+	m.m, w.re = 1, 1
+	for k := range fs {
+		f := &fs[k]
+		switch f.kind {
+		case factorPair:
+			a, b := omega-f.w, omega+f.w
+			dm, dp := f.s2+a*a, f.s2+b*b
+			m.mul(dm)
+			m.mul(dp)
+			delay -= f.sigma/dm + f.sigma/dp
+			// (jω − σ − jw)(jω − σ + jw) = σ² + w² − ω² − 2jσω, whose
+			// argument lies in (0, π): multiplied in as one factor.
+			w.mul(f.s2-a*b, -2*f.sigma*omega)
+		case factorAxis:
+			d := omega - f.w
+			m.mul(f.s2 + d*d)
+			if omega > f.w {
+				w.halfPis++
+			} else if omega < f.w {
+				w.halfPis--
+			}
+		default:
+			d := omega - f.w
+			dd := f.s2 + d*d
+			m.mul(dd)
+			delay -= f.sigma / dd
+			w.factor(f.sigma, f.w, omega, false)
+		}
+	}
+	return m, w, delay
+}
