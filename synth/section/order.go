@@ -16,6 +16,9 @@ const MaxExact = 12
 // tieDB is the margin within which two peaks count as equal when ordering.
 const tieDB = 1e-9
 
+// tieRatio is tieDB as a ratio of |H|²: 10^(tieDB/10).
+var tieRatio = math.Pow(10, tieDB/10)
+
 // Order returns the permutation of secs (indices into secs, in signal order)
 // that minimises the worst peak, over the grid gridHz, of the partial
 // products at every stage output. Ties go to ascending Q, then ascending f0.
@@ -54,14 +57,14 @@ func OrderPeaks(ctx context.Context, secs []Section, gridHz []float64) ([]Sectio
 
 // order is [Order] on the table's grid.
 func (t *table) order(ctx context.Context) ([]int, float64, error) {
-	secs, gridHz := t.secs, t.gridHz
+	secs := t.secs
 	n := len(secs)
 	if n == 0 {
 		return nil, math.Inf(-1), nil
 	}
-	db := t.db()
 	asc := ascendingQ(secs)
 	if n > MaxExact {
+		db := t.db()
 		g, gPeak := greedy(secs, db)
 		if aPeak := worstPeak(asc, db); aPeak <= gPeak+tieDB {
 			return asc, aPeak, nil
@@ -69,13 +72,37 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 		return g, gPeak, nil
 	}
 
+	// The programme runs on |H|² itself rather than on dB, so that no
+	// logarithms are taken: a product of sections is a product of rows, and
+	// removing a section multiplies by its reciprocal row. Each row is
+	// floored at 10^(−300/n), far below any subset's peak (−250 dB for
+	// n = 12), so that no product leaves the range of float64; the
+	// columns no subset can peak on are dropped first (see keepColumns).
+	floor := math.Pow(10, -300/float64(n))
+	cols := keepColumns(t.magSq)
+
+	lin := make([]float64, 2*n*len(cols))
+	rows, inv := make([][]float64, n), make([][]float64, n)
+	for i := range n {
+		rows[i] = lin[2*i*len(cols) : (2*i+1)*len(cols)]
+		inv[i] = lin[(2*i+1)*len(cols) : (2*i+2)*len(cols)]
+		for c, g := range cols {
+			v := math.Max(t.magSq[i][g], floor)
+			rows[i][c], inv[i][c] = v, 1/v
+		}
+	}
+
 	// peak[S] is the peak of the product of the sections in subset S, found
-	// by a Gray-code walk that adds or removes one section's row per step;
-	// best[S] is the least, over orders of S, of the worst prefix peak.
+	// by a Gray-code walk that multiplies in or divides out one section's
+	// row per step; best[S] is the least, over orders of S, of the worst
+	// prefix peak.
 	size := 1 << n
 	peak := make([]float64, size)
 	best := make([]float64, size)
-	acc := make([]float64, len(gridHz))
+	acc := make([]float64, len(cols))
+	for c := range acc {
+		acc[c] = 1
+	}
 	for k := 1; k < size; k++ {
 		if k&1023 == 0 {
 			if err := ctx.Err(); err != nil {
@@ -84,20 +111,24 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 		}
 		bit := bits.TrailingZeros(uint(k))
 		gray := k ^ (k >> 1)
-		sign := -1.0
 		if gray&(1<<bit) != 0 {
-			sign = 1
+			peak[gray] = mulMax(acc, rows[bit])
+		} else {
+			peak[gray] = mulMax(acc, inv[bit])
 		}
-		peak[gray] = addMax(acc, db[bit], sign)
 	}
-	best[0] = math.Inf(-1)
+	best[0] = 0
 	for S := 1; S < size; S++ {
 		m := math.Inf(1)
 		for rest := S; rest != 0; rest &= rest - 1 {
-			i := bits.TrailingZeros(uint(rest))
-			m = math.Min(m, best[S&^(1<<i)])
+			if b := best[S&^(rest&-rest)]; b < m { // no NaN here: plain comparisons
+				m = b
+			}
 		}
-		best[S] = math.Max(peak[S], m)
+		if p := peak[S]; p > m {
+			m = p
+		}
+		best[S] = m
 	}
 
 	// Reconstruct from the end: the last section is the feasible one with
@@ -114,14 +145,14 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 			if S&(1<<i) == 0 {
 				continue
 			}
-			if math.Max(peak[S], best[S&^(1<<i)]) <= best[S]+tieDB && (pick < 0 || rank[i] > rank[pick]) {
+			if math.Max(peak[S], best[S&^(1<<i)]) <= best[S]*tieRatio && (pick < 0 || rank[i] > rank[pick]) {
 				pick = i
 			}
 		}
 		order[pos] = pick
 		S &^= 1 << pick
 	}
-	return order, best[size-1], nil
+	return order, 10 * math.Log10(best[size-1]), nil
 }
 
 // AscendingQ returns the indices of secs in ascending Q, then ascending f0:
@@ -231,14 +262,14 @@ func sectionDB(s Section, gridHz []float64) []float64 {
 	return out
 }
 
-// addMax adds sign·row to acc and returns the largest element of the
-// result, in one pass with four independent maxima.
-func addMax(acc, row []float64, sign float64) float64 {
+// mulMax multiplies acc by row element by element and returns the largest
+// element of the result, in one pass with four independent maxima.
+func mulMax(acc, row []float64) float64 {
 	row = row[:len(acc)]
-	m0, m1, m2, m3 := math.Inf(-1), math.Inf(-1), math.Inf(-1), math.Inf(-1)
+	m0, m1, m2, m3 := 0.0, 0.0, 0.0, 0.0
 	g := 0
 	for ; g+4 <= len(acc); g += 4 {
-		a0, a1, a2, a3 := acc[g]+sign*row[g], acc[g+1]+sign*row[g+1], acc[g+2]+sign*row[g+2], acc[g+3]+sign*row[g+3]
+		a0, a1, a2, a3 := acc[g]*row[g], acc[g+1]*row[g+1], acc[g+2]*row[g+2], acc[g+3]*row[g+3]
 		acc[g], acc[g+1], acc[g+2], acc[g+3] = a0, a1, a2, a3
 		if a0 > m0 {
 			m0 = a0
@@ -254,10 +285,42 @@ func addMax(acc, row []float64, sign float64) float64 {
 		}
 	}
 	for ; g < len(acc); g++ {
-		acc[g] += sign * row[g]
+		acc[g] *= row[g]
 		if acc[g] > m0 {
 			m0 = acc[g]
 		}
 	}
 	return math.Max(math.Max(m0, m1), math.Max(m2, m3))
+}
+
+// keepColumns returns the grid columns of rows (one row per section) on
+// which some product of sections may peak: a column that is no larger
+// than another in every row is dropped, as no product can be larger there
+// than at the other. Only neighbours in the grid are compared (a running
+// stack of kept columns, each new column against the last kept ones), which
+// catches the long stretches where every section rises or falls together
+// (beyond the last resonance, say) at a cost of one pass.
+func keepColumns(rows [][]float64) []int {
+	if len(rows) == 0 {
+		return nil
+	}
+	leq := func(a, b int) bool { // column a ≤ column b in every row
+		for _, r := range rows {
+			if r[a] > r[b] {
+				return false
+			}
+		}
+		return true
+	}
+	kept := make([]int, 0, len(rows[0]))
+	for c := range rows[0] {
+		for len(kept) > 0 && leq(kept[len(kept)-1], c) {
+			kept = kept[:len(kept)-1]
+		}
+		if len(kept) > 0 && leq(c, kept[len(kept)-1]) {
+			continue
+		}
+		kept = append(kept, c)
+	}
+	return kept
 }
