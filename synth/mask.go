@@ -97,8 +97,8 @@ func (d *Design) checkMask() {
 // maskPoints, the two ends, and a refinement ([section.Extremum]) of
 // every interior local extremum of the grid that could be the answer.
 func extremum(secs []section.Section, ref, loHz, hiHz float64, max bool) float64 {
-	g := func(x float64) float64 { // in log frequency, maximised
-		v := ref / section.MagnitudeSquared(secs, response.RadPerSec(math.Exp(x)))
+	g := func(fHz float64) float64 { // maximised
+		v := ref / section.MagnitudeSquared(secs, response.RadPerSec(fHz))
 		if !max {
 			v = 1 / v
 		}
@@ -107,12 +107,19 @@ func extremum(secs []section.Section, ref, loHz, hiHz float64, max bool) float64
 		}
 		return v
 	}
-	a, b := math.Log(loHz), math.Log(hiHz)
+	// The grid is log-spaced, each point the one before times a constant
+	// ratio (no exponential per point); the ends are exactly loHz and hiHz.
 	n := maskPoints
-	var xs, vs [maskPoints]float64
-	for i := range n {
-		xs[i] = a + (b-a)*float64(i)/float64(n-1)
-		vs[i] = g(xs[i])
+	var fs, vs [maskPoints]float64
+	ratio := math.Pow(hiHz/loHz, 1/float64(n-1))
+	f := loHz
+	for i := range n - 1 {
+		fs[i] = f
+		f *= ratio
+	}
+	fs[n-1] = hiHz
+	for i, f := range fs {
+		vs[i] = g(f)
 	}
 	top := slices.Max(vs[:])
 	best := top
@@ -121,8 +128,8 @@ func extremum(secs []section.Section, ref, loHz, hiHz float64, max bool) float64
 		// extremum, so those more than 0.05 dB (a factor 0.9886 in power)
 		// from the best are skipped. A largest loss is a least |H|².
 		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top*0.9886 {
-			w := func(x float64) float64 { return response.RadPerSec(math.Exp(x)) }
-			m := section.Extremum(secs, w(xs[i-1]), w(xs[i+1]), w(xs[i]), !max)
+			w := response.RadPerSec
+			m := section.Extremum(secs, w(fs[i-1]), w(fs[i+1]), w(fs[i]), !max)
 			if max {
 				best = math.Max(best, ref/m)
 			} else {

@@ -92,5 +92,7 @@ func NodePeaks(secs []Section, gridHz []float64) []float64 {
 	for i := range perm {
 		perm[i] = i
 	}
-	return newTable(secs, gridHz).nodePeaks(perm)
+	t := newTable(secs, gridHz)
+	defer t.release()
+	return t.nodePeaks(perm)
 }

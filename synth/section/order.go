@@ -28,7 +28,9 @@ var tieRatio = math.Pow(10, tieDB/10)
 //
 // Order checks ctx between subsets and returns ctx.Err() if it is done.
 func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float64, error) {
-	return newTable(secs, gridHz).order(ctx)
+	t := newTable(secs, gridHz)
+	defer t.release()
+	return t.order(ctx)
 }
 
 // OrderPeaks orders secs as [Order] does and returns them in that order
@@ -38,6 +40,7 @@ func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float6
 // returned instead when its refined worst node peak is no higher.
 func OrderPeaks(ctx context.Context, secs []Section, gridHz []float64) ([]Section, []float64, error) {
 	t := newTable(secs, gridHz)
+	defer t.release()
 	perm, _, err := t.order(ctx)
 	if err != nil {
 		return nil, nil, err
@@ -79,10 +82,11 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 	// n = 12), so that no product leaves the range of float64; the
 	// columns no subset can peak on are dropped first (see keepColumns).
 	floor := math.Pow(10, -300/float64(n))
-	cols := keepColumns(t.magSq)
-
-	lin := make([]float64, 2*n*len(cols))
-	rows, inv := make([][]float64, n), make([][]float64, n)
+	cols := keepColumns(t.ints[:0], t.magSq)
+	t.ints = cols
+	lin := t.take(2 * n * len(cols))
+	rows := make([][]float64, 2*n)
+	rows, inv := rows[:n], rows[n:]
 	for i := range n {
 		rows[i] = lin[2*i*len(cols) : (2*i+1)*len(cols)]
 		inv[i] = lin[(2*i+1)*len(cols) : (2*i+2)*len(cols)]
@@ -97,9 +101,9 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 	// row per step; best[S] is the least, over orders of S, of the worst
 	// prefix peak.
 	size := 1 << n
-	peak := make([]float64, size)
-	best := make([]float64, size)
-	acc := make([]float64, len(cols))
+	peak := t.take(size)
+	best := t.take(size)
+	acc := t.take(len(cols))
 	for c := range acc {
 		acc[c] = 1
 	}
@@ -293,16 +297,16 @@ func mulMax(acc, row []float64) float64 {
 	return math.Max(math.Max(m0, m1), math.Max(m2, m3))
 }
 
-// keepColumns returns the grid columns of rows (one row per section) on
+// keepColumns appends to dst the grid columns of rows (one row per section) on
 // which some product of sections may peak: a column that is no larger
 // than another in every row is dropped, as no product can be larger there
 // than at the other. Only neighbours in the grid are compared (a running
 // stack of kept columns, each new column against the last kept ones), which
 // catches the long stretches where every section rises or falls together
 // (beyond the last resonance, say) at a cost of one pass.
-func keepColumns(rows [][]float64) []int {
+func keepColumns(dst []int, rows [][]float64) []int {
 	if len(rows) == 0 {
-		return nil
+		return dst
 	}
 	leq := func(a, b int) bool { // column a ≤ column b in every row
 		for _, r := range rows {
@@ -312,7 +316,7 @@ func keepColumns(rows [][]float64) []int {
 		}
 		return true
 	}
-	kept := make([]int, 0, len(rows[0]))
+	kept := dst
 	for c := range rows[0] {
 		for len(kept) > 0 && leq(kept[len(kept)-1], c) {
 			kept = kept[:len(kept)-1]

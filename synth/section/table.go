@@ -2,6 +2,8 @@ package section
 
 import (
 	"math"
+	"slices"
+	"sync"
 
 	"github.com/polewright/polewright/synth/response"
 )
@@ -12,13 +14,50 @@ type table struct {
 	secs   []Section
 	gridHz []float64
 	magSq  [][]float64 // magSq[i][g] = |Hᵢ(j2πf_g)|²
+	*scratch
 }
 
-// newTable evaluates each section of secs on gridHz.
+// scratch is reusable working space: floats handed out by take, the
+// row headers and the column list, reset by newTable and returned to
+// scratchPool by release.
+type scratch struct {
+	floats []float64
+	used   int
+	rows   [][]float64
+	ints   []int
+}
+
+var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
+
+// take returns n zeroed floats of the scratch space.
+func (s *scratch) take(n int) []float64 {
+	if s.used+n > len(s.floats) {
+		// Grow for the next user; the floats handed out so far stay valid.
+		s.floats = make([]float64, max(2*len(s.floats), s.used+n, 1024))
+		s.used = 0
+	}
+	out := s.floats[s.used : s.used+n : s.used+n]
+	s.used += n
+	clear(out)
+	return out
+}
+
+// release returns the table's scratch space to the pool; nothing taken
+// from it may be used afterwards.
+func (t *table) release() {
+	scratchPool.Put(t.scratch)
+	t.scratch = nil
+}
+
+// newTable evaluates each section of secs on gridHz. The caller releases
+// the table when done.
 func newTable(secs []Section, gridHz []float64) *table {
-	t := &table{secs: secs, gridHz: gridHz, magSq: make([][]float64, len(secs))}
-	flat := make([]float64, len(secs)*len(gridHz))
-	omega := make([]float64, len(gridHz))
+	sc := scratchPool.Get().(*scratch)
+	sc.used = 0
+	sc.rows = slices.Grow(sc.rows[:0], len(secs))[:len(secs)]
+	t := &table{secs: secs, gridHz: gridHz, magSq: sc.rows, scratch: sc}
+	flat := t.take(len(secs) * len(gridHz))
+	omega := t.take(len(gridHz))
 	for g, f := range gridHz {
 		omega[g] = response.RadPerSec(f)
 	}
@@ -52,7 +91,7 @@ func (t *table) db() [][]float64 {
 func (t *table) nodePeaks(perm []int) []float64 {
 	n := len(perm)
 	out := make([]float64, n)
-	acc := make([]float64, len(t.gridHz))
+	acc := t.take(len(t.gridHz))
 	for g := range acc {
 		acc[g] = 1
 	}
