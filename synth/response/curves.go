@@ -31,7 +31,22 @@ func MagnitudePhaseDelay(magDB, phaseDeg, delayS []float64, h zpk.ZPK, freqHz []
 		neg = math.Pi
 	}
 	const deg = 180 / math.Pi
-	for i, f := range freqHz {
+	i := 0
+	// Four frequencies at a time: four independent chains of products.
+	var l lanes
+	for ; i+4 <= n; i += 4 {
+		om := [4]float64{RadPerSec(freqHz[i]), RadPerSec(freqHz[i+1]), RadPerSec(freqHz[i+2]), RadPerSec(freqHz[i+3])}
+		l.at(zs, &om)
+		zm, zw, zd := l.m, l.w, l.delay
+		l.at(ps, &om)
+		for k := range 4 {
+			magDB[i+k] = g + (10/math.Ln10)*(math.Log(zm[k].m/l.m[k].m)+float64(zm[k].e-l.m[k].e)*math.Ln2)
+			phaseDeg[i+k] = (zw[k].angle() - l.w[k].angle() + neg) * deg
+			delayS[i+k] = l.delay[k] - zd[k]
+		}
+	}
+	for ; i < n; i++ {
+		f := freqHz[i]
 		omega := RadPerSec(f)
 		zm, zw, zd := factorsAt(zs, omega)
 		pm, pw, pd := factorsAt(ps, omega)
@@ -93,16 +108,41 @@ func factorsAt(fs []rootFactor, omega float64) (m scaled, w winding, delay float
 		case factorPair:
 			a, b := omega-f.w, omega+f.w
 			dm, dp := f.s2+a*a, f.s2+b*b
-			m.mul(dm)
-			m.mul(dp)
-			delay -= f.sigma/dm + f.sigma/dp
+			if d := dm * dp; d < 0x1p500 && d > 0x1p-500 {
+				// The common case: one product and one division for both.
+				m.mul(d)
+				delay -= f.sigma * (dm + dp) / d
+			} else {
+				m.mul(dm)
+				m.mul(dp)
+				delay -= f.sigma/dm + f.sigma/dp
+			}
 			// (jω − σ − jw)(jω − σ + jw) = σ² + w² − ω² − 2jσω, whose
-			// argument lies in (0, π): multiplied in as one factor.
-			w.mul(f.s2-a*b, -2*f.sigma*omega)
+			// argument lies in (0, π): multiplied in as one factor, with
+			// winding.mul's arithmetic written out (it does not inline).
+			fr, fi := f.s2-a*b, -2*f.sigma*omega
+			re := w.re*fr - w.im*fi
+			im := w.re*fi + w.im*fr
+			if fi >= 0 {
+				if w.im >= 0 && (im < 0 || (im == 0 && re > 0 && w.re < 0)) {
+					w.turns++
+				}
+			} else if w.im < 0 && im >= 0 {
+				w.turns--
+			}
+			w.re, w.im = re, im
+			if s := math.Abs(re) + math.Abs(im); s > 0x1p500 || s < 0x1p-500 {
+				w.renorm()
+			}
 		case factorAxisPair:
 			a, b := omega-f.w, omega+f.w
-			m.mul(f.s2 + a*a)
-			m.mul(f.s2 + b*b)
+			dm, dp := f.s2+a*a, f.s2+b*b
+			if d := dm * dp; d < 0x1p500 && d > 0x1p-500 {
+				m.mul(d)
+			} else {
+				m.mul(dm)
+				m.mul(dp)
+			}
 			for _, wr := range [2]float64{f.w, -f.w} {
 				if omega > wr {
 					w.halfPis++
@@ -127,4 +167,96 @@ func factorsAt(fs []rootFactor, omega float64) (m scaled, w winding, delay float
 		}
 	}
 	return m, w, delay
+}
+
+// lanes holds the results of factorsAt at four frequencies.
+type lanes struct {
+	m     [4]scaled
+	w     [4]winding
+	delay [4]float64
+}
+
+// at sets l to factorsAt(fs, ω) for the four ω in om, the arithmetic of
+// the pair factors written out across the four so that their chains of
+// products overlap.
+func (l *lanes) at(fs []rootFactor, om *[4]float64) {
+	for k := range 4 {
+		l.m[k] = scaled{m: 1}
+		l.w[k] = winding{re: 1}
+		l.delay[k] = 0
+	}
+	for i := range fs {
+		f := &fs[i]
+		switch f.kind {
+		case factorPair:
+			for k, omega := range om {
+				a, b := omega-f.w, omega+f.w
+				dm, dp := f.s2+a*a, f.s2+b*b
+				m := &l.m[k]
+				if d := dm * dp; d < 0x1p500 && d > 0x1p-500 {
+					m.mul(d)
+					l.delay[k] -= f.sigma * (dm + dp) / d
+				} else {
+					m.mul(dm)
+					m.mul(dp)
+					l.delay[k] -= f.sigma/dm + f.sigma/dp
+				}
+				w := &l.w[k]
+				fr, fi := f.s2-a*b, -2*f.sigma*omega
+				re := w.re*fr - w.im*fi
+				im := w.re*fi + w.im*fr
+				if fi >= 0 {
+					if w.im >= 0 && (im < 0 || (im == 0 && re > 0 && w.re < 0)) {
+						w.turns++
+					}
+				} else if w.im < 0 && im >= 0 {
+					w.turns--
+				}
+				w.re, w.im = re, im
+				if s := math.Abs(re) + math.Abs(im); s > 0x1p500 || s < 0x1p-500 {
+					w.renorm()
+				}
+			}
+		case factorAxisPair:
+			for k, omega := range om {
+				a, b := omega-f.w, omega+f.w
+				dm, dp := f.s2+a*a, f.s2+b*b
+				if d := dm * dp; d < 0x1p500 && d > 0x1p-500 {
+					l.m[k].mul(d)
+				} else {
+					l.m[k].mul(dm)
+					l.m[k].mul(dp)
+				}
+				h := 0
+				if omega > f.w {
+					h++
+				} else if omega < f.w {
+					h--
+				}
+				if omega > -f.w {
+					h++
+				} else if omega < -f.w {
+					h--
+				}
+				l.w[k].halfPis += h
+			}
+		default:
+			one := fs[i : i+1]
+			for k, omega := range om {
+				m, w, d := factorsAt(one, omega)
+				l.m[k].mul(m.m)
+				l.m[k].e += m.e
+				l.w[k].mulWinding(w)
+				l.delay[k] += d
+			}
+		}
+	}
+}
+
+// mulWinding multiplies w by the product v, turns and half-π steps
+// included.
+func (w *winding) mulWinding(v winding) {
+	w.mul(v.re, v.im)
+	w.turns += v.turns
+	w.halfPis += v.halfPis
 }
