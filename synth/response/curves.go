@@ -39,8 +39,8 @@ func MagnitudePhaseDelay(magDB, phaseDeg, delayS []float64, h zpk.ZPK, freqHz []
 		l.at(zs, &om)
 		zm, zw, zd := l.m, l.w, l.delay
 		l.at(ps, &om)
-		for k := range 4 {
-			magDB[i+k] = g + (10/math.Ln10)*(math.Log(zm[k].m/l.m[k].m)+float64(zm[k].e-l.m[k].e)*math.Ln2)
+		for k := range 4 { // 10·log10(zm/pm) through logPos, as below
+			magDB[i+k] = g + (10/math.Ln10)*(logPos(zm[k].m/l.m[k].m)+float64(zm[k].e-l.m[k].e)*math.Ln2)
 			phaseDeg[i+k] = (zw[k].angle() - l.w[k].angle() + neg) * deg
 			delayS[i+k] = l.delay[k] - zd[k]
 		}
@@ -50,8 +50,8 @@ func MagnitudePhaseDelay(magDB, phaseDeg, delayS []float64, h zpk.ZPK, freqHz []
 		omega := RadPerSec(f)
 		zm, zw, zd := factorsAt(zs, omega)
 		pm, pw, pd := factorsAt(ps, omega)
-		// 10·log10(zm/pm) with a natural logarithm (cheaper than Log10).
-		magDB[i] = g + (10/math.Ln10)*(math.Log(zm.m/pm.m)+float64(zm.e-pm.e)*math.Ln2)
+		// 10·log10(zm/pm) through logPos (cheaper than math.Log10).
+		magDB[i] = g + (10/math.Ln10)*(logPos(zm.m/pm.m)+float64(zm.e-pm.e)*math.Ln2)
 		phaseDeg[i] = (zw.angle() - pw.angle() + neg) * deg
 		delayS[i] = pd - zd
 	}
