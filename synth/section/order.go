@@ -76,60 +76,66 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 	}
 
 	// The programme runs on |H|² itself rather than on dB, so that no
-	// logarithms are taken: a product of sections is a product of rows, and
-	// removing a section multiplies by its reciprocal row. Each row is
-	// floored at 10^(−300/n), far below any subset's peak (−250 dB for
-	// n = 12), so that no product leaves the range of float64; the
-	// columns no subset can peak on are dropped first (see keepColumns).
+	// logarithms are taken. Each row is floored at 10^(−300/n), far below
+	// any subset's peak (−250 dB for n = 12), so that no product of rows
+	// leaves the range of float64; the columns no subset can peak on are
+	// dropped first (see keepColumns).
 	floor := math.Pow(10, -300/float64(n))
 	cols := keepColumns(t.ints[:0], t.magSq)
 	t.ints = cols
-	lin := t.take(2 * n * len(cols))
-	rows := make([][]float64, 2*n)
-	rows, inv := rows[:n], rows[n:]
+	nc := len(cols)
+	rows := make([][]float64, n)
+	rowMax := t.take(n)
 	for i := range n {
-		rows[i] = lin[2*i*len(cols) : (2*i+1)*len(cols)]
-		inv[i] = lin[(2*i+1)*len(cols) : (2*i+2)*len(cols)]
+		rows[i] = t.take(nc)
 		for c, g := range cols {
 			v := math.Max(t.magSq[i][g], floor)
-			rows[i][c], inv[i][c] = v, 1/v
+			rows[i][c] = v
+			rowMax[i] = math.Max(rowMax[i], v)
 		}
 	}
+	// The products of the sections of every subset of the low nLo
+	// sections, and of every subset of the others: the product of subset
+	// S = A ∪ B is lo[A]·hi[B], column by column (meet in the middle).
+	nLo := n / 2
+	lo, hi := subsetProducts(t, rows[:nLo], nc), subsetProducts(t, rows[nLo:], nc)
 
-	// peak[S] is the peak of the product of the sections in subset S, found
-	// by a Gray-code walk that multiplies in or divides out one section's
-	// row per step; best[S] is the least, over orders of S, of the worst
-	// prefix peak.
+	// best[S] is the least, over orders of S, of the worst prefix peak:
+	// best[S] = max(peak[S], min over i in S of best[S∖i]), where peak[S]
+	// is the peak of the product of the sections in S. peak[S] only
+	// matters where it exceeds that minimum m, and it is at most
+	// peak[S∖i]·max(row i) for every i: where that bound is already at or
+	// below m, the bound is stored in place of peak[S] (best[S] = m either
+	// way, and the reconstruction below compares peak[S] only with values
+	// at least m), and the product is formed only for the other subsets.
 	size := 1 << n
 	peak := t.take(size)
 	best := t.take(size)
-	acc := t.take(len(cols))
-	for c := range acc {
-		acc[c] = 1
-	}
-	for k := 1; k < size; k++ {
-		if k&1023 == 0 {
+	peak[0], best[0] = 1, 0
+	loMask := 1<<nLo - 1
+	for S := 1; S < size; S++ {
+		if S&1023 == 0 {
 			if err := ctx.Err(); err != nil {
 				return nil, 0, err
 			}
 		}
-		bit := bits.TrailingZeros(uint(k))
-		gray := k ^ (k >> 1)
-		if gray&(1<<bit) != 0 {
-			peak[gray] = mulMax(acc, rows[bit])
-		} else {
-			peak[gray] = mulMax(acc, inv[bit])
-		}
-	}
-	best[0] = 0
-	for S := 1; S < size; S++ {
-		m := math.Inf(1)
+		m, ub := math.Inf(1), math.Inf(1)
 		for rest := S; rest != 0; rest &= rest - 1 {
-			if b := best[S&^(rest&-rest)]; b < m { // no NaN here: plain comparisons
+			i := bits.TrailingZeros(uint(rest))
+			sub := S &^ (1 << i)
+			if b := best[sub]; b < m { // no NaN here: plain comparisons
 				m = b
 			}
+			if u := peak[sub] * rowMax[i]; u < ub {
+				ub = u
+			}
 		}
-		if p := peak[S]; p > m {
+		p := ub
+		if ub > m {
+			p = maxProduct(lo[S&loMask], hi[S>>nLo])
+		}
+		peak[S] = p
+		if p > m {
 			m = p
 		}
 		best[S] = m
@@ -266,32 +272,50 @@ func sectionDB(s Section, gridHz []float64) []float64 {
 	return out
 }
 
-// mulMax multiplies acc by row element by element and returns the largest
-// element of the result, in one pass with four independent maxima.
-func mulMax(acc, row []float64) float64 {
-	row = row[:len(acc)]
+// subsetProducts returns, for every subset A of rows (bit i for row i),
+// the element-by-element product of its rows (all ones for the empty
+// set), each row of nc columns taken from t's scratch space.
+func subsetProducts(t *table, rows [][]float64, nc int) [][]float64 {
+	out := make([][]float64, 1<<len(rows))
+	out[0] = t.take(nc)
+	for c := range out[0] {
+		out[0][c] = 1
+	}
+	for A := 1; A < len(out); A++ {
+		i := bits.TrailingZeros(uint(A))
+		prev, row := out[A&^(1<<i)], rows[i]
+		cur := t.take(nc)
+		for c := range cur {
+			cur[c] = prev[c] * row[c]
+		}
+		out[A] = cur
+	}
+	return out
+}
+
+// maxProduct returns the largest element of the element-by-element
+// product of a and b, in one pass with four independent maxima.
+func maxProduct(a, b []float64) float64 {
+	b = b[:len(a)]
 	m0, m1, m2, m3 := 0.0, 0.0, 0.0, 0.0
 	g := 0
-	for ; g+4 <= len(acc); g += 4 {
-		a0, a1, a2, a3 := acc[g]*row[g], acc[g+1]*row[g+1], acc[g+2]*row[g+2], acc[g+3]*row[g+3]
-		acc[g], acc[g+1], acc[g+2], acc[g+3] = a0, a1, a2, a3
-		if a0 > m0 {
-			m0 = a0
+	for ; g+4 <= len(a); g += 4 {
+		if v := a[g] * b[g]; v > m0 {
+			m0 = v
 		}
-		if a1 > m1 {
-			m1 = a1
+		if v := a[g+1] * b[g+1]; v > m1 {
+			m1 = v
 		}
-		if a2 > m2 {
-			m2 = a2
+		if v := a[g+2] * b[g+2]; v > m2 {
+			m2 = v
 		}
-		if a3 > m3 {
-			m3 = a3
+		if v := a[g+3] * b[g+3]; v > m3 {
+			m3 = v
 		}
 	}
-	for ; g < len(acc); g++ {
-		acc[g] *= row[g]
-		if acc[g] > m0 {
-			m0 = acc[g]
+	for ; g < len(a); g++ {
+		if v := a[g] * b[g]; v > m0 {
+			m0 = v
 		}
 	}
 	return math.Max(math.Max(m0, m1), math.Max(m2, m3))
