@@ -87,6 +87,7 @@ func (t *table) order(ctx context.Context) ([]int, float64, error) {
 	rows := make([][]float64, n)
 	rowMax := t.take(n)
 	for i := range n {
+		rowMax[i] = 0
 		rows[i] = t.take(nc)
 		for c, g := range cols {
 			v := math.Max(t.magSq[i][g], floor)

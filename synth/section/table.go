@@ -29,7 +29,8 @@ type scratch struct {
 
 var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
 
-// take returns n zeroed floats of the scratch space.
+// take returns n floats of the scratch space, holding whatever they held
+// before: the caller writes every one before reading it.
 func (s *scratch) take(n int) []float64 {
 	if s.used+n > len(s.floats) {
 		// Grow for the next user; the floats handed out so far stay valid.
@@ -38,7 +39,6 @@ func (s *scratch) take(n int) []float64 {
 	}
 	out := s.floats[s.used : s.used+n : s.used+n]
 	s.used += n
-	clear(out)
 	return out
 }
 
