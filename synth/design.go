@@ -422,21 +422,9 @@ func synthesize(ctx context.Context, s Spec) (*Design, []section.Section, error)
 	}
 	loHz, hiHz := gridRange(s, secs)
 	orderGrid := orderingGrid(secs, loHz, hiHz)
-	perm, _, err := section.Order(ctx, secs, orderGrid)
+	ordered, nodePeaks, err := section.OrderPeaks(ctx, secs, orderGrid)
 	if err != nil {
 		return nil, nil, err
-	}
-	// The programme is exact on its grid; between grid points the true
-	// peaks may differ by a hair, so keep ascending Q (the tie-break) when
-	// its refined worst peak is no higher.
-	ordered := permute(secs, perm)
-	nodePeaks := section.NodePeaks(ordered, orderGrid)
-	if asc := section.AscendingQ(secs); !slices.Equal(asc, perm) {
-		ascOrdered := permute(secs, asc)
-		ascPeaks := section.NodePeaks(ascOrdered, orderGrid)
-		if slices.Max(ascPeaks) <= slices.Max(nodePeaks)*(1+1e-10) {
-			ordered, nodePeaks = ascOrdered, ascPeaks
-		}
 	}
 	peaks, err := section.DistributePeaks(ordered, h.Gain, gain, nodePeaks)
 	if err != nil {
@@ -628,13 +616,8 @@ func gridRange(s Spec, secs []section.Section) (float64, float64) {
 }
 
 func curves(h zpk.ZPK, grid []float64) Curves {
-	c := Curves{
-		FreqHz:      grid,
-		IdealDB:     response.MagnitudeDB(nil, h, grid),
-		RealizedDB:  []float64{},
-		PhaseDeg:    response.PhaseDeg(nil, h, grid),
-		GroupDelayS: response.GroupDelayS(nil, h, grid),
-	}
+	c := Curves{FreqHz: grid, RealizedDB: []float64{}}
+	c.IdealDB, c.PhaseDeg, c.GroupDelayS = response.MagnitudePhaseDelay(nil, nil, nil, h, grid)
 	floorDB(c.IdealDB)
 	for i, v := range c.GroupDelayS {
 		if math.IsNaN(v) || math.IsInf(v, 0) {

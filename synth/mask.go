@@ -25,11 +25,9 @@ func (d *Design) checkMask() {
 	for i := range d.Sections {
 		secs[i] = d.Sections[i].sec
 	}
-	// loss is the power loss ratio G²/|H|², in linear terms: the searches
-	// below need no logarithms, only their results are turned into dB.
-	loss := func(f float64) float64 {
-		return ref / section.MagnitudeSquared(secs, response.RadPerSec(f))
-	}
+	// The searches below work on the power loss ratio G²/|H|² in linear
+	// terms: they need no logarithms, only their results are turned into
+	// dB.
 	wide := math.Pow(10, maskDecades)
 	var pass, stop [][2]float64
 	switch s.Response {
@@ -56,7 +54,7 @@ func (d *Design) checkMask() {
 	}
 	worstPass := math.Inf(-1)
 	for _, r := range pass {
-		worstPass = math.Max(worstPass, extremum(loss, r[0], r[1], true))
+		worstPass = math.Max(worstPass, extremum(secs, ref, r[0], r[1], true))
 	}
 	d.Mask.PassbandMarginDB = s.PassbandRippleDB - 10*math.Log10(worstPass)
 	d.Mask.PassbandMet = d.Mask.PassbandMarginDB >= -MaskToleranceDB
@@ -70,7 +68,7 @@ func (d *Design) checkMask() {
 		}
 		least := math.Inf(1)
 		for _, r := range stop {
-			least = math.Min(least, extremum(loss, r[0], r[1], false))
+			least = math.Min(least, extremum(secs, ref, r[0], r[1], false))
 			cuts := []float64{r[0]}
 			for _, z := range zerosHz {
 				if z > r[0] && z < r[1] {
@@ -80,8 +78,8 @@ func (d *Design) checkMask() {
 			cuts = append(cuts, r[1])
 			slices.Sort(cuts)
 			for i := 1; i < len(cuts); i++ {
-				inv := func(x float64) float64 { return 1 / loss(math.Exp(x)) }
-				least = math.Min(least, 1/response.GoldenMax(inv, math.Log(cuts[i-1]), math.Log(cuts[i])))
+				lo, hi := response.RadPerSec(cuts[i-1]), response.RadPerSec(cuts[i])
+				least = math.Min(least, ref/section.Extremum(secs, lo, hi, math.Sqrt(lo*hi), true))
 			}
 		}
 		m := 10*math.Log10(least) - s.StopbandAttenDB
@@ -94,13 +92,13 @@ func (d *Design) checkMask() {
 	d.MeetsMask = d.Mask.PassbandMet && d.Mask.StopbandMet
 }
 
-// extremum returns the largest (max true) or smallest value of the
-// positive function f over [lo, hi]: a log grid of maskPoints, the two
-// ends, and a golden-section refinement of every interior local extremum
-// of the grid that could be the answer.
-func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
-	g := func(x float64) float64 { // in log frequency, maximised
-		v := f(math.Exp(x))
+// extremum returns the largest (max true) or smallest value of the loss
+// ratio ref/|H|² of the cascade secs over [loHz, hiHz]: a log grid of
+// maskPoints, the two ends, and a refinement ([section.Extremum]) of
+// every interior local extremum of the grid that could be the answer.
+func extremum(secs []section.Section, ref, loHz, hiHz float64, max bool) float64 {
+	g := func(fHz float64) float64 { // maximised
+		v := ref / section.MagnitudeSquared(secs, response.RadPerSec(fHz))
 		if !max {
 			v = 1 / v
 		}
@@ -109,21 +107,34 @@ func extremum(f func(float64) float64, lo, hi float64, max bool) float64 {
 		}
 		return v
 	}
-	a, b := math.Log(lo), math.Log(hi)
+	// The grid is log-spaced, each point the one before times a constant
+	// ratio (no exponential per point); the ends are exactly loHz and hiHz.
 	n := maskPoints
-	var xs, vs [maskPoints]float64
-	for i := range n {
-		xs[i] = a + (b-a)*float64(i)/float64(n-1)
-		vs[i] = g(xs[i])
+	var fs, vs [maskPoints]float64
+	ratio := math.Pow(hiHz/loHz, 1/float64(n-1))
+	f := loHz
+	for i := range n - 1 {
+		fs[i] = f
+		f *= ratio
+	}
+	fs[n-1] = hiHz
+	for i, f := range fs {
+		vs[i] = g(f)
 	}
 	top := slices.Max(vs[:])
 	best := top
 	for i := 1; i < n-1; i++ {
 		// A grid this fine is within hundredths of a dB of every smooth
 		// extremum, so those more than 0.05 dB (a factor 0.9886 in power)
-		// from the best are skipped.
+		// from the best are skipped. A largest loss is a least |H|².
 		if vs[i] > vs[i-1] && vs[i] >= vs[i+1] && vs[i] > top*0.9886 {
-			best = math.Max(best, response.GoldenMax(g, xs[i-1], xs[i+1]))
+			w := response.RadPerSec
+			m := section.Extremum(secs, w(fs[i-1]), w(fs[i+1]), w(fs[i]), !max)
+			if max {
+				best = math.Max(best, ref/m)
+			} else {
+				best = math.Max(best, m/ref)
+			}
 		}
 	}
 	if !max {

@@ -98,3 +98,25 @@ func BenchmarkPipeline(b *testing.B) {
 		}
 	})
 }
+
+func BenchmarkMagnitudePhaseDelay(b *testing.B) {
+	freqs := response.LogSpaceHz(nil, 10, 1e5, 500)
+	mag, ph, tau := make([]float64, len(freqs)), make([]float64, len(freqs)), make([]float64, len(freqs))
+	for _, n := range []int{8, 20} {
+		h := ellipticLike(n)
+		b.Run(fmt.Sprintf("together/order=%d/points=500", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				response.MagnitudePhaseDelay(mag, ph, tau, h, freqs)
+			}
+		})
+		b.Run(fmt.Sprintf("apart/order=%d/points=500", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				response.MagnitudeDB(mag, h, freqs)
+				response.PhaseDeg(ph, h, freqs)
+				response.GroupDelayS(tau, h, freqs)
+			}
+		})
+	}
+}

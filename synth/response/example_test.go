@@ -75,3 +75,17 @@ func ExamplePeakDB() {
 	// Output:
 	// 20.01 dB at 997.5 Hz
 }
+
+// ExampleMagnitudePhaseDelay evaluates the Q = 10 resonator at its f0 and
+// a decade either side in one pass. The closed forms with x = f/f0:
+// |H|² = 1/((1 − x²)² + (x/Q)²), φ = −atan2(x/Q, 1 − x²) and
+// τ = (1 + x²)/(Q·ω0·((1 − x²)² + (x/Q)²)): Q (20 dB), −90° and 2Q/ω0
+// at f0.
+func ExampleMagnitudePhaseDelay() {
+	db, ph, tau := response.MagnitudePhaseDelay(nil, nil, nil, resonator(), []float64{100, 1000, 10000})
+	fmt.Printf("%.4g dB\n%.4g°\n%.4g s\n", db, ph, tau)
+	// Output:
+	// [0.08685 20 -39.91] dB
+	// [-0.5787 -90 -179.4]°
+	// [1.64e-05 0.003183 1.64e-07] s
+}

@@ -24,6 +24,17 @@ const (
 	gridSpan = 6.0
 )
 
+// gridTan holds tan(i·atan(gridSpan)/gridHalfPoints) for i from
+// −gridHalfPoints to gridHalfPoints: the offsets of a resonance cluster in
+// units of |σ| (see Grid).
+var gridTan = func() (t [GridPointsPerPole]float64) {
+	step := math.Atan(gridSpan) / gridHalfPoints
+	for k := range t {
+		t[k] = math.Tan(float64(k-gridHalfPoints) * step)
+	}
+	return t
+}()
+
 // Grid returns an ascending grid of frequencies in Hz from loHz to hiHz for
 // plotting or analysing h. It consists of
 //
@@ -74,7 +85,6 @@ func Grid(h zpk.ZPK, loHz, hiHz float64, n int, extraHz ...float64) []float64 {
 			tail = append(tail, fHz)
 		}
 	}
-	step := math.Atan(gridSpan) / gridHalfPoints
 	for _, p := range h.Poles {
 		sigma, w := real(p), imag(p)
 		if !(w > 0) {
@@ -84,8 +94,8 @@ func Grid(h zpk.ZPK, loHz, hiHz float64, n int, extraHz ...float64) []float64 {
 			add(hzFromRadPerSec(w))
 			continue
 		}
-		for i := -gridHalfPoints; i <= gridHalfPoints; i++ {
-			add(hzFromRadPerSec(w + math.Abs(sigma)*math.Tan(float64(i)*step)))
+		for _, t := range gridTan {
+			add(hzFromRadPerSec(w + math.Abs(sigma)*t))
 		}
 	}
 	for _, z := range h.Zeros {

@@ -101,6 +101,14 @@ func (s *scaled) mul(d float64) {
 // renorm moves the binary exponent of m into e (out of line so that mul
 // inlines).
 func (s *scaled) renorm() {
+	b := math.Float64bits(s.m)
+	if e := int(b >> 52 & 0x7ff); e != 0 && e != 0x7ff {
+		// A normal number: exactly math.Frexp, by moving the exponent
+		// bits (Frexp also handles zero, subnormals, Inf and NaN).
+		s.m = math.Float64frombits(b&^(0x7ff<<52) | 1022<<52)
+		s.e += e - 1022
+		return
+	}
 	var k int
 	s.m, k = math.Frexp(s.m)
 	s.e += k

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/polewright/polewright/synth/response"
 	"github.com/polewright/polewright/synth/zpk"
 )
 
@@ -84,39 +83,16 @@ func (s *Section) magSq(w float64) float64 {
 
 // NodePeaks returns, for each j, the peak over frequency of |H| of the
 // cascade secs[:j+1]: the best points of gridHz (every grid local maximum
-// within 0.01 dB of the best) refined by golden-section search, and the
+// within 0.01 dB of the best) refined by [Extremum], and the
 // two ends of the axis, DC and infinite frequency, where lowpass, highpass
 // and bandstop responses keep their passband. gridHz must resolve every
 // resonance (see [response.Grid]).
 func NodePeaks(secs []Section, gridHz []float64) []float64 {
-	n := len(secs)
-	out := make([]float64, n)
-	acc := make([]float64, len(gridHz))
-	for g := range acc {
-		acc[g] = 1
+	perm := make([]int, len(secs))
+	for i := range perm {
+		perm[i] = i
 	}
-	for j := range secs {
-		for g, f := range gridHz {
-			acc[g] *= secs[j].magSq(response.RadPerSec(f))
-		}
-		best := 0.0
-		for _, v := range acc {
-			best = math.Max(best, v)
-		}
-		prefix := secs[:j+1]
-		f := func(logHz float64) float64 { return MagnitudeSquared(prefix, response.RadPerSec(math.Exp(logHz))) }
-		peak := best
-		for g := 1; g+1 < len(acc); g++ {
-			if acc[g] >= acc[g-1] && acc[g] >= acc[g+1] && acc[g] >= best*0.9977 { // 0.01 dB
-				peak = math.Max(peak, response.GoldenMax(f, math.Log(gridHz[g-1]), math.Log(gridHz[g+1])))
-			}
-		}
-		h := Cascade(prefix)
-		peak = math.Max(peak, real(h.At(0))*real(h.At(0))+imag(h.At(0))*imag(h.At(0)))
-		if len(h.Zeros) == len(h.Poles) {
-			peak = math.Max(peak, h.Gain*h.Gain) // H(∞) = K
-		}
-		out[j] = math.Sqrt(peak)
-	}
-	return out
+	t := newTable(secs, gridHz)
+	defer t.release()
+	return t.nodePeaks(perm)
 }

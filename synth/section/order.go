@@ -16,6 +16,9 @@ const MaxExact = 12
 // tieDB is the margin within which two peaks count as equal when ordering.
 const tieDB = 1e-9
 
+// tieRatio is tieDB as a ratio of |H|²: 10^(tieDB/10).
+var tieRatio = math.Pow(10, tieDB/10)
+
 // Order returns the permutation of secs (indices into secs, in signal order)
 // that minimises the worst peak, over the grid gridHz, of the partial
 // products at every stage output. Ties go to ascending Q, then ascending f0.
@@ -25,16 +28,46 @@ const tieDB = 1e-9
 //
 // Order checks ctx between subsets and returns ctx.Err() if it is done.
 func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float64, error) {
+	t := newTable(secs, gridHz)
+	defer t.release()
+	return t.order(ctx)
+}
+
+// OrderPeaks orders secs as [Order] does and returns them in that order
+// with their node peaks ([NodePeaks]), each section evaluated on gridHz
+// once for both. The programme is exact on its grid; between grid points
+// the true peaks may differ by a hair, so ascending Q (the tie-break) is
+// returned instead when its refined worst node peak is no higher.
+func OrderPeaks(ctx context.Context, secs []Section, gridHz []float64) ([]Section, []float64, error) {
+	t := newTable(secs, gridHz)
+	defer t.release()
+	perm, _, err := t.order(ctx)
+	if err != nil {
+		return nil, nil, err
+	}
+	peaks := t.nodePeaks(perm)
+	if asc := ascendingQ(secs); !slices.Equal(asc, perm) {
+		if ascPeaks := t.nodePeaks(asc); slices.Max(ascPeaks) <= slices.Max(peaks)*(1+1e-10) {
+			perm, peaks = asc, ascPeaks
+		}
+	}
+	ordered := make([]Section, len(perm))
+	for i, k := range perm {
+		ordered[i] = secs[k]
+	}
+	return ordered, peaks, nil
+}
+
+// order is [Order] on the table's grid.
+func (t *table) order(ctx context.Context) ([]int, float64, error) {
+	secs := t.secs
 	n := len(secs)
 	if n == 0 {
 		return nil, math.Inf(-1), nil
 	}
-	db := make([][]float64, n)
-	for i, s := range secs {
-		db[i] = sectionDB(s, gridHz)
-	}
 	asc := ascendingQ(secs)
 	if n > MaxExact {
+		db := t.db()
 		g, gPeak := greedy(secs, db)
 		if aPeak := worstPeak(asc, db); aPeak <= gPeak+tieDB {
 			return asc, aPeak, nil
@@ -42,35 +75,71 @@ func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float6
 		return g, gPeak, nil
 	}
 
-	// peak[S] is the peak of the product of the sections in subset S, found
-	// by a Gray-code walk that adds or removes one section's row per step;
-	// best[S] is the least, over orders of S, of the worst prefix peak.
+	// The programme runs on |H|² itself rather than on dB, so that no
+	// logarithms are taken. Each row is floored at 10^(−300/n), far below
+	// any subset's peak (−250 dB for n = 12), so that no product of rows
+	// leaves the range of float64; the columns no subset can peak on are
+	// dropped first (see keepColumns).
+	floor := math.Pow(10, -300/float64(n))
+	cols := keepColumns(t.ints[:0], t.magSq)
+	t.ints = cols
+	nc := len(cols)
+	rows := make([][]float64, n)
+	rowMax := t.take(n)
+	for i := range n {
+		rowMax[i] = 0
+		rows[i] = t.take(nc)
+		for c, g := range cols {
+			v := math.Max(t.magSq[i][g], floor)
+			rows[i][c] = v
+			rowMax[i] = math.Max(rowMax[i], v)
+		}
+	}
+	// The products of the sections of every subset of the low nLo
+	// sections, and of every subset of the others: the product of subset
+	// S = A ∪ B is lo[A]·hi[B], column by column (meet in the middle).
+	nLo := n / 2
+	lo, hi := subsetProducts(t, rows[:nLo], nc), subsetProducts(t, rows[nLo:], nc)
+
+	// best[S] is the least, over orders of S, of the worst prefix peak:
+	// best[S] = max(peak[S], min over i in S of best[S∖i]), where peak[S]
+	// is the peak of the product of the sections in S. peak[S] only
+	// matters where it exceeds that minimum m, and it is at most
+	// peak[S∖i]·max(row i) for every i: where that bound is already at or
+	// below m, the bound is stored in place of peak[S] (best[S] = m either
+	// way, and the reconstruction below compares peak[S] only with values
+	// at least m), and the product is formed only for the other subsets.
 	size := 1 << n
-	peak := make([]float64, size)
-	best := make([]float64, size)
-	acc := make([]float64, len(gridHz))
-	for k := 1; k < size; k++ {
-		if k&1023 == 0 {
+	peak := t.take(size)
+	best := t.take(size)
+	peak[0], best[0] = 1, 0
+	loMask := 1<<nLo - 1
+	for S := 1; S < size; S++ {
+		if S&1023 == 0 {
 			if err := ctx.Err(); err != nil {
 				return nil, 0, err
 			}
 		}
-		bit := bits.TrailingZeros(uint(k))
-		gray := k ^ (k >> 1)
-		sign := -1.0
-		if gray&(1<<bit) != 0 {
-			sign = 1
-		}
-		peak[gray] = addMax(acc, db[bit], sign)
-	}
-	best[0] = math.Inf(-1)
-	for S := 1; S < size; S++ {
-		m := math.Inf(1)
+		m, ub := math.Inf(1), math.Inf(1)
 		for rest := S; rest != 0; rest &= rest - 1 {
 			i := bits.TrailingZeros(uint(rest))
-			m = math.Min(m, best[S&^(1<<i)])
+			sub := S &^ (1 << i)
+			if b := best[sub]; b < m { // no NaN here: plain comparisons
+				m = b
+			}
+			if u := peak[sub] * rowMax[i]; u < ub {
+				ub = u
+			}
 		}
-		best[S] = math.Max(peak[S], m)
+		p := ub
+		if ub > m {
+			p = maxProduct(lo[S&loMask], hi[S>>nLo])
+		}
+		peak[S] = p
+		if p > m {
+			m = p
+		}
+		best[S] = m
 	}
 
 	// Reconstruct from the end: the last section is the feasible one with
@@ -87,14 +156,14 @@ func Order(ctx context.Context, secs []Section, gridHz []float64) ([]int, float6
 			if S&(1<<i) == 0 {
 				continue
 			}
-			if math.Max(peak[S], best[S&^(1<<i)]) <= best[S]+tieDB && (pick < 0 || rank[i] > rank[pick]) {
+			if math.Max(peak[S], best[S&^(1<<i)]) <= best[S]*tieRatio && (pick < 0 || rank[i] > rank[pick]) {
 				pick = i
 			}
 		}
 		order[pos] = pick
 		S &^= 1 << pick
 	}
-	return order, best[size-1], nil
+	return order, 10 * math.Log10(best[size-1]), nil
 }
 
 // AscendingQ returns the indices of secs in ascending Q, then ascending f0:
@@ -204,33 +273,83 @@ func sectionDB(s Section, gridHz []float64) []float64 {
 	return out
 }
 
-// addMax adds sign·row to acc and returns the largest element of the
-// result, in one pass with four independent maxima.
-func addMax(acc, row []float64, sign float64) float64 {
-	row = row[:len(acc)]
-	m0, m1, m2, m3 := math.Inf(-1), math.Inf(-1), math.Inf(-1), math.Inf(-1)
+// subsetProducts returns, for every subset A of rows (bit i for row i),
+// the element-by-element product of its rows (all ones for the empty
+// set), each row of nc columns taken from t's scratch space.
+func subsetProducts(t *table, rows [][]float64, nc int) [][]float64 {
+	out := make([][]float64, 1<<len(rows))
+	out[0] = t.take(nc)
+	for c := range out[0] {
+		out[0][c] = 1
+	}
+	for A := 1; A < len(out); A++ {
+		i := bits.TrailingZeros(uint(A))
+		prev, row := out[A&^(1<<i)], rows[i]
+		cur := t.take(nc)
+		for c := range cur {
+			cur[c] = prev[c] * row[c]
+		}
+		out[A] = cur
+	}
+	return out
+}
+
+// maxProduct returns the largest element of the element-by-element
+// product of a and b, in one pass with four independent maxima.
+func maxProduct(a, b []float64) float64 {
+	b = b[:len(a)]
+	m0, m1, m2, m3 := 0.0, 0.0, 0.0, 0.0
 	g := 0
-	for ; g+4 <= len(acc); g += 4 {
-		a0, a1, a2, a3 := acc[g]+sign*row[g], acc[g+1]+sign*row[g+1], acc[g+2]+sign*row[g+2], acc[g+3]+sign*row[g+3]
-		acc[g], acc[g+1], acc[g+2], acc[g+3] = a0, a1, a2, a3
-		if a0 > m0 {
-			m0 = a0
+	for ; g+4 <= len(a); g += 4 {
+		if v := a[g] * b[g]; v > m0 {
+			m0 = v
 		}
-		if a1 > m1 {
-			m1 = a1
+		if v := a[g+1] * b[g+1]; v > m1 {
+			m1 = v
 		}
-		if a2 > m2 {
-			m2 = a2
+		if v := a[g+2] * b[g+2]; v > m2 {
+			m2 = v
 		}
-		if a3 > m3 {
-			m3 = a3
+		if v := a[g+3] * b[g+3]; v > m3 {
+			m3 = v
 		}
 	}
-	for ; g < len(acc); g++ {
-		acc[g] += sign * row[g]
-		if acc[g] > m0 {
-			m0 = acc[g]
+	for ; g < len(a); g++ {
+		if v := a[g] * b[g]; v > m0 {
+			m0 = v
 		}
 	}
 	return math.Max(math.Max(m0, m1), math.Max(m2, m3))
+}
+
+// keepColumns appends to dst the grid columns of rows (one row per section) on
+// which some product of sections may peak: a column that is no larger
+// than another in every row is dropped, as no product can be larger there
+// than at the other. Only neighbours in the grid are compared (a running
+// stack of kept columns, each new column against the last kept ones), which
+// catches the long stretches where every section rises or falls together
+// (beyond the last resonance, say) at a cost of one pass.
+func keepColumns(dst []int, rows [][]float64) []int {
+	if len(rows) == 0 {
+		return dst
+	}
+	leq := func(a, b int) bool { // column a ≤ column b in every row
+		for _, r := range rows {
+			if r[a] > r[b] {
+				return false
+			}
+		}
+		return true
+	}
+	kept := dst
+	for c := range rows[0] {
+		for len(kept) > 0 && leq(kept[len(kept)-1], c) {
+			kept = kept[:len(kept)-1]
+		}
+		if len(kept) > 0 && leq(c, kept[len(kept)-1]) {
+			continue
+		}
+		kept = append(kept, c)
+	}
+	return kept
 }

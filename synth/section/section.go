@@ -312,10 +312,16 @@ func splitConjugates(roots []complex128, tol float64) ([]complex128, error) {
 		if imag(r) <= 0 {
 			continue
 		}
-		best := -1
+		// The nearest unused lower root, by squared distance (no square
+		// roots in the search; only the check below takes one).
+		best, bestD := -1, math.Inf(1)
 		for k, l := range lower {
-			if !used[k] && (best < 0 || cmplx.Abs(l-cmplx.Conj(r)) < cmplx.Abs(lower[best]-cmplx.Conj(r))) {
-				best = k
+			if used[k] {
+				continue
+			}
+			d := l - cmplx.Conj(r)
+			if d2 := real(d)*real(d) + imag(d)*imag(d); best < 0 || d2 < bestD {
+				best, bestD = k, d2
 			}
 		}
 		if cmplx.Abs(lower[best]-cmplx.Conj(r)) > 1e3*tol+1e-9*cmplx.Abs(r) {
