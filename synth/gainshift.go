@@ -16,6 +16,12 @@ import (
 // section is built as a state-variable stage.
 const maxUntakenGainDB = 0.25
 
+// negligibleGainErrPct is the largest gain error, in per cent, that
+// takeUpGains leaves alone as rounding: 1e-9 relative (about 1e-8 dB), the
+// bound below which the two-integrator notch's reason does not mention its
+// gain either.
+const negligibleGainErrPct = 1e-7
+
 // takeUpGains keeps the chain's gain where the sections put it when a
 // two-integrator-notch stage's gain is the capacitor ratio C3/C1 rather
 // than its section's. For a stage i whose gain is off by a factor x
@@ -101,7 +107,10 @@ func (d *Design) takeUpGains(ordered []section.Section, results []topology.Resul
 		return 1 + r.GainErrPct/100, true
 	}
 	for i, r := range results {
-		if r.Stage.Topology != topology.TwoIntegratorNotch || r.GainErrPct == 0 {
+		// A gain error of rounding size (exact values: the capacitor
+		// ratio is the gain to about 1e-15) is none: taking it up only
+		// wrote "−5.8e-15 dB lower" into a reason, or not, as an ulp fell.
+		if r.Stage.Topology != topology.TwoIntegratorNotch || math.Abs(r.GainErrPct) <= negligibleGainErrPct {
 			continue
 		}
 		b0, a0, b1, a1 := takers(i)
