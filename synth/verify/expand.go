@@ -88,6 +88,7 @@ type stageModel struct {
 	nOps         int           // single-pole op-amps (0 for the ideal model)
 	sectionOrder int
 	num, den     expansion
+	numC, denC   compiled // num and den laid out for the trials
 	degNum       int
 	degDen       int
 	generic      bool
@@ -407,6 +408,7 @@ func (sm *stageModel) expand() error {
 	}
 	sm.den, sm.degDen = collect(detD)
 	sm.num, sm.degNum = collect(detN)
+	sm.denC, sm.numC = compile(sm.den, nParts), compile(sm.num, nParts)
 	if sm.degDen < 0 {
 		return fmt.Errorf("%w: stage %s: the nodal determinant is identically zero", circuit.ErrSingular, st.Topology)
 	}

@@ -1,6 +1,7 @@
 package verify
 
 import (
+	"math"
 	"slices"
 
 	"github.com/polewright/polewright/synth/circuit"
@@ -32,3 +33,42 @@ func StageTrial(st circuit.Stage, m circuit.Model, fac, gbw, freqHz []float64, g
 
 // TailSizes exposes tailSizes.
 var TailSizes = tailSizes
+
+// ExpansionBothWays evaluates the fast path's numerator and denominator
+// of stage st (model m, parts scaled by fac, single-pole op-amps' GBW by
+// gbw) term by term (evalExpansion, the reference) and through their
+// compiled layout (compiled.eval, what the trials use). expanded is false
+// when the stage takes the generic path (then nothing is evaluated).
+func ExpansionBothWays(st circuit.Stage, m circuit.Model, fac, gbw []float64) (refNum, refDen, num, den []float64, expanded bool, err error) {
+	sm, err := newStageModel(st, m, 1, expandAlways)
+	if err != nil || sm.generic {
+		return nil, nil, nil, nil, false, err
+	}
+	y := slices.Clone(sm.y0)
+	for j, f := range fac {
+		if sm.isCap[j] {
+			y[j] *= f
+		} else {
+			y[j] /= f
+		}
+	}
+	var alpha float64
+	beta := make([]float64, sm.nOps)
+	if !m.Ideal {
+		alpha = math.Pow(10, -m.DCGainDB/20)
+		for u := range beta {
+			beta[u] = sm.scale / (2 * math.Pi * m.GBWHz * gbw[u])
+		}
+	}
+	refNum, refDen = make([]float64, sm.degNum+1), make([]float64, sm.degDen+1)
+	num, den = make([]float64, sm.degNum+1), make([]float64, sm.degDen+1)
+	evalExpansion(sm.num, refNum, y, alpha, beta)
+	evalExpansion(sm.den, refDen, y, alpha, beta)
+	nA := sm.denC.nA
+	pa, pb := make([]float64, 1<<nA), make([]float64, 1<<(len(y)-nA))
+	subsetProducts(pa, y[:nA])
+	subsetProducts(pb, y[nA:])
+	sm.numC.eval(num, pa, pb, alpha, beta)
+	sm.denC.eval(den, pa, pb, alpha, beta)
+	return refNum, refDen, num, den, true, nil
+}

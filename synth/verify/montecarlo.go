@@ -325,7 +325,10 @@ type chainModel struct {
 	nFreq    int
 	x, u     [][]float64 // per stage: ω/scale and −(ω/scale)² on the grid
 	maxParts int
-	runSeed  uint64
+	// maxFastParts is the most parts of a stage on the fast path (at
+	// most maxExpandVars), which sizes the workers' subset products.
+	maxFastParts int
+	runSeed      uint64
 	// fused: every stage is expanded with polynomials of degree ≤ 3, and
 	// the response is computed in one pass over the grid (fusedResponse)
 	// in the variable x = ω/refScale, ratio[k] = refScale/scale of stage k.
@@ -402,6 +405,9 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 		}
 		cm.partTol = append(cm.partTol, pt)
 		cm.maxParts = max(cm.maxParts, len(sm.aug.Parts))
+		if !sm.generic {
+			cm.maxFastParts = max(cm.maxFastParts, len(sm.aug.Parts))
+		}
 		x := make([]float64, len(cm.grid))
 		u := make([]float64, len(cm.grid))
 		for i, f := range cm.grid {
@@ -436,6 +442,7 @@ type worker struct {
 	pcg      rand.PCG
 	rng      *rand.Rand
 	y        []float64
+	pa, pb   []float64 // subset products of the two halves of y (compiled.eval)
 	beta     []float64
 	num, den []float64
 	mag2     []float64
@@ -468,6 +475,8 @@ func newWorker(cm *chainModel, trials int) *worker {
 		w.roots = append(w.roots, make([]complex128, len(sm.nomRoots)))
 	}
 	w.y = make([]float64, cm.maxParts)
+	w.pa = make([]float64, 1<<(cm.maxFastParts/2))
+	w.pb = make([]float64, 1<<(cm.maxFastParts-cm.maxFastParts/2))
 	w.beta = make([]float64, maxOps)
 	w.num = make([]float64, maxDeg+1)
 	w.den = make([]float64, maxDeg+1)
@@ -601,8 +610,12 @@ func (w *worker) analyse() error {
 			}
 		}
 		num, den := w.num[:sm.degNum+1], w.den[:sm.degDen+1]
-		evalExpansion(sm.num, num, y, alpha, beta)
-		evalExpansion(sm.den, den, y, alpha, beta)
+		nA := sm.denC.nA
+		pa, pb := w.pa[:1<<nA], w.pb[:1<<(len(y)-nA)]
+		subsetProducts(pa, y[:nA])
+		subsetProducts(pb, y[nA:])
+		sm.numC.eval(num, pa, pb, alpha, beta)
+		sm.denC.eval(den, pa, pb, alpha, beta)
 		w.stagePoles(k, sm, num, den)
 		if !cm.fused {
 			w.nums[k] = append(w.nums[k][:0], num...)
