@@ -72,3 +72,55 @@ func ExpansionBothWays(st circuit.Stage, m circuit.Model, fac, gbw []float64) (r
 	sm.denC.eval(den, pa, pb, alpha, beta)
 	return refNum, refDen, num, den, true, nil
 }
+
+// PoleCheck is a stage prepared for [PoleCheck.Poles].
+type PoleCheck struct {
+	st circuit.Stage
+	m  circuit.Model
+	sm *stageModel
+}
+
+// NewPoleCheck prepares stage st under model m on the fast path; it
+// returns nil when the stage takes the generic path.
+func NewPoleCheck(st circuit.Stage, m circuit.Model) (*PoleCheck, error) {
+	sm, err := newStageModel(st, m, 1, expandAlways)
+	if err != nil || sm.generic {
+		return nil, err
+	}
+	return &PoleCheck{st, m, sm}, nil
+}
+
+// Poles computes the stage's denominator with its parts scaled by fac and
+// its single-pole op-amps' GBW by gbw (as the trials do) and its roots
+// twice, in rad/s: polished, from the nominal roots by the trials'
+// iteration (polyRoots; ok is false when it gave up and a trial would
+// take the full solve), and full, the circuit package's full solve
+// (companion-matrix eigenvalues, circuit.Rational.Poles).
+func (pc *PoleCheck) Poles(fac, gbw []float64) (polished, full []complex128, ok bool) {
+	sm := pc.sm
+	y := slices.Clone(sm.y0)
+	for j, f := range fac {
+		if sm.isCap[j] {
+			y[j] *= f
+		} else {
+			y[j] /= f
+		}
+	}
+	var alpha float64
+	beta := make([]float64, sm.nOps)
+	if !pc.m.Ideal {
+		alpha = math.Pow(10, -pc.m.DCGainDB/20)
+		for u := range beta {
+			beta[u] = sm.scale / (2 * math.Pi * pc.m.GBWHz * gbw[u])
+		}
+	}
+	den := make([]float64, sm.degDen+1)
+	evalExpansion(sm.den, den, y, alpha, beta)
+	z := slices.Clone(sm.nomRoots)
+	ok = len(z) == len(den)-1 && polyRoots(den, z)
+	for i := range z {
+		z[i] *= complex(sm.scale, 0)
+	}
+	full = circuit.Rational{Num: []float64{1}, Den: den, ScaleRadPerSec: sm.scale}.Poles()
+	return z, full, ok
+}

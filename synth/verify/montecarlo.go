@@ -711,9 +711,12 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 	}
 }
 
-// stagePoles finds the trial's poles of stage k by polishing the nominal
-// ones, and its f0 and Q; if the iteration fails it asks the circuit
-// package.
+// stagePoles finds the trial's poles of stage k, and its f0 and Q, by
+// Newton steps on the perturbed denominator from the nominal poles
+// (polyRoots) instead of a full root solve. When those do not converge
+// in a few steps or two of them collide on one root (then the
+// Aberth-Ehrlich iteration is tried, and when it fails too), it takes the
+// circuit package's full solve, the companion matrix's eigenvalues.
 func (w *worker) stagePoles(k int, sm *stageModel, num, den []float64) {
 	z := w.roots[k]
 	copy(z, sm.nomRoots)
