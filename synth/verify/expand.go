@@ -263,7 +263,7 @@ func (sm *stageModel) expand() error {
 			fixed[row*n+u.mi] += 1
 		}
 	}
-	build := func(a []float64, mask uint32, numerator bool) {
+	build := func(a []float64, mask uint32) {
 		copy(a, fixed)
 		for i, s := range stamps {
 			if mask&(1<<i) == 0 {
@@ -286,11 +286,39 @@ func (sm *stageModel) expand() error {
 				a[row*n+amps[i].o]++
 			}
 		}
-		if numerator {
-			for r := 0; r < n; r++ {
-				a[r*n+out] = 0
+	}
+	// The determinants are those of M, the system without the input's
+	// voltage and the source's current (A's rows and columns other than
+	// In and src), m = n − 2 unknowns, with b the input's column of the
+	// other rows: the source's row and column each hold a single 1 (V(In)
+	// = 1, and the source current in In's row only), so that expanding
+	// along them gives det A = −det M and det A_out = det M_b, M_b being M
+	// with the output's column replaced by b (the same expansions, the
+	// output's column of A_out being the source's unit vector).
+	if out <= 0 {
+		// The output is the input or ground: nothing to expand.
+		return fmt.Errorf("%w: the output is node %q", errNoExpansion, st.Out)
+	}
+	m := n - 2
+	outR := out - 1 // the output's index in M
+	reduce := func(mr, cin, a []float64) {
+		ri := 0
+		for r := range n {
+			if r == 0 || r == src {
+				continue
 			}
-			a[src*n+out] = 1
+			row := a[r*n : r*n+n]
+			cin[ri] = row[0]
+			dst := mr[ri*m : ri*m+m]
+			ci := 0
+			for c, v := range row {
+				if c == 0 || c == src {
+					continue
+				}
+				dst[ci] = v
+				ci++
+			}
+			ri++
 		}
 	}
 	// A node that is neither the input (whose row holds the source
@@ -331,8 +359,10 @@ func (sm *stageModel) expand() error {
 		go func() {
 			defer wg.Done()
 			a := make([]float64, n*n)
-			x := make([]float64, n)
-			piv := make([]int, n)
+			mr := make([]float64, m*m)
+			cin := make([]float64, m)
+			x := make([]float64, m)
+			piv := make([]int, m)
 			integer := func(d float64) (float64, bool) {
 				r := math.Round(d)
 				return r, math.Abs(d-r) <= 1e-6*math.Max(1, math.Abs(r)) && math.Abs(r) <= 1<<40
@@ -344,27 +374,32 @@ func (sm *stageModel) expand() error {
 						continue vertices // detD, detN stay 0
 					}
 				}
-				build(a, uint32(mask), false)
-				dd, ok := integer(realDet(a, n, piv))
+				build(a, uint32(mask))
+				reduce(mr, cin, a)
+				dm := realDet(mr, m, piv)
+				dd, ok := integer(-dm)
 				if !ok {
 					bad.Store(true)
 					return
 				}
 				detD[mask] = dd
-				// det A_out = det A · x_out by Cramer's rule, from the same
-				// factors, when that is an integer to rounding; else (A
-				// singular, or too much rounding) its own LU.
+				// det A_out = det M_b = det M · x_out with M·x = b by
+				// Cramer's rule, from the same factors, when that is an
+				// integer to rounding; else (M singular, or too much
+				// rounding) M_b's own LU.
 				if dd != 0 {
-					clear(x)
-					x[src] = 1
-					realSolve(a, n, piv, x)
-					if dn, ok := integer(dd * x[out]); ok {
+					copy(x, cin)
+					realSolve(mr, m, piv, x)
+					if dn, ok := integer(dm * x[outR]); ok {
 						detN[mask] = dn
 						continue
 					}
 				}
-				build(a, uint32(mask), true)
-				dn, ok := integer(realDet(a, n, piv))
+				reduce(mr, cin, a)
+				for r := range m {
+					mr[r*m+outR] = cin[r]
+				}
+				dn, ok := integer(realDet(mr, m, piv))
 				if !ok {
 					bad.Store(true)
 					return

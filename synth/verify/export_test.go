@@ -1,6 +1,7 @@
 package verify
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -123,4 +124,49 @@ func (pc *PoleCheck) Poles(fac, gbw []float64) (polished, full []complex128, ok 
 	}
 	full = circuit.Rational{Num: []float64{1}, Den: den, ScaleRadPerSec: sm.scale}.Poles()
 	return z, full, ok
+}
+
+// ExpansionMatchesFull expands stage st under model m (as a run does,
+// always on the fast path when it has at most 16 variables) and compares
+// its coefficients with those of the whole nodal system's determinants
+// at every vertex (fullVertexExpansion, the computation before the
+// source's elimination): it returns the number of nonzero coefficients
+// compared and an error naming the first that differs. expanded is false
+// for a stage on the generic path.
+func ExpansionMatchesFull(st circuit.Stage, m circuit.Model) (terms int, expanded bool, err error) {
+	sm, err := newStageModel(st, m, 1, expandAlways)
+	if err != nil || sm.generic {
+		return 0, false, err
+	}
+	wantD, wantN, err := fullVertexExpansion(sm)
+	if err != nil {
+		return 0, true, err
+	}
+	nParts := len(sm.aug.Parts)
+	for _, e := range []struct {
+		name string
+		got  expansion
+		want []float64
+	}{{"den", sm.den, wantD}, {"num", sm.num, wantN}} {
+		got := make([]float64, len(e.want))
+		for _, t := range e.got {
+			var mask int
+			for _, v := range t.vars {
+				mask |= 1 << v
+			}
+			for _, u := range t.ops {
+				mask |= 1 << (nParts + int(u))
+			}
+			got[mask] = t.coef
+		}
+		for mask, w := range e.want {
+			if got[mask] != w {
+				return terms, true, fmt.Errorf("%s: coefficient of mask %#x: %v, the whole system's %v", e.name, mask, got[mask], w)
+			}
+			if w != 0 {
+				terms++
+			}
+		}
+	}
+	return terms, true, nil
 }
