@@ -263,30 +263,6 @@ func (sm *stageModel) expand() error {
 			fixed[row*n+u.mi] += 1
 		}
 	}
-	build := func(a []float64, mask uint32) {
-		copy(a, fixed)
-		for i, s := range stamps {
-			if mask&(1<<i) == 0 {
-				continue
-			}
-			if s.a >= 0 {
-				a[s.a*n+s.a]++
-			}
-			if s.b >= 0 {
-				a[s.b*n+s.b]++
-			}
-			if s.a >= 0 && s.b >= 0 {
-				a[s.a*n+s.b]--
-				a[s.b*n+s.a]--
-			}
-		}
-		for i := 0; i < sm.nOps; i++ {
-			if mask&(1<<(len(stamps)+i)) != 0 {
-				row := nodes + 1 + i
-				a[row*n+amps[i].o]++
-			}
-		}
-	}
 	// The determinants are those of M, the system without the input's
 	// voltage and the source's current (A's rows and columns other than
 	// In and src), m = n − 2 unknowns, with b the input's column of the
@@ -301,24 +277,72 @@ func (sm *stageModel) expand() error {
 	}
 	m := n - 2
 	outR := out - 1 // the output's index in M
-	reduce := func(mr, cin, a []float64) {
-		ri := 0
-		for r := range n {
-			if r == 0 || r == src {
+	// M and b are kept in one buffer, M row-major in its first m² entries
+	// and b after them; pos is where A's entry (r, c) goes in it, −1 for
+	// an entry of the rows and columns left out.
+	pos := func(r, c int) int {
+		if r == 0 || r == src || c == src {
+			return -1
+		}
+		rr := r - 1
+		if r > src {
+			rr--
+		}
+		if c == 0 {
+			return m*m + rr
+		}
+		cc := c - 1
+		if c > src {
+			cc--
+		}
+		return rr*m + cc
+	}
+	// fixedMB is M and b of the fixed entries; updates[i] what variable i
+	// adds when it is 1 (its stamp's ±1 at their places).
+	type update struct {
+		at    int32
+		delta float64
+	}
+	fixedMB := make([]float64, m*m+m)
+	for r := range n {
+		for c := range n {
+			if v := fixed[r*n+c]; v != 0 {
+				if at := pos(r, c); at >= 0 {
+					fixedMB[at] += v
+				}
+			}
+		}
+	}
+	updates := make([][]update, k)
+	add := func(i, r, c int, delta float64) {
+		if at := pos(r, c); at >= 0 {
+			updates[i] = append(updates[i], update{int32(at), delta})
+		}
+	}
+	for i, s := range stamps {
+		if s.a >= 0 {
+			add(i, s.a, s.a, 1)
+		}
+		if s.b >= 0 {
+			add(i, s.b, s.b, 1)
+		}
+		if s.a >= 0 && s.b >= 0 {
+			add(i, s.a, s.b, -1)
+			add(i, s.b, s.a, -1)
+		}
+	}
+	for i := 0; i < sm.nOps; i++ {
+		add(len(stamps)+i, nodes+1+i, amps[i].o, 1)
+	}
+	build := func(mb []float64, mask uint32) {
+		copy(mb, fixedMB)
+		for i, ups := range updates {
+			if mask&(1<<i) == 0 {
 				continue
 			}
-			row := a[r*n : r*n+n]
-			cin[ri] = row[0]
-			dst := mr[ri*m : ri*m+m]
-			ci := 0
-			for c, v := range row {
-				if c == 0 || c == src {
-					continue
-				}
-				dst[ci] = v
-				ci++
+			for _, u := range ups {
+				mb[u.at] += u.delta
 			}
-			ri++
 		}
 	}
 	// A node that is neither the input (whose row holds the source
@@ -358,9 +382,8 @@ func (sm *stageModel) expand() error {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			a := make([]float64, n*n)
-			mr := make([]float64, m*m)
-			cin := make([]float64, m)
+			mb := make([]float64, m*m+m)
+			mr, cin := mb[:m*m:m*m], mb[m*m:]
 			x := make([]float64, m)
 			piv := make([]int, m)
 			integer := func(d float64) (float64, bool) {
@@ -374,8 +397,7 @@ func (sm *stageModel) expand() error {
 						continue vertices // detD, detN stay 0
 					}
 				}
-				build(a, uint32(mask))
-				reduce(mr, cin, a)
+				build(mb, uint32(mask))
 				dm := realDet(mr, m, piv)
 				dd, ok := integer(-dm)
 				if !ok {
@@ -395,7 +417,7 @@ func (sm *stageModel) expand() error {
 						continue
 					}
 				}
-				reduce(mr, cin, a)
+				build(mb, uint32(mask))
 				for r := range m {
 					mr[r*m+outR] = cin[r]
 				}
