@@ -336,6 +336,11 @@ type chainModel struct {
 	refScale float64
 	xr, ur   []float64
 	ratio    []float64
+	// fused7: not fused, but every stage is expanded with polynomials of
+	// degree ≤ 7 (a notch stage of four single-pole op-amps: 4 and 6);
+	// the response is computed in one pass over the grid as well
+	// (fused7Response).
+	fused7 bool
 }
 
 // newChainModel validates the run's inputs and prepares the stages.
@@ -433,6 +438,12 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 	for _, sm := range cm.stages {
 		cm.ratio = append(cm.ratio, cm.refScale/sm.scale)
 	}
+	if !cm.fused {
+		cm.fused7 = true
+		for _, sm := range cm.stages {
+			cm.fused7 = cm.fused7 && !sm.generic && sm.degNum <= 7 && sm.degDen <= 7
+		}
+	}
 	return cm, nil
 }
 
@@ -455,6 +466,7 @@ type worker struct {
 	parts    []circuit.Part // generic path
 	fac, gbw [][]float64    // the board's part and GBW factors
 	coef     [][8]float64   // fused path: N0..N3, D0..D3 of each stage in x
+	coef7    [][16]float64  // fused7 path: each stage's coefficients in x, by parity (fused7Response)
 	nums     [][]float64    // other paths: each stage's N and D in s/scale
 	dens     [][]float64
 	tails    tails
@@ -493,6 +505,9 @@ func newWorker(cm *chainModel, trials int) *worker {
 		w.gbw = append(w.gbw, make([]float64, sm.nOps))
 	}
 	w.coef = make([][8]float64, len(cm.stages))
+	if cm.fused7 {
+		w.coef7 = make([][16]float64, len(cm.stages))
+	}
 	w.nums = make([][]float64, len(cm.stages))
 	w.dens = make([][]float64, len(cm.stages))
 	w.tails = newTails(cm.nFreq, trials)
@@ -572,7 +587,7 @@ func (w *worker) draw(i int) {
 func (w *worker) analyse() error {
 	cm := w.cm
 	w.stable = true
-	if !cm.fused {
+	if !cm.fused && !cm.fused7 {
 		for f := range w.mag2 {
 			w.mag2[f] = 1
 			w.lexp[f] = 0
@@ -617,6 +632,25 @@ func (w *worker) analyse() error {
 		sm.numC.eval(num, pa, pb, alpha, beta)
 		sm.denC.eval(den, pa, pb, alpha, beta)
 		w.stagePoles(k, sm, num, den)
+		if cm.fused7 {
+			w.nums[k] = append(w.nums[k][:0], num...)
+			w.dens[k] = append(w.dens[k][:0], den...)
+			// As below: c_j·p^j = (c_j·ratio^j)·x^j, split by parity.
+			c := &w.coef7[k]
+			*c = [16]float64{}
+			rho, rj := cm.ratio[k], 1.0
+			for j := range max(len(num), len(den)) {
+				at := j/2 + 4*(j%2)
+				if j < len(num) {
+					c[at] = num[j] * rj
+				}
+				if j < len(den) {
+					c[8+at] = den[j] * rj
+				}
+				rj *= rho
+			}
+			continue
+		}
 		if !cm.fused {
 			w.nums[k] = append(w.nums[k][:0], num...)
 			w.dens[k] = append(w.dens[k][:0], den...)
@@ -639,6 +673,10 @@ func (w *worker) analyse() error {
 	}
 	if cm.fused {
 		fusedResponse(w.db, cm.xr, cm.ur, w.coef)
+		return nil
+	}
+	if cm.fused7 {
+		fused7Response(w.db, cm.xr, cm.ur, w.coef7)
 		return nil
 	}
 	copy(w.db, w.mag2)
@@ -668,9 +706,9 @@ func toDB(v, lexp float64) float64 {
 // grid (u = −x²) into db, for stages of degree ≤ 3 whose coefficients in
 // x are coef[k] (N0..N3, D0..D3): one pass, the squared magnitudes of all
 // numerators and of all denominators multiplied, one division and one
-// logarithm per frequency. A product that leaves [1e-280, 1e280] (a deep
-// stopband of a long chain, or an exact zero) is redone stage by stage in
-// logarithms.
+// logarithm per frequency. A product that leaves [1e-280, 1e280], or a
+// quotient below 1e-300 (a deep stopband of a long chain, or an exact
+// zero), is redone stage by stage in logarithms.
 func fusedResponse(db, x, u []float64, coef [][8]float64) {
 	x = x[:len(db)]
 	u = u[:len(db)]
@@ -686,8 +724,10 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 			n2 *= a*a + b*b
 			d2 *= e*e + g*g
 		}
-		if n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 {
-			db[f] = n2 / d2 // a squared magnitude, made dB below
+		// The quotient too must be a normal number: n2 and d2 in range
+		// can still divide to below 1e-308 (a chain's deep stopband).
+		if q := n2 / d2; n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 && q > 1e-300 {
+			db[f] = q // a squared magnitude, made dB below
 		} else {
 			db[f] = -1 // out of range: redone below
 		}
@@ -709,6 +749,58 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 		}
 		db[f] = toDB(1, 2*l/math.Ln10)
 	}
+}
+
+// fused7Response is fusedResponse for stages of degree ≤ 7, coef[k]
+// holding stage k's coefficients in x by parity: the numerator's even
+// powers x⁰, x², x⁴, x⁶ in 0..3 and odd ones in 4..7, the denominator's
+// in 8..11 and 12..15. Each polynomial costs two real Horner evaluations
+// in u = −x² per frequency, unrolled; the squared magnitudes of all
+// numerators and of all denominators are multiplied, and one division
+// and one logarithm per frequency follow. A product that leaves
+// [1e-280, 1e280], or a quotient below 1e-300, is redone stage by stage
+// in logarithms.
+func fused7Response(db, x, u []float64, coef [][16]float64) {
+	x = x[:len(db)]
+	u = u[:len(db)]
+	for f, uf := range u {
+		xf := x[f]
+		n2, d2 := 1.0, 1.0
+		for k := range coef {
+			a, b, e, g := eval7(&coef[k], uf, xf)
+			n2 *= a*a + b*b
+			d2 *= e*e + g*g
+		}
+		// The quotient too must be a normal number: n2 and d2 in range
+		// can still divide to below 1e-308 (a chain's deep stopband).
+		if q := n2 / d2; n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 && q > 1e-300 {
+			db[f] = q
+		} else {
+			db[f] = -1 // out of range: redone below
+		}
+	}
+	dbInPlace(db)
+	for f, v := range db {
+		if v != -1 {
+			continue
+		}
+		var l float64
+		for k := range coef {
+			a, b, e, g := eval7(&coef[k], u[f], x[f])
+			l += math.Log(math.Hypot(a, b)) - math.Log(math.Hypot(e, g))
+		}
+		db[f] = toDB(1, 2*l/math.Ln10)
+	}
+}
+
+// eval7 returns N(jx) = a + jb and D(jx) = e + jg of the stage whose
+// coefficients c are laid out as for fused7Response, with u = −x².
+func eval7(c *[16]float64, u, x float64) (a, b, e, g float64) {
+	a = c[0] + u*(c[1]+u*(c[2]+u*c[3]))
+	b = (c[4] + u*(c[5]+u*(c[6]+u*c[7]))) * x
+	e = c[8] + u*(c[9]+u*(c[10]+u*c[11]))
+	g = (c[12] + u*(c[13]+u*(c[14]+u*c[15]))) * x
+	return a, b, e, g
 }
 
 // stagePoles finds the trial's poles of stage k, and its f0 and Q, by
