@@ -541,6 +541,22 @@ func (w *worker) responseDB(fHz float64) float64 {
 		}
 		return dbPerLn * (l + math.Log(n2/d2))
 	}
+	if cm.fused7 {
+		x := 2 * math.Pi * fHz / cm.refScale
+		u := -x * x
+		// As fused7Response, with fusedResponse's guard above.
+		n2, d2 := 1.0, 1.0
+		for k := range w.coef7 {
+			a, b, e, g := eval7(&w.coef7[k], u, x)
+			n2 *= a*a + b*b
+			d2 *= e*e + g*g
+			if !(n2 > 1e-200 && n2 < 1e200 && d2 > 1e-200 && d2 < 1e200) {
+				l += math.Log(n2) - math.Log(d2)
+				n2, d2 = 1, 1
+			}
+		}
+		return dbPerLn * (l + math.Log(n2/d2))
+	}
 	for k, sm := range cm.stages {
 		p := complex(0, 2*math.Pi*fHz/sm.scale)
 		n, d := horner(w.nums[k], p), horner(w.dens[k], p)
