@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strconv"
 	"sync"
 	"sync/atomic"
 
@@ -13,10 +14,10 @@ import (
 
 // maxExpandVars is the largest number of variables (parts plus single-pole
 // op-amps) of a stage that is expanded into its multi-affine form; the
-// expansion costs up to 2^k pairs of determinants once per run (about
-// 23 ms of one core at k = 16, a state-variable notch stage with four
-// single-pole op-amps). Larger stages take the generic path (see
-// stageModel).
+// expansion costs up to 2^k pairs of determinants once per run and
+// structure of stage (about 20 ms of one core at k = 16, a state-variable
+// notch stage with four single-pole op-amps). Larger stages take the
+// generic path (see stageModel).
 const maxExpandVars = 16
 
 // alwaysExpandVars: a stage of at most this many variables is always
@@ -94,6 +95,7 @@ type stageModel struct {
 	generic      bool
 	nomRoots     []complex128 // nominal poles in units of scale
 	nomF0, nomQ  float64
+	cache        expansionCache // see newStageModel; nil for none
 	nomOK        bool
 	y0           []float64 // nominal normalised admittances (capacitors per unit p)
 	isCap        []bool
@@ -142,8 +144,12 @@ const (
 
 // newStageModel prepares a valid stage with a valid model for a run of
 // the given number of trials.
-func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode) (*stageModel, error) {
-	sm := &stageModel{stage: st, aug: st.WithParasitics(m)}
+//
+// cache, when not nil, holds the expansions already computed in the run by
+// the structure of their stage (see expansionCache); the stage's is looked
+// up there before it is computed, and stored there after.
+func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode, cache expansionCache) (*stageModel, error) {
+	sm := &stageModel{stage: st, aug: st.WithParasitics(m), cache: cache}
 	sm.scale, sm.rn = stageScale(sm.aug, m)
 	if !m.Ideal {
 		sm.nOps = len(st.OpAmps)
@@ -212,9 +218,53 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 	return sm, nil
 }
 
+// expansionCache maps the structure of a stage (structureKey) to its
+// expansions. The expansion's integer coefficients depend on the stage's
+// structure alone, not on its part values: which nodes each part joins
+// and whether it is a capacitor, how each op-amp is wired, which node is
+// the output and whether the op-amps are single-pole. A chain of stages
+// of one topology (the sections of a high-order filter) therefore
+// expands once; the other stages take the same expansion with their own
+// admittances.
+type expansionCache map[string]*cachedExpansion
+
+// cachedExpansion is what expand leaves in a stageModel, or its error.
+type cachedExpansion struct {
+	num, den       expansion
+	numC, denC     compiled
+	degNum, degDen int
+	err            error
+}
+
+// structureKey encodes the structure of a stage as expand numbers it:
+// nodes by order of first appearance (In first, ground −1).
+func structureKey(kinds []circuit.PartKind, stamps [][2]int, amps [][3]int, out, nOps int) string {
+	b := make([]byte, 0, 8*len(stamps)+8*len(amps)+16)
+	b = strconv.AppendInt(b, int64(out), 10)
+	b = append(b, '/')
+	b = strconv.AppendInt(b, int64(nOps), 10)
+	for i, s := range stamps {
+		b = append(b, ';')
+		b = append(b, kinds[i]...)
+		b = append(b, ',')
+		b = strconv.AppendInt(b, int64(s[0]), 10)
+		b = append(b, ',')
+		b = strconv.AppendInt(b, int64(s[1]), 10)
+	}
+	for _, a := range amps {
+		b = append(b, '|')
+		for _, v := range a {
+			b = strconv.AppendInt(b, int64(v), 10)
+			b = append(b, ',')
+		}
+	}
+	return string(b)
+}
+
 // expand computes the multi-affine expansions of the output cofactor and
-// the determinant, or returns errNoExpansion.
-func (sm *stageModel) expand() error {
+// the determinant, or returns errNoExpansion; with a cache, a stage of a
+// structure already expanded takes that expansion.
+func (sm *stageModel) expand() (err error) {
 	st := sm.aug
 	k := len(st.Parts) + sm.nOps
 	if k > maxExpandVars {
@@ -246,6 +296,27 @@ func (sm *stageModel) expand() error {
 		amps[i] = amp{idx(u.Plus), idx(u.Minus), idx(u.Out)}
 	}
 	out := idx(st.Out)
+	if sm.cache != nil {
+		kinds := make([]circuit.PartKind, len(st.Parts))
+		ks := make([][2]int, len(stamps))
+		for i, p := range st.Parts {
+			kinds[i] = p.Kind
+			ks[i] = [2]int{stamps[i].a, stamps[i].b}
+		}
+		ka := make([][3]int, len(amps))
+		for i, u := range amps {
+			ka[i] = [3]int{u.pl, u.mi, u.o}
+		}
+		key := structureKey(kinds, ks, ka, out, sm.nOps)
+		if c, ok := sm.cache[key]; ok {
+			sm.num, sm.den, sm.numC, sm.denC = c.num, c.den, c.numC, c.denC
+			sm.degNum, sm.degDen = c.degNum, c.degDen
+			return c.err
+		}
+		defer func() {
+			sm.cache[key] = &cachedExpansion{sm.num, sm.den, sm.numC, sm.denC, sm.degNum, sm.degDen, err}
+		}()
+	}
 	nodes := len(names)
 	src := nodes
 	n := nodes + 1 + len(st.OpAmps)

@@ -225,3 +225,30 @@ func TestExpansionMatchesFullSystem(t *testing.T) {
 		})
 	}
 }
+
+// TestExpansionCache checks that stages of one structure share one
+// expansion within a run, and that the shared expansion is term for term
+// the one each stage gives alone: on every example design and on the
+// order-20 bandstop of state-variable notch stages, whose twenty stages
+// have one structure (nineteen of them take the first's expansion).
+func TestExpansionCache(t *testing.T) {
+	t.Parallel()
+	chains := exampleChains(t)
+	spec, err := synth.ParseSpecBytes([]byte(`{"response": "bandstop", "approximation": "butterworth", "order": 20,
+		"passband_hz": [900, 1100], "topology": "state-variable"}`))
+	require.NoError(t, err)
+	d, err := synth.SynthesizeTo(context.Background(), spec, synth.Circuits)
+	require.NoError(t, err)
+	chains["notch20"], err = d.Chain()
+	require.NoError(t, err)
+	for name, ch := range chains {
+		t.Run(name, func(t *testing.T) {
+			t.Parallel()
+			hits, err := verify.CachedExpansionsMatch(ch)
+			require.NoError(t, err)
+			if name == "notch20" {
+				require.Equal(t, 19, hits)
+			}
+		})
+	}
+}

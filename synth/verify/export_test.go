@@ -41,7 +41,7 @@ var TailSizes = tailSizes
 // compiled layout (compiled.eval, what the trials use). expanded is false
 // when the stage takes the generic path (then nothing is evaluated).
 func ExpansionBothWays(st circuit.Stage, m circuit.Model, fac, gbw []float64) (refNum, refDen, num, den []float64, expanded bool, err error) {
-	sm, err := newStageModel(st, m, 1, expandAlways)
+	sm, err := newStageModel(st, m, 1, expandAlways, nil)
 	if err != nil || sm.generic {
 		return nil, nil, nil, nil, false, err
 	}
@@ -84,7 +84,7 @@ type PoleCheck struct {
 // NewPoleCheck prepares stage st under model m on the fast path; it
 // returns nil when the stage takes the generic path.
 func NewPoleCheck(st circuit.Stage, m circuit.Model) (*PoleCheck, error) {
-	sm, err := newStageModel(st, m, 1, expandAlways)
+	sm, err := newStageModel(st, m, 1, expandAlways, nil)
 	if err != nil || sm.generic {
 		return nil, err
 	}
@@ -134,7 +134,7 @@ func (pc *PoleCheck) Poles(fac, gbw []float64) (polished, full []complex128, ok 
 // compared and an error naming the first that differs. expanded is false
 // for a stage on the generic path.
 func ExpansionMatchesFull(st circuit.Stage, m circuit.Model) (terms int, expanded bool, err error) {
-	sm, err := newStageModel(st, m, 1, expandAlways)
+	sm, err := newStageModel(st, m, 1, expandAlways, nil)
 	if err != nil || sm.generic {
 		return 0, false, err
 	}
@@ -169,4 +169,47 @@ func ExpansionMatchesFull(st circuit.Stage, m circuit.Model) (terms int, expande
 		}
 	}
 	return terms, true, nil
+}
+
+// CachedExpansionsMatch builds the stage models of chain ch as a run
+// does, the expansions shared by structure through one cache, and each
+// stage again alone without the cache, and compares their expansions
+// term by term (the same integers, in the same order). It returns the
+// number of stages that took a cached expansion and an error naming the
+// first difference.
+func CachedExpansionsMatch(ch circuit.Chain) (hits int, err error) {
+	cache := expansionCache{}
+	expanded := 0
+	for k, st := range ch.Stages {
+		shared, err := newStageModel(st, ch.Model, MaxTrials, expandAuto, cache)
+		if err != nil {
+			return 0, err
+		}
+		alone, err := newStageModel(st, ch.Model, MaxTrials, expandAuto, nil)
+		if err != nil {
+			return 0, err
+		}
+		if shared.generic != alone.generic {
+			return 0, fmt.Errorf("stage %d: generic %v with the cache, %v alone", k+1, shared.generic, alone.generic)
+		}
+		if shared.generic {
+			continue
+		}
+		expanded++
+		for _, e := range []struct {
+			name      string
+			got, want expansion
+		}{{"num", shared.num, alone.num}, {"den", shared.den, alone.den}} {
+			if len(e.got) != len(e.want) {
+				return 0, fmt.Errorf("stage %d %s: %d terms with the cache, %d alone", k+1, e.name, len(e.got), len(e.want))
+			}
+			for i, t := range e.want {
+				g := e.got[i]
+				if g.coef != t.coef || g.caps != t.caps || !slices.Equal(g.vars, t.vars) || !slices.Equal(g.ops, t.ops) {
+					return 0, fmt.Errorf("stage %d %s term %d: %+v with the cache, %+v alone", k+1, e.name, i, g, t)
+				}
+			}
+		}
+	}
+	return expanded - len(cache), nil
 }

@@ -161,7 +161,8 @@ func GridOnly(meets func(db []float64) bool) Judge {
 //
 // Each stage is analysed through the multi-affine expansion of its nodal
 // determinants in its part admittances (exact integer coefficients,
-// computed once per run; see the package documentation), which makes a
+// computed once per run for each structure of stage, so that the stages
+// of one topology share one; see the package documentation), which makes a
 // trial's transfer function a few dozen flops for a Sallen-Key stage; the
 // response on the grid is then two real Horner evaluations per
 // polynomial, stage and frequency. A stage of more than 16 variables
@@ -396,8 +397,9 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 	for _, e := range opt.Edges {
 		cm.grid = append(cm.grid, e.FreqHz)
 	}
+	cache := expansionCache{}
 	for k, st := range ch.Stages {
-		sm, err := newStageModel(st, ch.Model, opt.Trials, mode)
+		sm, err := newStageModel(st, ch.Model, opt.Trials, mode, cache)
 		if err != nil {
 			return nil, fmt.Errorf("stage %d (%s): %w", k+1, st.Topology, err)
 		}
