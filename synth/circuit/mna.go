@@ -103,18 +103,22 @@ func compile(st Stage, m Model, t *nodeTable, scale float64) *system {
 		sense = n
 		n++
 	}
+	// One backing array for the real matrices and one for the complex
+	// scratch: fewer allocations per compile.
+	real2 := make([]float64, 2*n*n)
+	cplx := make([]complex128, n*n+2*n)
 	sys := &system{
 		n:      n,
-		g:      make([]float64, n*n),
-		c:      make([]float64, n*n),
+		g:      real2[: n*n : n*n],
+		c:      real2[n*n:],
 		srcRow: nodes,
 		outCol: idx(st.Out),
 		sense:  sense,
 		scale:  scale,
-		a:      make([]complex128, n*n),
+		a:      cplx[: n*n : n*n],
 		piv:    make([]int, n),
-		x:      make([]complex128, n),
-		r:      make([]complex128, n),
+		x:      cplx[n*n : n*n+n : n*n+n],
+		r:      cplx[n*n+n:],
 	}
 	for _, p := range st.Parts {
 		sys.stampPart(p, t, rn, scale)

@@ -410,8 +410,8 @@ func (sys *system) interpolateShared(q, strict int, lo []int, sample sampler) []
 	type shared struct {
 		poly, j, lo, hi, best int // keys
 	}
-	var todo []redo
-	var flex []shared
+	todo := make([]redo, 0, 8)
+	flex := make([]shared, 0, 8)
 	var lt logTerms
 	for i, c := range coef {
 		noise := base.noise[i]
@@ -516,6 +516,9 @@ func abs(k int) int {
 func (lt *logTerms) keyRange(j, best int, floor float64) (lo, hi int) {
 	lim := 2 * windowDecades
 	if len(lt.keyTops) == 0 {
+		if cap(lt.keyTops) < 2*lim+1 {
+			lt.keyTops = make([]float64, 0, 2*lim+1)
+		}
 		for k := -lim; k <= lim; k++ {
 			x := float64(k) / 2 * math.Ln10
 			top := math.Inf(-1)

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"testing"
 
+	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/verify"
 	"github.com/polewright/polewright/synth/verify/internal/mcbench"
@@ -54,5 +55,40 @@ func BenchmarkSensitivities(b *testing.B) {
 		if _, err := verify.Sensitivities(st, mcbench.SinglePole); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// BenchmarkMonteCarloNotch20 times the costliest chain the server admits
+// (the serving issue's worst case): an order-20 Butterworth bandstop of
+// state-variable notch stages (twenty stages of twelve parts and four
+// single-pole op-amps, each expanded at 2^16 vertices), Gaussian parts, on
+// one worker and the 200-point grid. The 200-trial run is mostly the
+// expansion; the difference of the two over 1,800 is the cost of a trial.
+func BenchmarkMonteCarloNotch20(b *testing.B) {
+	spec, err := synth.ParseSpecBytes([]byte(`{"response": "bandstop", "approximation": "butterworth", "order": 20,
+		"passband_hz": [900, 1100], "topology": "state-variable", "tolerance": {"distribution": "gaussian"}}`))
+	if err != nil {
+		b.Fatal(err)
+	}
+	d, err := synth.SynthesizeTo(context.Background(), spec, synth.Circuits)
+	if err != nil {
+		b.Fatal(err)
+	}
+	ch, err := d.Chain()
+	if err != nil {
+		b.Fatal(err)
+	}
+	freq := mcbench.FreqHz()
+	for _, trials := range []int{200, 2000} {
+		opt := verify.MonteCarloOptions{Trials: trials, Seed: 1, FreqHz: freq, Workers: 1}
+		tol := verify.Tolerance{Distribution: verify.Gaussian}
+		b.Run(fmt.Sprintf("%dx%d/1-worker", trials, len(freq)), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := verify.MonteCarlo(context.Background(), ch, tol, opt, verify.GridOnly(func([]float64) bool { return true })); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }

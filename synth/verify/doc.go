@@ -29,23 +29,32 @@
 // the determinant and the output cofactor (Cramer's rule) are
 // multi-affine polynomials in the k part admittances and op-amp factors,
 // Σ_S d_S·Π_{x∈S} y_x, and since every stamp is ±1 the d_S are integers.
-// They are computed once per run, exactly: the determinants at the 2^k
-// vertices y ∈ {0,1}^k (real LU, checked to be integers; vertices where a
-// node touches no part are structurally singular and skipped) and a
-// Möbius transform. A Sallen-Key stage with a single-pole op-amp has
+// They depend on the stage's structure alone (which nodes each part
+// joins, the op-amps' wiring), not on its values, and are computed once
+// per run for each structure, exactly: the determinants at the 2^k
+// vertices y ∈ {0,1}^k of the nodal system less the source's row and
+// column (real LU, checked to be integers; vertices where a node touches
+// no part are structurally singular and skipped) and a Möbius transform.
+// The sections of a high-order filter, stages of one topology, share
+// one expansion. A Sallen-Key stage with a single-pole op-amp has
 // k = 5 and a dozen non-zero monomials, a state-variable notch stage with
 // four op-amps k = 16 and about 350. A trial's transfer function is then
-// one product per monomial, its poles are the nominal ones polished
-// (Newton's method on the real ones with deflation and the quadratic
-// formula for the section's pair, or the Aberth-Ehrlich iteration, checked
-// against Vieta's formulas) and its f0 and Q those of
-// [circuit.Rational.DominantPair]. When every stage is of degree ≤ 3 the
-// response on the grid is one fused pass: per frequency, the squared
-// magnitudes of all numerators and of all denominators (two real Horner
-// evaluations each, p = jx splitting even and odd powers), one division
-// and an inlined logarithm. The tests check every trial path against the
-// circuit package's refined nodal solve of the perturbed stage to 1e-8
-// dB, and f0 and Q against its rational form to 1e-9.
+// two products per monomial (from tables of the products over every
+// subset of each half of the parts), the monomials grouped by their
+// op-amp factors, which multiply each group once; its poles are the
+// nominal ones polished (each real factor of the denominator, linear or
+// quadratic, the latter for complex pairs and for close real pairs, by
+// Newton's and Bairstow's method on the deflated and then the whole
+// polynomial, the section's pair from the quadratic left; or else the
+// Aberth-Ehrlich iteration; checked against Vieta's formulas, with the
+// companion matrix's eigenvalues as the last resort) and its f0 and Q
+// those of [circuit.Rational.DominantPair]. When every stage is of degree
+// ≤ 7 the response on the grid is one fused pass: per frequency, the
+// squared magnitudes of all numerators and of all denominators (two real
+// Horner evaluations each, p = jx splitting even and odd powers), one
+// division and an inlined logarithm. The tests check every trial path
+// against the circuit package's refined nodal solve of the perturbed
+// stage to 1e-8 dB, and f0 and Q against its rational form to 1e-9.
 //
 // A stage of more than 16 variables, or of 13 to 16 in a run too short to
 // repay the expansion, takes the generic path: the circuit package's

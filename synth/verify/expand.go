@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strconv"
 	"sync"
 	"sync/atomic"
 
@@ -13,10 +14,10 @@ import (
 
 // maxExpandVars is the largest number of variables (parts plus single-pole
 // op-amps) of a stage that is expanded into its multi-affine form; the
-// expansion costs up to 2^k pairs of determinants once per run (about
-// 23 ms of one core at k = 16, a state-variable notch stage with four
-// single-pole op-amps). Larger stages take the generic path (see
-// stageModel).
+// expansion costs up to 2^k pairs of determinants once per run and
+// structure of stage (about 20 ms of one core at k = 16, a state-variable
+// notch stage with four single-pole op-amps). Larger stages take the
+// generic path (see stageModel).
 const maxExpandVars = 16
 
 // alwaysExpandVars: a stage of at most this many variables is always
@@ -88,11 +89,13 @@ type stageModel struct {
 	nOps         int           // single-pole op-amps (0 for the ideal model)
 	sectionOrder int
 	num, den     expansion
+	numC, denC   compiled // num and den laid out for the trials
 	degNum       int
 	degDen       int
 	generic      bool
 	nomRoots     []complex128 // nominal poles in units of scale
 	nomF0, nomQ  float64
+	cache        expansionCache // see newStageModel; nil for none
 	nomOK        bool
 	y0           []float64 // nominal normalised admittances (capacitors per unit p)
 	isCap        []bool
@@ -141,8 +144,12 @@ const (
 
 // newStageModel prepares a valid stage with a valid model for a run of
 // the given number of trials.
-func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode) (*stageModel, error) {
-	sm := &stageModel{stage: st, aug: st.WithParasitics(m)}
+//
+// cache, when not nil, holds the expansions already computed in the run by
+// the structure of their stage (see expansionCache); the stage's is looked
+// up there before it is computed, and stored there after.
+func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMode, cache expansionCache) (*stageModel, error) {
+	sm := &stageModel{stage: st, aug: st.WithParasitics(m), cache: cache}
 	sm.scale, sm.rn = stageScale(sm.aug, m)
 	if !m.Ideal {
 		sm.nOps = len(st.OpAmps)
@@ -211,9 +218,53 @@ func newStageModel(st circuit.Stage, m circuit.Model, trials int, mode expandMod
 	return sm, nil
 }
 
+// expansionCache maps the structure of a stage (structureKey) to its
+// expansions. The expansion's integer coefficients depend on the stage's
+// structure alone, not on its part values: which nodes each part joins
+// and whether it is a capacitor, how each op-amp is wired, which node is
+// the output and whether the op-amps are single-pole. A chain of stages
+// of one topology (the sections of a high-order filter) therefore
+// expands once; the other stages take the same expansion with their own
+// admittances.
+type expansionCache map[string]*cachedExpansion
+
+// cachedExpansion is what expand leaves in a stageModel, or its error.
+type cachedExpansion struct {
+	num, den       expansion
+	numC, denC     compiled
+	degNum, degDen int
+	err            error
+}
+
+// structureKey encodes the structure of a stage as expand numbers it:
+// nodes by order of first appearance (In first, ground −1).
+func structureKey(kinds []circuit.PartKind, stamps [][2]int, amps [][3]int, out, nOps int) string {
+	b := make([]byte, 0, 8*len(stamps)+8*len(amps)+16)
+	b = strconv.AppendInt(b, int64(out), 10)
+	b = append(b, '/')
+	b = strconv.AppendInt(b, int64(nOps), 10)
+	for i, s := range stamps {
+		b = append(b, ';')
+		b = append(b, kinds[i]...)
+		b = append(b, ',')
+		b = strconv.AppendInt(b, int64(s[0]), 10)
+		b = append(b, ',')
+		b = strconv.AppendInt(b, int64(s[1]), 10)
+	}
+	for _, a := range amps {
+		b = append(b, '|')
+		for _, v := range a {
+			b = strconv.AppendInt(b, int64(v), 10)
+			b = append(b, ',')
+		}
+	}
+	return string(b)
+}
+
 // expand computes the multi-affine expansions of the output cofactor and
-// the determinant, or returns errNoExpansion.
-func (sm *stageModel) expand() error {
+// the determinant, or returns errNoExpansion; with a cache, a stage of a
+// structure already expanded takes that expansion.
+func (sm *stageModel) expand() (err error) {
 	st := sm.aug
 	k := len(st.Parts) + sm.nOps
 	if k > maxExpandVars {
@@ -245,6 +296,27 @@ func (sm *stageModel) expand() error {
 		amps[i] = amp{idx(u.Plus), idx(u.Minus), idx(u.Out)}
 	}
 	out := idx(st.Out)
+	if sm.cache != nil {
+		kinds := make([]circuit.PartKind, len(st.Parts))
+		ks := make([][2]int, len(stamps))
+		for i, p := range st.Parts {
+			kinds[i] = p.Kind
+			ks[i] = [2]int{stamps[i].a, stamps[i].b}
+		}
+		ka := make([][3]int, len(amps))
+		for i, u := range amps {
+			ka[i] = [3]int{u.pl, u.mi, u.o}
+		}
+		key := structureKey(kinds, ks, ka, out, sm.nOps)
+		if c, ok := sm.cache[key]; ok {
+			sm.num, sm.den, sm.numC, sm.denC = c.num, c.den, c.numC, c.denC
+			sm.degNum, sm.degDen = c.degNum, c.degDen
+			return c.err
+		}
+		defer func() {
+			sm.cache[key] = &cachedExpansion{sm.num, sm.den, sm.numC, sm.denC, sm.degNum, sm.degDen, err}
+		}()
+	}
 	nodes := len(names)
 	src := nodes
 	n := nodes + 1 + len(st.OpAmps)
@@ -262,34 +334,86 @@ func (sm *stageModel) expand() error {
 			fixed[row*n+u.mi] += 1
 		}
 	}
-	build := func(a []float64, mask uint32, numerator bool) {
-		copy(a, fixed)
-		for i, s := range stamps {
+	// The determinants are those of M, the system without the input's
+	// voltage and the source's current (A's rows and columns other than
+	// In and src), m = n − 2 unknowns, with b the input's column of the
+	// other rows: the source's row and column each hold a single 1 (V(In)
+	// = 1, and the source current in In's row only), so that expanding
+	// along them gives det A = −det M and det A_out = det M_b, M_b being M
+	// with the output's column replaced by b (the same expansions, the
+	// output's column of A_out being the source's unit vector).
+	if out <= 0 {
+		// The output is the input or ground: nothing to expand.
+		return fmt.Errorf("%w: the output is node %q", errNoExpansion, st.Out)
+	}
+	m := n - 2
+	outR := out - 1 // the output's index in M
+	// M and b are kept in one buffer, M row-major in its first m² entries
+	// and b after them; pos is where A's entry (r, c) goes in it, −1 for
+	// an entry of the rows and columns left out.
+	pos := func(r, c int) int {
+		if r == 0 || r == src || c == src {
+			return -1
+		}
+		rr := r - 1
+		if r > src {
+			rr--
+		}
+		if c == 0 {
+			return m*m + rr
+		}
+		cc := c - 1
+		if c > src {
+			cc--
+		}
+		return rr*m + cc
+	}
+	// fixedMB is M and b of the fixed entries; updates[i] what variable i
+	// adds when it is 1 (its stamp's ±1 at their places).
+	type update struct {
+		at    int32
+		delta float64
+	}
+	fixedMB := make([]float64, m*m+m)
+	for r := range n {
+		for c := range n {
+			if v := fixed[r*n+c]; v != 0 {
+				if at := pos(r, c); at >= 0 {
+					fixedMB[at] += v
+				}
+			}
+		}
+	}
+	updates := make([][]update, k)
+	add := func(i, r, c int, delta float64) {
+		if at := pos(r, c); at >= 0 {
+			updates[i] = append(updates[i], update{int32(at), delta})
+		}
+	}
+	for i, s := range stamps {
+		if s.a >= 0 {
+			add(i, s.a, s.a, 1)
+		}
+		if s.b >= 0 {
+			add(i, s.b, s.b, 1)
+		}
+		if s.a >= 0 && s.b >= 0 {
+			add(i, s.a, s.b, -1)
+			add(i, s.b, s.a, -1)
+		}
+	}
+	for i := 0; i < sm.nOps; i++ {
+		add(len(stamps)+i, nodes+1+i, amps[i].o, 1)
+	}
+	build := func(mb []float64, mask uint32) {
+		copy(mb, fixedMB)
+		for i, ups := range updates {
 			if mask&(1<<i) == 0 {
 				continue
 			}
-			if s.a >= 0 {
-				a[s.a*n+s.a]++
+			for _, u := range ups {
+				mb[u.at] += u.delta
 			}
-			if s.b >= 0 {
-				a[s.b*n+s.b]++
-			}
-			if s.a >= 0 && s.b >= 0 {
-				a[s.a*n+s.b]--
-				a[s.b*n+s.a]--
-			}
-		}
-		for i := 0; i < sm.nOps; i++ {
-			if mask&(1<<(len(stamps)+i)) != 0 {
-				row := nodes + 1 + i
-				a[row*n+amps[i].o]++
-			}
-		}
-		if numerator {
-			for r := 0; r < n; r++ {
-				a[r*n+out] = 0
-			}
-			a[src*n+out] = 1
 		}
 	}
 	// A node that is neither the input (whose row holds the source
@@ -329,9 +453,10 @@ func (sm *stageModel) expand() error {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			a := make([]float64, n*n)
-			x := make([]float64, n)
-			piv := make([]int, n)
+			mb := make([]float64, m*m+m)
+			mr, cin := mb[:m*m:m*m], mb[m*m:]
+			x := make([]float64, m)
+			piv := make([]int, m)
 			integer := func(d float64) (float64, bool) {
 				r := math.Round(d)
 				return r, math.Abs(d-r) <= 1e-6*math.Max(1, math.Abs(r)) && math.Abs(r) <= 1<<40
@@ -343,27 +468,31 @@ func (sm *stageModel) expand() error {
 						continue vertices // detD, detN stay 0
 					}
 				}
-				build(a, uint32(mask), false)
-				dd, ok := integer(realDet(a, n, piv))
+				build(mb, uint32(mask))
+				dm := realDet(mr, m, piv)
+				dd, ok := integer(-dm)
 				if !ok {
 					bad.Store(true)
 					return
 				}
 				detD[mask] = dd
-				// det A_out = det A · x_out by Cramer's rule, from the same
-				// factors, when that is an integer to rounding; else (A
-				// singular, or too much rounding) its own LU.
+				// det A_out = det M_b = det M · x_out with M·x = b by
+				// Cramer's rule, from the same factors, when that is an
+				// integer to rounding; else (M singular, or too much
+				// rounding) M_b's own LU.
 				if dd != 0 {
-					clear(x)
-					x[src] = 1
-					realSolve(a, n, piv, x)
-					if dn, ok := integer(dd * x[out]); ok {
+					copy(x, cin)
+					realSolve(mr, m, piv, x)
+					if dn, ok := integer(dm * x[outR]); ok {
 						detN[mask] = dn
 						continue
 					}
 				}
-				build(a, uint32(mask), true)
-				dn, ok := integer(realDet(a, n, piv))
+				build(mb, uint32(mask))
+				for r := range m {
+					mr[r*m+outR] = cin[r]
+				}
+				dn, ok := integer(realDet(mr, m, piv))
 				if !ok {
 					bad.Store(true)
 					return
@@ -407,6 +536,7 @@ func (sm *stageModel) expand() error {
 	}
 	sm.den, sm.degDen = collect(detD)
 	sm.num, sm.degNum = collect(detN)
+	sm.denC, sm.numC = compile(sm.den, nParts), compile(sm.num, nParts)
 	if sm.degDen < 0 {
 		return fmt.Errorf("%w: stage %s: the nodal determinant is identically zero", circuit.ErrSingular, st.Topology)
 	}

@@ -1,6 +1,7 @@
 package verify_test
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -10,6 +11,7 @@ import (
 
 	"github.com/stretchr/testify/require"
 
+	"github.com/polewright/polewright/synth"
 	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/verify"
 )
@@ -115,5 +117,138 @@ func TestStageTrialMatchesNodalSolve(t *testing.T) {
 				}
 			})
 		}
+	}
+}
+
+// TestCompiledMatchesExpansion checks the trials' layout of the
+// multi-affine expansions (monomials grouped by op-amp set and power of
+// p, products from subset tables) against the term-by-term sum it
+// replaced, on every stage of the example designs (state-variable notches
+// of four single-pole op-amps among them) and the textbook stages, for
+// random part and GBW spreads: the same polynomial, so the coefficients
+// agree to rounding (1e-12 relative, coefficient by coefficient; a
+// structural zero is exactly zero both ways).
+func TestCompiledMatchesExpansion(t *testing.T) {
+	t.Parallel()
+	type tc struct {
+		name string
+		st   circuit.Stage
+		m    circuit.Model
+	}
+	cases := []tc{
+		{"sallen-key-lp/single-pole", sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9), singlePole},
+		{"mfb-lp/parasitics", mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), circuit.Model{GBWHz: 1e6, DCGainDB: 100, InputCapacitanceFarad: 3e-12, OutputResistanceOhm: 50}},
+		{"sallen-key-hp/ideal", sallenKeyHP(10e-9, 10e-9, 33e3, 4.7e3), ideal},
+	}
+	for name, ch := range exampleChains(t) {
+		for k, st := range ch.Stages {
+			cases = append(cases, tc{fmt.Sprintf("%s/stage%d-%s", name, k+1, st.Topology), st, ch.Model})
+		}
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			rng := rand.New(rand.NewPCG(2, uint64(len(c.name))))
+			for trial := range 20 {
+				fac := make([]float64, len(c.st.Parts))
+				for j := range fac {
+					fac[j] = 1 + 0.1*(2*rng.Float64()-1)
+				}
+				gbw := make([]float64, len(c.st.OpAmps))
+				for u := range gbw {
+					gbw[u] = 1 + 0.3*(2*rng.Float64()-1)
+				}
+				refNum, refDen, num, den, expanded, err := verify.ExpansionBothWays(c.st, c.m, fac, gbw)
+				require.NoError(t, err)
+				if !expanded {
+					t.Skip("generic path: no expansion")
+				}
+				for _, p := range []struct {
+					name     string
+					ref, got []float64
+				}{{"num", refNum, num}, {"den", refDen, den}} {
+					require.Len(t, p.got, len(p.ref))
+					for j, v := range p.ref {
+						require.InDelta(t, v, p.got[j], 1e-12*math.Abs(v), "trial %d %s[%d]", trial, p.name, j)
+					}
+				}
+			}
+		})
+	}
+}
+
+// TestExpansionMatchesFullSystem checks the expansion, computed on the
+// nodal system without the input's voltage and the source's current
+// (two fewer unknowns), against the same expansion from the whole
+// system's determinants at every vertex (the computation it replaced):
+// every coefficient of both polynomials the same, exactly, as they are
+// integers. The stages are the textbook ones, every stage of the example
+// designs and the first stages of the costliest admitted design (an
+// order-20 bandstop of state-variable notch stages, sixteen variables).
+func TestExpansionMatchesFullSystem(t *testing.T) {
+	t.Parallel()
+	type tc struct {
+		name string
+		st   circuit.Stage
+		m    circuit.Model
+	}
+	cases := []tc{
+		{"sallen-key-lp/single-pole", sallenKeyLP(10e3, 22e3, 33e-9, 4.7e-9), singlePole},
+		{"mfb-lp/parasitics", mfbLP(10e3, 20e3, 4.7e3, 47e-9, 2.2e-9), circuit.Model{GBWHz: 1e6, DCGainDB: 100, InputCapacitanceFarad: 3e-12, OutputResistanceOhm: 50}},
+		{"sallen-key-hp/ideal", sallenKeyHP(10e-9, 10e-9, 33e3, 4.7e3), ideal},
+		{"inverting/single-pole", inverting(10e3, 47e3), singlePole},
+	}
+	for name, ch := range exampleChains(t) {
+		for k, st := range ch.Stages {
+			cases = append(cases, tc{fmt.Sprintf("%s/stage%d-%s", name, k+1, st.Topology), st, ch.Model})
+		}
+	}
+	spec, err := synth.ParseSpecBytes([]byte(`{"response": "bandstop", "approximation": "butterworth", "order": 20,
+		"passband_hz": [900, 1100], "topology": "state-variable"}`))
+	require.NoError(t, err)
+	d, err := synth.SynthesizeTo(context.Background(), spec, synth.Circuits)
+	require.NoError(t, err)
+	heavy, err := d.Chain()
+	require.NoError(t, err)
+	for k, st := range heavy.Stages[:2] {
+		cases = append(cases, tc{fmt.Sprintf("notch20/stage%d", k+1), st, heavy.Model})
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
+			terms, expanded, err := verify.ExpansionMatchesFull(c.st, c.m)
+			require.NoError(t, err)
+			if !expanded {
+				t.Skip("generic path: no expansion")
+			}
+			require.Positive(t, terms)
+		})
+	}
+}
+
+// TestExpansionCache checks that stages of one structure share one
+// expansion within a run, and that the shared expansion is term for term
+// the one each stage gives alone: on every example design and on the
+// order-20 bandstop of state-variable notch stages, whose twenty stages
+// have one structure (nineteen of them take the first's expansion).
+func TestExpansionCache(t *testing.T) {
+	t.Parallel()
+	chains := exampleChains(t)
+	spec, err := synth.ParseSpecBytes([]byte(`{"response": "bandstop", "approximation": "butterworth", "order": 20,
+		"passband_hz": [900, 1100], "topology": "state-variable"}`))
+	require.NoError(t, err)
+	d, err := synth.SynthesizeTo(context.Background(), spec, synth.Circuits)
+	require.NoError(t, err)
+	chains["notch20"], err = d.Chain()
+	require.NoError(t, err)
+	for name, ch := range chains {
+		t.Run(name, func(t *testing.T) {
+			t.Parallel()
+			hits, err := verify.CachedExpansionsMatch(ch)
+			require.NoError(t, err)
+			if name == "notch20" {
+				require.Equal(t, 19, hits)
+			}
+		})
 	}
 }

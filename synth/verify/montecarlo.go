@@ -161,7 +161,8 @@ func GridOnly(meets func(db []float64) bool) Judge {
 //
 // Each stage is analysed through the multi-affine expansion of its nodal
 // determinants in its part admittances (exact integer coefficients,
-// computed once per run; see the package documentation), which makes a
+// computed once per run for each structure of stage, so that the stages
+// of one topology share one; see the package documentation), which makes a
 // trial's transfer function a few dozen flops for a Sallen-Key stage; the
 // response on the grid is then two real Horner evaluations per
 // polynomial, stage and frequency. A stage of more than 16 variables
@@ -325,7 +326,10 @@ type chainModel struct {
 	nFreq    int
 	x, u     [][]float64 // per stage: ω/scale and −(ω/scale)² on the grid
 	maxParts int
-	runSeed  uint64
+	// maxFastParts is the most parts of a stage on the fast path (at
+	// most maxExpandVars), which sizes the workers' subset products.
+	maxFastParts int
+	runSeed      uint64
 	// fused: every stage is expanded with polynomials of degree ≤ 3, and
 	// the response is computed in one pass over the grid (fusedResponse)
 	// in the variable x = ω/refScale, ratio[k] = refScale/scale of stage k.
@@ -333,6 +337,11 @@ type chainModel struct {
 	refScale float64
 	xr, ur   []float64
 	ratio    []float64
+	// fused7: not fused, but every stage is expanded with polynomials of
+	// degree ≤ 7 (a notch stage of four single-pole op-amps: 4 and 6);
+	// the response is computed in one pass over the grid as well
+	// (fused7Response).
+	fused7 bool
 }
 
 // newChainModel validates the run's inputs and prepares the stages.
@@ -388,8 +397,9 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 	for _, e := range opt.Edges {
 		cm.grid = append(cm.grid, e.FreqHz)
 	}
+	cache := expansionCache{}
 	for k, st := range ch.Stages {
-		sm, err := newStageModel(st, ch.Model, opt.Trials, mode)
+		sm, err := newStageModel(st, ch.Model, opt.Trials, mode, cache)
 		if err != nil {
 			return nil, fmt.Errorf("stage %d (%s): %w", k+1, st.Topology, err)
 		}
@@ -402,6 +412,9 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 		}
 		cm.partTol = append(cm.partTol, pt)
 		cm.maxParts = max(cm.maxParts, len(sm.aug.Parts))
+		if !sm.generic {
+			cm.maxFastParts = max(cm.maxFastParts, len(sm.aug.Parts))
+		}
 		x := make([]float64, len(cm.grid))
 		u := make([]float64, len(cm.grid))
 		for i, f := range cm.grid {
@@ -427,6 +440,12 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 	for _, sm := range cm.stages {
 		cm.ratio = append(cm.ratio, cm.refScale/sm.scale)
 	}
+	if !cm.fused {
+		cm.fused7 = true
+		for _, sm := range cm.stages {
+			cm.fused7 = cm.fused7 && !sm.generic && sm.degNum <= 7 && sm.degDen <= 7
+		}
+	}
 	return cm, nil
 }
 
@@ -436,6 +455,7 @@ type worker struct {
 	pcg      rand.PCG
 	rng      *rand.Rand
 	y        []float64
+	pa, pb   []float64 // subset products of the two halves of y (compiled.eval)
 	beta     []float64
 	num, den []float64
 	mag2     []float64
@@ -448,6 +468,7 @@ type worker struct {
 	parts    []circuit.Part // generic path
 	fac, gbw [][]float64    // the board's part and GBW factors
 	coef     [][8]float64   // fused path: N0..N3, D0..D3 of each stage in x
+	coef7    [][16]float64  // fused7 path: each stage's coefficients in x, by parity (fused7Response)
 	nums     [][]float64    // other paths: each stage's N and D in s/scale
 	dens     [][]float64
 	tails    tails
@@ -468,6 +489,8 @@ func newWorker(cm *chainModel, trials int) *worker {
 		w.roots = append(w.roots, make([]complex128, len(sm.nomRoots)))
 	}
 	w.y = make([]float64, cm.maxParts)
+	w.pa = make([]float64, 1<<(cm.maxFastParts/2))
+	w.pb = make([]float64, 1<<(cm.maxFastParts-cm.maxFastParts/2))
 	w.beta = make([]float64, maxOps)
 	w.num = make([]float64, maxDeg+1)
 	w.den = make([]float64, maxDeg+1)
@@ -484,6 +507,9 @@ func newWorker(cm *chainModel, trials int) *worker {
 		w.gbw = append(w.gbw, make([]float64, sm.nOps))
 	}
 	w.coef = make([][8]float64, len(cm.stages))
+	if cm.fused7 {
+		w.coef7 = make([][16]float64, len(cm.stages))
+	}
 	w.nums = make([][]float64, len(cm.stages))
 	w.dens = make([][]float64, len(cm.stages))
 	w.tails = newTails(cm.nFreq, trials)
@@ -508,6 +534,22 @@ func (w *worker) responseDB(fHz float64) float64 {
 			b := (c[1] + u*c[3]) * x
 			e := c[4] + u*c[6]
 			g := (c[5] + u*c[7]) * x
+			n2 *= a*a + b*b
+			d2 *= e*e + g*g
+			if !(n2 > 1e-200 && n2 < 1e200 && d2 > 1e-200 && d2 < 1e200) {
+				l += math.Log(n2) - math.Log(d2)
+				n2, d2 = 1, 1
+			}
+		}
+		return dbPerLn * (l + math.Log(n2/d2))
+	}
+	if cm.fused7 {
+		x := 2 * math.Pi * fHz / cm.refScale
+		u := -x * x
+		// As fused7Response, with fusedResponse's guard above.
+		n2, d2 := 1.0, 1.0
+		for k := range w.coef7 {
+			a, b, e, g := eval7(&w.coef7[k], u, x)
 			n2 *= a*a + b*b
 			d2 *= e*e + g*g
 			if !(n2 > 1e-200 && n2 < 1e200 && d2 > 1e-200 && d2 < 1e200) {
@@ -563,7 +605,7 @@ func (w *worker) draw(i int) {
 func (w *worker) analyse() error {
 	cm := w.cm
 	w.stable = true
-	if !cm.fused {
+	if !cm.fused && !cm.fused7 {
 		for f := range w.mag2 {
 			w.mag2[f] = 1
 			w.lexp[f] = 0
@@ -601,9 +643,32 @@ func (w *worker) analyse() error {
 			}
 		}
 		num, den := w.num[:sm.degNum+1], w.den[:sm.degDen+1]
-		evalExpansion(sm.num, num, y, alpha, beta)
-		evalExpansion(sm.den, den, y, alpha, beta)
+		nA := sm.denC.nA
+		pa, pb := w.pa[:1<<nA], w.pb[:1<<(len(y)-nA)]
+		subsetProducts(pa, y[:nA])
+		subsetProducts(pb, y[nA:])
+		sm.numC.eval(num, pa, pb, alpha, beta)
+		sm.denC.eval(den, pa, pb, alpha, beta)
 		w.stagePoles(k, sm, num, den)
+		if cm.fused7 {
+			w.nums[k] = append(w.nums[k][:0], num...)
+			w.dens[k] = append(w.dens[k][:0], den...)
+			// As below: c_j·p^j = (c_j·ratio^j)·x^j, split by parity.
+			c := &w.coef7[k]
+			*c = [16]float64{}
+			rho, rj := cm.ratio[k], 1.0
+			for j := range max(len(num), len(den)) {
+				at := j/2 + 4*(j%2)
+				if j < len(num) {
+					c[at] = num[j] * rj
+				}
+				if j < len(den) {
+					c[8+at] = den[j] * rj
+				}
+				rj *= rho
+			}
+			continue
+		}
 		if !cm.fused {
 			w.nums[k] = append(w.nums[k][:0], num...)
 			w.dens[k] = append(w.dens[k][:0], den...)
@@ -626,6 +691,10 @@ func (w *worker) analyse() error {
 	}
 	if cm.fused {
 		fusedResponse(w.db, cm.xr, cm.ur, w.coef)
+		return nil
+	}
+	if cm.fused7 {
+		fused7Response(w.db, cm.xr, cm.ur, w.coef7)
 		return nil
 	}
 	copy(w.db, w.mag2)
@@ -655,9 +724,9 @@ func toDB(v, lexp float64) float64 {
 // grid (u = −x²) into db, for stages of degree ≤ 3 whose coefficients in
 // x are coef[k] (N0..N3, D0..D3): one pass, the squared magnitudes of all
 // numerators and of all denominators multiplied, one division and one
-// logarithm per frequency. A product that leaves [1e-280, 1e280] (a deep
-// stopband of a long chain, or an exact zero) is redone stage by stage in
-// logarithms.
+// logarithm per frequency. A product that leaves [1e-280, 1e280], or a
+// quotient below 1e-300 (a deep stopband of a long chain, or an exact
+// zero), is redone stage by stage in logarithms.
 func fusedResponse(db, x, u []float64, coef [][8]float64) {
 	x = x[:len(db)]
 	u = u[:len(db)]
@@ -673,8 +742,10 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 			n2 *= a*a + b*b
 			d2 *= e*e + g*g
 		}
-		if n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 {
-			db[f] = n2 / d2 // a squared magnitude, made dB below
+		// The quotient too must be a normal number: n2 and d2 in range
+		// can still divide to below 1e-308 (a chain's deep stopband).
+		if q := n2 / d2; n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 && q > 1e-300 {
+			db[f] = q // a squared magnitude, made dB below
 		} else {
 			db[f] = -1 // out of range: redone below
 		}
@@ -698,9 +769,64 @@ func fusedResponse(db, x, u []float64, coef [][8]float64) {
 	}
 }
 
-// stagePoles finds the trial's poles of stage k by polishing the nominal
-// ones, and its f0 and Q; if the iteration fails it asks the circuit
-// package.
+// fused7Response is fusedResponse for stages of degree ≤ 7, coef[k]
+// holding stage k's coefficients in x by parity: the numerator's even
+// powers x⁰, x², x⁴, x⁶ in 0..3 and odd ones in 4..7, the denominator's
+// in 8..11 and 12..15. Each polynomial costs two real Horner evaluations
+// in u = −x² per frequency, unrolled; the squared magnitudes of all
+// numerators and of all denominators are multiplied, and one division
+// and one logarithm per frequency follow. A product that leaves
+// [1e-280, 1e280], or a quotient below 1e-300, is redone stage by stage
+// in logarithms.
+func fused7Response(db, x, u []float64, coef [][16]float64) {
+	x = x[:len(db)]
+	u = u[:len(db)]
+	for f, uf := range u {
+		xf := x[f]
+		n2, d2 := 1.0, 1.0
+		for k := range coef {
+			a, b, e, g := eval7(&coef[k], uf, xf)
+			n2 *= a*a + b*b
+			d2 *= e*e + g*g
+		}
+		// The quotient too must be a normal number: n2 and d2 in range
+		// can still divide to below 1e-308 (a chain's deep stopband).
+		if q := n2 / d2; n2 > 1e-280 && n2 < 1e280 && d2 > 1e-280 && d2 < 1e280 && q > 1e-300 {
+			db[f] = q
+		} else {
+			db[f] = -1 // out of range: redone below
+		}
+	}
+	dbInPlace(db)
+	for f, v := range db {
+		if v != -1 {
+			continue
+		}
+		var l float64
+		for k := range coef {
+			a, b, e, g := eval7(&coef[k], u[f], x[f])
+			l += math.Log(math.Hypot(a, b)) - math.Log(math.Hypot(e, g))
+		}
+		db[f] = toDB(1, 2*l/math.Ln10)
+	}
+}
+
+// eval7 returns N(jx) = a + jb and D(jx) = e + jg of the stage whose
+// coefficients c are laid out as for fused7Response, with u = −x².
+func eval7(c *[16]float64, u, x float64) (a, b, e, g float64) {
+	a = c[0] + u*(c[1]+u*(c[2]+u*c[3]))
+	b = (c[4] + u*(c[5]+u*(c[6]+u*c[7]))) * x
+	e = c[8] + u*(c[9]+u*(c[10]+u*c[11]))
+	g = (c[12] + u*(c[13]+u*(c[14]+u*c[15]))) * x
+	return a, b, e, g
+}
+
+// stagePoles finds the trial's poles of stage k, and its f0 and Q, by
+// Newton steps on the perturbed denominator from the nominal poles
+// (polyRoots) instead of a full root solve. When those do not converge
+// in a few steps or two of them collide on one root (then the
+// Aberth-Ehrlich iteration is tried, and when it fails too), it takes the
+// circuit package's full solve, the companion matrix's eigenvalues.
 func (w *worker) stagePoles(k int, sm *stageModel, num, den []float64) {
 	z := w.roots[k]
 	copy(z, sm.nomRoots)

@@ -8,16 +8,38 @@ import (
 
 // Root polishing. Each trial's poles are found from the nominal ones: the
 // trial's denominator differs from the nominal by the part spread (a few
-// per cent), so its roots lie near the nominal roots and the Aberth-Ehrlich
-// iteration started there converges (cubically for simple roots) in a few
-// steps, to all roots at once, never two to the same root.
+// per cent), so its roots lie near the nominal roots, and Newton's method
+// on each factor of the denominator, started there, converges
+// quadratically in a few steps. That replaces a full root solve (the
+// eigenvalues of the companion matrix, what the circuit package does) for
+// nearly every trial; the full solve remains the fallback.
 const (
-	// aberthMaxIter bounds the iterations; a run that does not converge
-	// falls back to the circuit package's root finder.
+	// polishMaxIter bounds the Newton steps per factor; a factor that has
+	// not converged by then (a guess too far from its root) sends the
+	// denominator to the Aberth-Ehrlich iteration and from there to the
+	// full solve.
+	polishMaxIter = 12
+	// aberthMaxIter bounds the Aberth-Ehrlich iterations; a run that does
+	// not converge falls back to the circuit package's root finder.
 	aberthMaxIter = 40
-	// aberthTol: the iteration stops when every step is below this
+	// aberthTol: an iteration stops when every step is below this
 	// fraction of its root's magnitude.
 	aberthTol = 1e-13
+	// noiseTol: a Newton iteration whose steps have stopped shrinking
+	// (each at least half the one before, rounding noise rather than
+	// convergence) is taken as converged once they are below this
+	// fraction of the root; above it, as not converging.
+	noiseTol = 1e-10
+	// clusterTol: two real guesses closer than this fraction of their
+	// magnitude are polished together as one real quadratic factor
+	// (Bairstow's method), which converges whether the trial moves them
+	// apart, onto each other or off the real axis as a complex pair, where
+	// Newton's method on each alone would slow down near the double root
+	// or find the same root twice.
+	clusterTol = 0.25
+	// maxStep bounds a Bairstow step, relative to the size of its
+	// factor (see bairstow).
+	maxStep = 0.25
 	// realTol: a root whose imaginary part is at most this fraction of
 	// its magnitude is taken as real (the iteration leaves a residual
 	// imaginary part of rounding size on real roots).
@@ -26,17 +48,19 @@ const (
 
 // polyRoots writes the roots of the real polynomial c (ascending powers,
 // c[deg] ≠ 0, deg = len(z)) into z, starting from the guesses already in
-// z for degree ≥ 3 (the nominal roots). It reports whether the iteration
-// converged.
+// z for degree ≥ 3 (the nominal roots, conjugate pairs complete). It
+// reports whether the iteration converged; when it did not, the caller
+// falls back to the full solve.
 //
-// Degree ≤ 2 is solved in closed form. Above, when the guesses hold at
-// most one complex pair (the common case: a section's pair and the
-// op-amps' real poles), each real root is polished by Newton's method in
-// real arithmetic and divided out (forward deflation for a root smaller
-// than the pair, backward for a larger one, each the stable direction),
-// and the remaining quadratic is solved in closed form. Otherwise, or
-// when that fails, the Aberth-Ehrlich iteration refines all roots at
-// once.
+// Degree ≤ 2 is solved in closed form. Above, the guesses are grouped
+// into the real factors of the denominator (see factorDeflate): each is
+// found by Newton's method, refined on the whole polynomial and divided
+// out, and the last quadratic, the section's pole pair, is solved in
+// closed form. When that fails (a factor that does not converge within
+// polishMaxIter steps, or roots that collide: two factors polished onto
+// the same roots, which the sum and the product of the roots catch), the
+// Aberth-Ehrlich iteration refines all roots at once from the guesses,
+// and when that fails too the caller takes the full solve.
 func polyRoots(c []float64, z []complex128) bool {
 	deg := len(z)
 	switch deg {
@@ -49,88 +73,247 @@ func polyRoots(c []float64, z []complex128) bool {
 		z[0], z[1] = quadRoots(c[2], c[1], c[0])
 		return true
 	}
-	if deg <= maxDegree && realDeflate(c, z) {
+	if deg <= maxDegree && factorDeflate(c, z) {
 		return true
 	}
 	return aberth(c, z)
 }
 
-// realDeflate is polyRoots' real-arithmetic path; it leaves z unchanged
-// when it does not apply or fails.
-func realDeflate(c []float64, z []complex128) bool {
+// realFactor is a real factor of a polynomial: p − r (linear) or
+// p² + u·p + v (quad).
+type realFactor struct {
+	quad    bool
+	r, u, v float64
+	mag     float64 // the magnitude of its roots (|r|, √|v|)
+}
+
+// factorDeflate is polyRoots' Newton path; it leaves z unchanged when it
+// does not apply or fails.
+//
+// The guesses become factors: the complex pair of least magnitude (the
+// section's, as a rule), or without a pair the two real guesses of least
+// magnitude, is kept for last; the other pairs are quadratic factors,
+// the other real guesses linear ones, except that real guesses closer
+// than clusterTol are paired into a quadratic factor. Each factor but
+// the kept one is polished (Newton's method for a linear factor,
+// Bairstow's for a quadratic one: Newton's method on its two
+// coefficients) first on the deflated polynomial, then on the whole one,
+// and divided out of the deflated polynomial, forward (from the leading
+// coefficient) when its roots are smaller than the kept pair's and
+// backward (from the constant term) when larger, each the stable
+// direction; the quadratic left is the kept pair's, solved in closed
+// form.
+func factorDeflate(c []float64, z []complex128) bool {
 	deg := len(z)
 	var reals [maxDegree]float64
-	nr := 0
-	pairMag := 0.0
+	var facs [maxDegree]realFactor
+	nr, nf, nUpper, nLower := 0, 0, 0, 0
+	keptIdx := -1
 	for _, r := range z {
 		switch {
 		case imag(r) == 0:
 			reals[nr] = real(r)
 			nr++
 		case imag(r) > 0:
-			if pairMag != 0 {
-				return false // two pairs
+			nUpper++
+			f := realFactor{quad: true, u: -2 * real(r), v: abs2(r), mag: cmplx.Abs(r)}
+			if keptIdx < 0 || f.mag < facs[keptIdx].mag {
+				keptIdx = nf
 			}
-			pairMag = cmplx.Abs(r)
+			facs[nf] = f
+			nf++
+		default:
+			nLower++
 		}
 	}
-	if nr < deg-2 || (pairMag == 0) != (nr == deg) {
-		return false
+	if nUpper != nLower {
+		return false // not a real polynomial's guesses
 	}
-	if pairMag == 0 {
-		// All real: keep the two smallest for the closed form (they are
-		// the ones an overdamped section pair would be).
-		slices.SortFunc(reals[:nr], func(a, b float64) int {
-			return cmpAbs(b, a)
-		})
-		pairMag = math.Sqrt(math.Abs(reals[nr-1] * reals[nr-2]))
+	// The real guesses by value, so that neighbours are adjacent.
+	slices.Sort(reals[:nr])
+	if keptIdx < 0 {
+		if nr < 2 {
+			return false
+		}
+		// All real: keep the two of least magnitude (the ones an
+		// overdamped section pair would be).
+		i, j := -1, -1
+		for k := 0; k < nr; k++ {
+			switch {
+			case i < 0 || math.Abs(reals[k]) < math.Abs(reals[i]):
+				i, j = k, i
+			case j < 0 || math.Abs(reals[k]) < math.Abs(reals[j]):
+				j = k
+			}
+		}
+		a, b := reals[i], reals[j]
+		facs[nf] = realFactor{quad: true, u: -(a + b), v: a * b, mag: math.Sqrt(math.Abs(a * b))}
+		keptIdx = nf
+		nf++
+		// Remove i and j, keeping the order.
+		k := 0
+		for m := 0; m < nr; m++ {
+			if m != i && m != j {
+				reals[k] = reals[m]
+				k++
+			}
+		}
+		nr = k
 	}
-	var orig [maxDegree]complex128
-	copy(orig[:], z)
+	for i := 0; i < nr; i++ {
+		a := reals[i]
+		if i+1 < nr {
+			if b := reals[i+1]; math.Abs(b-a) <= clusterTol*math.Max(math.Abs(a), math.Abs(b)) {
+				facs[nf] = realFactor{quad: true, u: -(a + b), v: a * b, mag: math.Sqrt(math.Abs(a * b))}
+				nf++
+				i++
+				continue
+			}
+		}
+		facs[nf] = realFactor{r: a, mag: math.Abs(a)}
+		nf++
+	}
+	keptMag := facs[keptIdx].mag
+
 	var buf [maxDegree + 1]float64
 	q := buf[:deg+1]
 	copy(q, c)
-	var found [maxDegree]float64
-	for i := 0; i < deg-2; i++ {
-		x := reals[i]
-		if !newtonReal(c, &x) {
-			return false
+	var roots [maxDegree]complex128
+	nRoots := 0
+	for i := 0; i < nf; i++ {
+		if i == keptIdx {
+			continue
 		}
-		found[i] = x
+		f := &facs[i]
 		n := len(q) - 1 // degree of q
-		if math.Abs(x) <= pairMag {
-			// Forward deflation, from the leading coefficient.
-			acc := q[n]
-			for j := n - 1; j >= 0; j-- {
-				acc, q[j] = q[j]+acc*x, acc
-			}
-		} else {
-			// Backward deflation, from the constant term.
-			if x == 0 {
+		// Each factor is found on the deflated polynomial q, which no
+		// longer has the roots already found (so two guesses cannot end
+		// on one root), then refined on the whole c (one or two steps),
+		// which undoes the rounding of the deflations.
+		if !f.quad {
+			if !newtonReal(q, &f.r) || !newtonReal(c, &f.r) {
 				return false
 			}
-			prev := 0.0
-			for j := 0; j < n; j++ {
-				prev = (prev - q[j]) / x
-				q[j] = prev
+			x := f.r
+			roots[nRoots] = complex(x, 0)
+			nRoots++
+			if math.Abs(x) <= keptMag {
+				acc := q[n]
+				for j := n - 1; j >= 0; j-- {
+					acc, q[j] = q[j]+acc*x, acc
+				}
+			} else {
+				if x == 0 {
+					return false
+				}
+				prev := 0.0
+				for j := 0; j < n; j++ {
+					prev = (prev - q[j]) / x
+					q[j] = prev
+				}
+			}
+			q = q[:n]
+			continue
+		}
+		if !bairstow(q, &f.u, &f.v) || !bairstow(c, &f.u, &f.v) {
+			return false
+		}
+		u, v := f.u, f.v
+		roots[nRoots], roots[nRoots+1] = quadRoots(1, u, v)
+		nRoots += 2
+		if math.Sqrt(math.Abs(v)) <= keptMag {
+			// Forward: q = (p² + u·p + v)·s, s's coefficients from the top.
+			var s [maxDegree + 1]float64
+			b1, b2 := 0.0, 0.0 // s[k−1], s[k] of the step before
+			for k := n; k >= 2; k-- {
+				b := q[k] - u*b1 - v*b2
+				s[k-2], b1, b2 = b, b, b1
+			}
+			copy(q, s[:n-1])
+		} else {
+			// Backward: from the constant term.
+			if v == 0 {
+				return false
+			}
+			s1, s2 := 0.0, 0.0 // s[k−1], s[k−2]
+			for k := 0; k <= n-2; k++ {
+				s := (q[k] - u*s1 - s2) / v
+				q[k], s1, s2 = s, s, s1
 			}
 		}
-		q = q[:n]
+		q = q[:n-1]
+	}
+	if len(q) != 3 || nRoots != deg-2 {
+		return false
 	}
 	a, b := quadRoots(q[2], q[1], q[0])
-	for i := 0; i < deg-2; i++ {
-		z[i] = complex(found[i], 0)
-	}
 	if cmplx.IsNaN(a) || cmplx.IsNaN(b) || cmplx.IsInf(a) || cmplx.IsInf(b) {
 		return false
 	}
-	z[deg-2], z[deg-1] = a, b
-	if !vieta(c, z) {
-		copy(z[:deg-2], orig[:deg-2])
-		z[deg-2], z[deg-1] = orig[deg-2], orig[deg-1]
+	roots[nRoots], roots[nRoots+1] = a, b
+	if !vieta(c, roots[:deg]) {
 		return false
 	}
+	copy(z, roots[:deg])
 	return true
+}
+
+// bairstow polishes the quadratic factor p² + u·p + v of c by Newton's
+// method on (u, v), the remainder of c's division by the factor being
+// driven to zero (Bairstow's method). It reports whether it converged
+// within polishMaxIter steps.
+func bairstow(c []float64, u, v *float64) bool {
+	n := len(c) - 1
+	U, V := *u, *v
+	prev := math.Inf(1)
+	for range polishMaxIter {
+		m := math.Sqrt(math.Abs(V))
+		if m == 0 || math.IsNaN(m) || math.IsInf(m, 0) {
+			return false
+		}
+		// b_k = c_k − U·b_{k+1} − V·b_{k+2} (the quotient and, in b_1 and
+		// b_0, the remainder), d_k = b_k − U·d_{k+1} − V·d_{k+2} (the
+		// derivatives: ∂b_k/∂U = −d_{k+1}, ∂b_k/∂V = −d_{k+2}).
+		var b0, b1, d1, d2, d3 float64
+		var bk1, bk2, dk1, dk2 float64 // b_{k+1}, b_{k+2}, d_{k+1}, d_{k+2}
+		for k := n; k >= 0; k-- {
+			bk := c[k] - U*bk1 - V*bk2
+			dk := bk - U*dk1 - V*dk2
+			switch k {
+			case 3:
+				d3 = dk
+			case 2:
+				d2 = dk
+			case 1:
+				d1, b1 = dk, bk
+			case 0:
+				b0 = bk
+			}
+			bk1, bk2 = bk, bk1
+			dk1, dk2 = dk, dk1
+		}
+		det := d2*d2 - d1*d3
+		du := (b1*d2 - b0*d3) / det
+		dv := (b0*d2 - b1*d1) / det
+		if math.IsNaN(du) || math.IsNaN(dv) || math.IsInf(du, 0) || math.IsInf(dv, 0) {
+			return false
+		}
+		// A step of more than maxStep of the factor's size is shortened
+		// to it: far from the root, Newton's full step can overshoot
+		// out of the basin.
+		if e := math.Max(math.Abs(du)/m, math.Abs(dv)/(m*m)); e > maxStep {
+			du, dv = du*maxStep/e, dv*maxStep/e
+		}
+		U += du
+		V += dv
+		e := math.Max(math.Abs(du)/m, math.Abs(dv)/(m*m))
+		if e <= aberthTol || (e <= noiseTol && e >= prev/2) {
+			*u, *v = U, V
+			return true
+		}
+		prev = e
+	}
+	return false
 }
 
 // vieta checks roots z of c against the sum and the product of the roots
@@ -169,30 +352,34 @@ func cmpAbs(a, b float64) int {
 	return 0
 }
 
-// newtonReal polishes the real root *x of c by Newton's method.
+// newtonReal polishes the real root *x of c by Newton's method. It
+// reports whether it converged within polishMaxIter steps.
 func newtonReal(c []float64, x *float64) bool {
 	r := *x
-	for range aberthMaxIter {
+	prev := math.Inf(1)
+	for range polishMaxIter {
 		var p, d float64
 		for j := len(c) - 1; j >= 0; j-- {
 			d = d*r + p
 			p = p*r + c[j]
 		}
 		if p == 0 {
-			break
+			*x = r
+			return true
 		}
 		step := p / d
 		if math.IsNaN(step) || math.IsInf(step, 0) {
 			return false
 		}
 		r -= step
-		if math.Abs(step) <= aberthTol*math.Abs(r) {
+		e := math.Abs(step) / math.Abs(r)
+		if e <= aberthTol || (e <= noiseTol && e >= prev/2) {
 			*x = r
 			return true
 		}
+		prev = e
 	}
-	*x = r
-	return true
+	return false
 }
 
 // aberth is the Aberth-Ehrlich iteration on all roots, from z.
