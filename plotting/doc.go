@@ -77,13 +77,22 @@
 // <?xml?> declaration; [InlineSVG] strips it for inlining into HTML.
 // Nothing from the spec is written as text: the SVG holds only fixed axis
 // labels, legend names ("ideal", "as built", the mask's, the settling
-// time's) and numbers, and gonum/plot's
-// SVG canvas escapes all text it writes in any case.
+// time's) and numbers, and the SVG canvas escapes all text it writes in
+// any case.
 //
 // A curve is drawn with the points the drawing can show: in canvas
 // coordinates, points whose leaving out moves the line by at most a tenth
 // of a point are left out (a smooth curve keeps a few dozen to a few
 // hundred of its samples).
+//
+// # The SVG canvas
+//
+// Plots are drawn by gonum/plot onto plotting/internal/svgcanvas, a
+// vg.Canvas whose output is byte for byte what gonum/plot's vgsvg writes
+// (its tests compare the two), written into one pooled buffer (or
+// straight into the caller's, when that is a bytes.Buffer) with numbers
+// formatted without fmt; curves and shapes are stroked and filled as
+// polylines, with no vg.Path.
 //
 // # Fonts and global state
 //
@@ -93,8 +102,9 @@
 // The fonts are set on each plot's text styles, not through
 // plot.DefaultFont or font.DefaultCache: this package changes no
 // package-level state, so it is safe to call concurrently. It keeps only
-// caches of its own: the sizes of the texts it has measured (at most 4,096)
-// and, for the last 16 designs drawn, the circuit's rational stages, the
+// caches of its own: the sizes of the texts it has measured (at most 4,096),
+// the style strings of the fonts, pooled scratch memory and buffers, and,
+// for the last 16 designs drawn, the circuit's rational stages, the
 // frequency sweep that [Bode], [Passband] and [GroupDelay] share (curves
 // and the as-built phase and delay) and the step plot's responses, held by weak pointer so that no design is
 // kept alive by them (a design is not changed after synthesis).
