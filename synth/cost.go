@@ -9,14 +9,21 @@ import (
 
 // Cost model of [EstimateCost], in CPU-milliseconds on one core of the
 // machine it was calibrated on (go test on the specs of cost_test.go at
-// GOMAXPROCS=1). A stage of p parts costs about p³ to analyse (its
-// nodal cofactors) and p² per frequency point of each Monte Carlo trial.
+// GOMAXPROCS=1, 2026-12-03). A stage of p parts costs about p³ to analyse
+// (its nodal cofactors). The chain's swing analysis follows each node's
+// step response through the stages before it (exactly, by state space,
+// where partial fractions are ill-conditioned, as in long notch chains):
+// about the cube of the chain's size, counted in notch stages. A Monte
+// Carlo trial costs about the same per stage and frequency point whatever
+// the stage (notch stages' polynomials come from one expansion per stage
+// structure, shared by the run), and the run sets up each structure once.
 const (
 	costBaseMs          = 1      // parse, prototype, sections, response grid
 	costStageMs         = 0.4    // per stage: part search, as-built response
 	costStageCubeMs     = 0.0025 // per stage and part³: sensitivities, noise, step
-	costTrialSetupMs    = 0.017  // per stage and part³ when a Monte Carlo runs
-	costTrialPointMs    = 5e-7   // per trial, frequency point, stage and part²
+	costChainCubeMs     = 0.035  // per (Σ parts / costPartsNotch)³: swing
+	costTrialSetupMs    = 0.017  // per distinct stage size, part³, when a Monte Carlo runs
+	costTrialPointMs    = 3.3e-5 // per trial, frequency point and stage (measured 2.2e-5; half again as margin for the server's budget)
 	costPartsFirstOrder = 2      // a first-order stage
 	costPartsBiquad     = 4      // a Sallen-Key or multiple-feedback biquad
 	costPartsSVBiquad   = 8      // a state-variable biquad
@@ -91,17 +98,22 @@ func EstimateCostOf(s Spec) Cost {
 		}
 	}
 	c.Stages = len(parts)
-	var cube, square float64
+	var setup, size float64
+	seen := map[int]bool{}
 	for _, p := range parts {
 		fp := float64(p)
 		c.DesignMs += costStageMs + costStageCubeMs*fp*fp*fp
-		cube += fp * fp * fp
-		square += fp * fp
+		size += fp / costPartsNotch
+		if !seen[p] {
+			seen[p] = true
+			setup += fp * fp * fp
+		}
 	}
+	c.DesignMs += costChainCubeMs * size * size * size
 	points := float64(MonteCarloPoints + len(s.PassbandHz) + len(s.StopbandHz))
-	c.PerTrialMs = costTrialPointMs * points * square
+	c.PerTrialMs = costTrialPointMs * points * float64(len(parts))
 	if s.MonteCarlo.Trials > 0 {
-		c.MonteCarloMs = costTrialSetupMs*cube + float64(s.MonteCarlo.Trials)*c.PerTrialMs
+		c.MonteCarloMs = costTrialSetupMs*setup + float64(s.MonteCarlo.Trials)*c.PerTrialMs
 	}
 	if s.TargetYield != nil {
 		// At worst every margin of the ladder is designed, each with its
