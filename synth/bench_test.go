@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
 )
 
 // benchSpecs are the specs that testdata/scipy/bench_scipy.py times in
@@ -43,6 +44,7 @@ func BenchmarkSynthesizeIdealNewApprox(b *testing.B) {
 				b.ReportAllocs()
 				ctx := context.Background()
 				for b.Loop() {
+					circuit.ResetRootCache() // each design finds its own roots, as a new one would
 					if _, err := synth.SynthesizeIdeal(ctx, s); err != nil {
 						b.Fatal(err)
 					}
@@ -62,6 +64,7 @@ func BenchmarkSynthesizeIdeal(b *testing.B) {
 			ctx := context.Background()
 			start := cpuTime()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots, as a new one would
 				if _, err := synth.SynthesizeIdeal(ctx, bs.spec); err != nil {
 					b.Fatal(err)
 				}
@@ -80,6 +83,7 @@ func BenchmarkSynthesizeCircuits(b *testing.B) {
 			b.ReportAllocs()
 			ctx := context.Background()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots, as a new one would
 				if _, err := synth.SynthesizeTo(ctx, bs.spec, synth.Circuits); err != nil {
 					b.Fatal(err)
 				}
@@ -98,6 +102,7 @@ func BenchmarkSynthesize(b *testing.B) {
 			ctx := context.Background()
 			start := cpuTime()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots, as a new one would
 				if _, err := synth.Synthesize(ctx, bs.spec); err != nil {
 					b.Fatal(err)
 				}
@@ -126,6 +131,7 @@ func BenchmarkMonteCarloDesign(b *testing.B) {
 				b.ReportAllocs()
 				ctx := context.Background()
 				for b.Loop() {
+					circuit.ResetRootCache() // each design finds its own roots, as a new one would
 					if _, err := synth.Synthesize(ctx, s); err != nil {
 						b.Fatal(err)
 					}
@@ -162,6 +168,7 @@ func BenchmarkSynthesizeBoard(b *testing.B) {
 				b.ReportAllocs()
 				ctx := context.Background()
 				for b.Loop() {
+					circuit.ResetRootCache() // each design finds its own roots, as a new one would
 					if _, err := synth.Synthesize(ctx, v.spec); err != nil {
 						b.Fatal(err)
 					}
@@ -202,6 +209,7 @@ func BenchmarkDifferential(b *testing.B) {
 			ctx := context.Background()
 			start := cpuTime()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots, as a new one would
 				if _, err := synth.Synthesize(ctx, s); err != nil {
 					b.Fatal(err)
 				}
@@ -219,6 +227,7 @@ func BenchmarkDifferential(b *testing.B) {
 			ctx := context.Background()
 			start := cpuTime()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots, as a new one would
 				if _, err := synth.Synthesize(ctx, s); err != nil {
 					b.Fatal(err)
 				}

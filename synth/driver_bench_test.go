@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit"
 )
 
 // BenchmarkSynthesizeSARDriver times the example SAR design (no Monte
@@ -31,6 +32,7 @@ func BenchmarkSynthesizeSARDriver(b *testing.B) {
 		b.Run(tc.name, func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
+				circuit.ResetRootCache() // each design finds its own roots
 				if _, err := synth.Synthesize(context.Background(), tc.spec); err != nil {
 					b.Fatal(err)
 				}

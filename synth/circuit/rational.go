@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -192,9 +193,65 @@ func polyRoots(c []float64) []complex128 {
 	case deg == 2:
 		roots = append(roots, quadRoots(c[2], c[1], c[0])...)
 	default:
-		roots = append(roots, companionRoots(c)...)
+		roots = append(roots, cachedCompanionRoots(c)...)
 	}
 	sortRoots(roots)
+	return roots
+}
+
+// rootCache remembers the companion roots of the last polynomials seen,
+// direct-mapped by a hash of their coefficients: a design asks for the
+// roots of the same polynomial several times (a stage's poles for its
+// figures, its step response, its swing nodes; a third of the calls in an
+// elliptic-8 design), each an eigenvalue problem. Entries are immutable
+// and swapped atomically, so the cache is safe for concurrent designs; a
+// hit is the same computation's result, bit for bit.
+var rootCache [256]atomic.Pointer[rootEntry]
+
+type rootEntry struct {
+	c     []float64
+	roots []complex128
+}
+
+// sameBits reports whether a and b hold the same float64 values bit for
+// bit (−0 is not 0 here).
+func sameBits(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			return false
+		}
+	}
+	return true
+}
+
+// ResetRootCache empties the cache of polynomial roots that [Rational.Poles]
+// and [Rational.Zeros] keep. Results do not depend on it; benchmarks that
+// design the same spec again and again call it so that each design pays
+// for its own roots, as a new design would.
+func ResetRootCache() {
+	for i := range rootCache {
+		rootCache[i].Store(nil)
+	}
+}
+
+// cachedCompanionRoots is companionRoots through rootCache.
+func cachedCompanionRoots(c []float64) []complex128 {
+	h := uint64(14695981039346656037) // FNV-1a over the coefficients' bits
+	for _, v := range c {
+		h ^= math.Float64bits(v)
+		h *= 1099511628211
+	}
+	slot := &rootCache[h%uint64(len(rootCache))]
+	if e := slot.Load(); e != nil && sameBits(e.c, c) {
+		return slices.Clone(e.roots)
+	}
+	roots := companionRoots(c)
+	if roots != nil {
+		slot.Store(&rootEntry{c: slices.Clone(c), roots: slices.Clone(roots)})
+	}
 	return roots
 }
 

@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/polewright/polewright/synth/circuit"
 	"github.com/polewright/polewright/synth/explore"
 )
 
@@ -25,6 +26,7 @@ func BenchmarkExplore(b *testing.B) {
 			data := []byte(antiAlias + bc.mc + `}`)
 			start := cpuTime()
 			for b.Loop() {
+				circuit.ResetRootCache() // each exploration finds its own roots
 				if _, err := explore.Explore(context.Background(), data); err != nil {
 					b.Fatal(err)
 				}
