@@ -325,23 +325,8 @@ func (s shape) Plot(c draw.Canvas, p *plot.Plot) {
 			continue
 		}
 		c.SetLineStyle(s.poly.LineStyle)
-		if s.poly.LineStyle.Width <= 0 && direct {
-			continue // the canvas strokes nothing of zero width
-		}
-		for _, l := range lines {
-			if len(l) == 0 {
-				continue
-			}
-			if direct {
-				pl.StrokePolyline(l)
-				continue
-			}
-			pa := make(vg.Path, 0, len(l))
-			pa.Move(l[0])
-			for _, pt := range l[1:] {
-				pa.Line(pt)
-			}
-			c.Stroke(pa)
+		if s.poly.LineStyle.Width > 0 || !direct { // (the canvas strokes nothing of zero width)
+			strokeLines(c, lines)
 		}
 		sc.one[0] = nil
 	}

@@ -612,6 +612,14 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 		lines = sc.clip.clip(dc, ps)
 	}
 	dc.SetLineStyle(sty)
+	strokeLines(dc, lines)
+	sc.one[0] = nil
+}
+
+// strokeLines strokes each line of lines in the canvas's current style:
+// as a polyline where the canvas takes one, else as a vg.Path (as
+// draw.Canvas.StrokeLines does, without setting the style).
+func strokeLines(dc draw.Canvas, lines [][]vg.Point) {
 	pl, direct := polylinerOf(dc.Canvas)
 	for _, l := range lines {
 		if len(l) == 0 {
@@ -628,7 +636,6 @@ func (c curve) Plot(dc draw.Canvas, p *plot.Plot) {
 		}
 		dc.Stroke(path)
 	}
-	sc.one[0] = nil
 }
 
 // polyliner is a canvas that strokes a polyline without a vg.Path

@@ -175,16 +175,7 @@ func (c *Canvas) stroke(path vg.Path, pts []vg.Point) {
 	if path != nil {
 		c.pathData(path)
 	} else {
-		for i, pt := range pts {
-			if i == 0 {
-				c.buf.WriteByte('M')
-			} else {
-				c.buf.WriteByte('L')
-			}
-			c.g(pt.X.Points())
-			c.buf.WriteByte(',')
-			c.g(pt.Y.Points())
-		}
+		c.polyline(pts)
 	}
 	c.buf.WriteString(`" style="fill:none;stroke:`)
 	c.colour(ctx.color)
@@ -240,16 +231,7 @@ func (c *Canvas) fill(path vg.Path, rings [][]vg.Point) {
 		c.pathData(path)
 	} else {
 		for _, ring := range rings {
-			for i, pt := range ring {
-				if i == 0 {
-					c.buf.WriteByte('M')
-				} else {
-					c.buf.WriteByte('L')
-				}
-				c.g(pt.X.Points())
-				c.buf.WriteByte(',')
-				c.g(pt.Y.Points())
-			}
+			c.polyline(ring)
 			if len(ring) > 0 {
 				c.buf.WriteByte('Z')
 			}
@@ -276,6 +258,21 @@ func (c *Canvas) fill(path vg.Path, rings [][]vg.Point) {
 		c.buf.WriteByte(' ') // vgsvg's empty style leaves a second space
 	}
 	c.buf.WriteString("/>\n")
+}
+
+// polyline writes the path data of a move to pts[0] and lines to the
+// others, as pathData writes those components.
+func (c *Canvas) polyline(pts []vg.Point) {
+	for i, pt := range pts {
+		if i == 0 {
+			c.buf.WriteByte('M')
+		} else {
+			c.buf.WriteByte('L')
+		}
+		c.g(pt.X.Points())
+		c.buf.WriteByte(',')
+		c.g(pt.Y.Points())
+	}
 }
 
 // pathData writes the d attribute of path.
