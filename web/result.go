@@ -234,16 +234,6 @@ const FigureWidthPx = 1100
 // bench figures rather than with the response (when it has a bench panel).
 var benchPlots = map[string]bool{"step-svg": true}
 
-// drawSVG runs draw into a buffer and returns the SVG as a component to
-// inline, its XML prolog and doctype removed (see [drawSVGText]).
-func drawSVG(draw func(io.Writer) error) (templ.Component, error) {
-	text, err := drawSVGText(draw)
-	if err != nil {
-		return nil, err
-	}
-	return templ.Raw(text), nil
-}
-
 // svgFrame holds the pooled buffers of one page's drawings until the page
 // is written: copying each drawing into a string (so that its buffer could
 // go back to the pool at once) was a tenth of a page view's allocation. A
@@ -253,7 +243,8 @@ type svgFrame struct {
 	bufs []*bytes.Buffer
 }
 
-// drawSVG is [drawSVG] with the drawing kept in f's buffers.
+// drawSVG runs draw and returns the SVG as a component to inline, its XML
+// prolog and doctype removed (see [svgFrame.draw]).
 func (f *svgFrame) drawSVG(draw func(io.Writer) error) (templ.Component, error) {
 	c, _, err := f.draw(draw)
 	return c, err
