@@ -493,20 +493,6 @@ func drawLegend(dc draw.Canvas, lg legend, starts []int, x0, top vg.Length) {
 // finite reports whether v is neither NaN nor infinite.
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-// points returns the (x, y) pairs with both finite, y clamped to [lo, hi].
-func points(xs, ys []float64, lo, hi float64) plotter.XYs {
-	out := make(plotter.XYs, 0, len(xs))
-	for i, x := range xs {
-		if i >= len(ys) || !finite(x) || math.IsNaN(ys[i]) {
-			continue
-		}
-		if y := min(max(ys[i], lo), hi); finite(y) {
-			out = append(out, plotter.XY{X: x, Y: y})
-		}
-	}
-	return out
-}
-
 // curve is a line on a plot, with its legend name. It hides the
 // GlyphBoxes and DataRange methods of plotter.Line: the axis ranges are
 // set explicitly, and plot.Plot would otherwise ask for one glyph box per
@@ -517,9 +503,8 @@ type curve struct {
 	src  *series // the points, computed as they are drawn (nil: line.XYs)
 }
 
-// series is what points and log10Points would make of a curve's data,
-// computed as the curve is drawn rather than kept as plotter.XYs: the
-// pairs (xs[i]·xk, ys[i]·yk) with x finite and y not NaN, y clamped to
+// series is a curve's data as drawn, computed as the curve is drawn
+// rather than kept as plotter.XYs: the pairs (xs[i]·xk, ys[i]·yk) with x finite and y not NaN, y clamped to
 // [lo, hi] and dropped unless finite, then log10 of y when log10 is set.
 // A multiplier of 0 stands for none.
 type series struct {
