@@ -491,7 +491,8 @@ func opacity(clr color.Color) float64 {
 	}
 	_, _, _, a := clr.RGBA()
 	v := float64(a) / math.MaxUint16
-	if s := strconv.FormatFloat(v, 'g', pr, 64); s == "1" {
+	var b [32]byte
+	if s := appendG(b[:0], v); string(s) == "1" { // no string made
 		return 1
 	}
 	return v
