@@ -132,6 +132,7 @@ func passbandCurves(d *synth.Design, sw *sweep, tfs circuit.Cascade, lo, hi floa
 	switch {
 	case tfs != nil:
 		built = tfs.MagnitudeDB(nil, f)
+		builtLoad(d).ApplyDB(built, f)
 	case sw.builtDB != nil:
 		// No circuit to evaluate, only its curve on the sweep's grid.
 		var bf, bv []float64

@@ -152,11 +152,24 @@ func InlineSVG(b []byte) []byte {
 // three plots of one design, and the nodal analysis behind them was a
 // tenth of the time to draw them.
 func asBuilt(d *synth.Design) circuit.Cascade {
-	return builtStages.get(d, computeAsBuilt)
+	return builtStages.get(d, computeAsBuilt).tfs
 }
 
-// builtStages remembers asBuilt's answers.
-var builtStages = &designMemo[circuit.Cascade]{}
+// builtLoad returns the inter-stage loading of the design's chain (see
+// circuit.Loading), empty when it has none or no circuit, remembered with
+// asBuilt's stages.
+func builtLoad(d *synth.Design) circuit.Loading {
+	return builtStages.get(d, computeAsBuilt).load
+}
+
+// builtChain is what asBuilt and builtLoad remember of a design.
+type builtChain struct {
+	tfs  circuit.Cascade
+	load circuit.Loading
+}
+
+// builtStages remembers asBuilt's and builtLoad's answers.
+var builtStages = &designMemo[builtChain]{}
 
 // memoEntries bounds the designs a designMemo remembers.
 const memoEntries = 16
@@ -199,17 +212,21 @@ func (m *designMemo[V]) get(d *synth.Design, compute func(*synth.Design) V) V {
 	return v
 }
 
-// computeAsBuilt is asBuilt without the memo.
-func computeAsBuilt(d *synth.Design) circuit.Cascade {
+// computeAsBuilt is asBuilt and builtLoad without the memo.
+func computeAsBuilt(d *synth.Design) builtChain {
 	ch, err := d.Chain()
 	if err != nil {
-		return nil
+		return builtChain{}
 	}
 	tfs, err := ch.TransferFunctions()
 	if err != nil {
-		return nil
+		return builtChain{}
 	}
-	return tfs
+	load, err := ch.Loading()
+	if err != nil {
+		return builtChain{tfs: tfs}
+	}
+	return builtChain{tfs: tfs, load: load}
 }
 
 // usable returns tfs, or nil if a stage has a coefficient that is not

@@ -82,6 +82,7 @@ func newSweep(d *synth.Design, tfs circuit.Cascade) *sweep {
 	if tfs != nil {
 		if sw.builtDB == nil {
 			sw.builtDB = tfs.MagnitudeDB(nil, sw.f)
+			builtLoad(d).ApplyDB(sw.builtDB, sw.f)
 		}
 		if h, ok := cascadeZPK(tfs); ok {
 			sw.builtPh = response.PhaseDeg(nil, h, sw.f)

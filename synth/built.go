@@ -165,18 +165,20 @@ func (d *Design) sectionHints() []float64 {
 }
 
 // judgeBuilt applies the acceptance rule to the board as built (the
-// chain's cascade of rational transfer functions) and fills d.Built.
-func (d *Design) judgeBuilt(tfs circuit.Cascade) {
+// chain's cascade of rational transfer functions with its inter-stage
+// loading) and fills d.Built.
+func (d *Design) judgeBuilt(tfs circuit.Cascade, load circuit.Loading) {
 	m := d.Spec.acceptMask()
 	plan := accept.NewPlan(m, bandGrid(m, fullPointsPerDecade), d.sectionHints())
 	eval := func(f float64) float64 {
-		return dbOf(tfs.AtHz(f))
+		return dbOf(tfs.AtHz(f)) + load.DBAt(f)
 	}
 	grid := plan.Grid()
 	db := make([]float64, len(grid))
 	for i, f := range grid {
-		db[i] = eval(f)
+		db[i] = dbOf(tfs.AtHz(f))
 	}
+	load.ApplyDB(db, grid)
 	r := plan.Judge(db, eval, accept.Full)
 	d.Built = newBuiltReport(r, d.Spec)
 	for _, t := range tfs {
@@ -189,7 +191,7 @@ func (d *Design) judgeBuilt(tfs circuit.Cascade) {
 	if d.Built.Unstable {
 		d.Built.MeetsMask = false
 	}
-	d.chainTFs = tfs
+	d.chainTFs, d.chainLoad = tfs, load
 }
 
 // dbOf returns 20·log10|h|.

@@ -105,6 +105,9 @@ type Design struct {
 	nodeDC   map[string]float64 // DC error of each swing node, by deck node name
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
+	// chainLoad is the chain's inter-stage loading, which the response as
+	// built carries beside chainTFs' product.
+	chainLoad circuit.Loading
 }
 
 // TransferFunction returns the design's whole transfer function, in rad/s.
@@ -330,8 +333,14 @@ func SynthesizeTo(ctx context.Context, s Spec, level Level) (*Design, error) {
 	if err != nil {
 		return nil, fmt.Errorf("synth: as-built response: %w", err)
 	}
-	d.Response.RealizedDB = floorDB(tfs.MagnitudeDB(nil, d.Response.FreqHz))
-	d.judgeBuilt(tfs)
+	load, err := d.chain.Loading()
+	if err != nil {
+		return nil, fmt.Errorf("synth: as-built response: %w", err)
+	}
+	realized := tfs.MagnitudeDB(nil, d.Response.FreqHz)
+	load.ApplyDB(realized, d.Response.FreqHz)
+	d.Response.RealizedDB = floorDB(realized)
+	d.judgeBuilt(tfs, load)
 	if level == Circuits {
 		return d, nil
 	}

@@ -147,10 +147,10 @@ func (d *Design) monteCarloPlan(base []float64) *accept.Plan {
 	if len(m.Alias) > 0 {
 		keep := m.Alias[:0:0]
 		for _, b := range m.Alias {
-			worst := math.Max(dbOf(d.chainTFs.AtHz(b.LoHz)), dbOf(d.chainTFs.AtHz(b.HiHz)))
+			worst := math.Max(dbOf(d.chainTFs.AtHz(b.LoHz))+d.chainLoad.DBAt(b.LoHz), dbOf(d.chainTFs.AtHz(b.HiHz))+d.chainLoad.DBAt(b.HiHz))
 			for _, f := range r.Extremes {
 				if f >= b.LoHz && f <= b.HiHz {
-					worst = math.Max(worst, dbOf(d.chainTFs.AtHz(f)))
+					worst = math.Max(worst, dbOf(d.chainTFs.AtHz(f))+d.chainLoad.DBAt(f))
 				}
 			}
 			if worst >= r.AliasWorstDB-aliasKeepDB {

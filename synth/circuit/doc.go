@@ -37,9 +37,11 @@
 //
 // so |A| falls through 1 near the gain-bandwidth product. The ideal model
 // is a nullor: V(+) = V(−), no input current, an output current that is
-// whatever the circuit needs. Both have zero output impedance, so a stage
-// does not load the one before it and the chain's response is exactly the
-// product of its stages' responses.
+// whatever the circuit needs. Both have zero output impedance, so without
+// an output resistance a stage does not load the one before it and the
+// chain's response is exactly the product of its stages' responses. With
+// one ([Model.OutputResistanceOhm]) each boundary adds the factor
+// 1/(1 + Zout·Yin) of [Chain.Loading].
 //
 // In the SPICE deck the single-pole op-amp is a subcircuit: a 1 S
 // transconductance G1 drives the node n1 loaded by R1 = A0 Ohm parallel

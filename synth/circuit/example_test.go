@@ -88,3 +88,40 @@ func ExampleRational_DominantPair() {
 	// Output:
 	// 3 poles; f0 = 1072 Hz, Q = 0.7422
 }
+
+// An inverting gain stage of 2.2 driving a 1 kΩ / 10 nF follower lowpass,
+// on a 1 MHz op-amp with 200 Ω of open-loop output resistance: the
+// follower's input loads the first op-amp's output, slightly at 1 kHz,
+// where its loop gain is large, and more at 100 kHz.
+func ExampleChain_Loading() {
+	inv := circuit.Stage{
+		Topology: "inverting",
+		Parts: []circuit.Part{
+			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
+			{Ref: "R2", Kind: circuit.Resistor, A: "n1", B: "out", Value: 2.2e3},
+		},
+		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "0", Minus: "n1", Out: "out"}},
+		Out:    "out",
+	}
+	rc := circuit.Stage{
+		Topology: "rc-buffer",
+		Parts: []circuit.Part{
+			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
+			{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: "0", Value: 10e-9},
+		},
+		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n1", Minus: "out", Out: "out"}},
+		Out:    "out",
+	}
+	ch := circuit.Chain{Stages: []circuit.Stage{inv, rc}, Model: circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200}}
+	l, err := ch.Loading()
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, f := range []float64{1e3, 1e5} {
+		fmt.Printf("%g Hz: %.5f dB\n", f, l.DBAt(f))
+	}
+	// Output:
+	// 1000 Hz: 0.00035 dB
+	// 100000 Hz: -0.10227 dB
+}

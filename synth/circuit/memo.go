@@ -18,6 +18,7 @@ import (
 type Memo struct {
 	mu sync.Mutex
 	m  map[string]Rational
+	p  map[string][2]Rational // Stage.ports: Zout and Yin
 }
 
 // memoMax bounds a Memo (one design has a few dozen distinct stage
@@ -25,7 +26,7 @@ type Memo struct {
 const memoMax = 256
 
 // NewMemo returns an empty memo.
-func NewMemo() *Memo { return &Memo{m: map[string]Rational{}} }
+func NewMemo() *Memo { return &Memo{m: map[string]Rational{}, p: map[string][2]Rational{}} }
 
 // TransferFunction is [Stage.TransferFunction] through the memo.
 func (mm *Memo) TransferFunction(st Stage, m Model) (Rational, error) {
@@ -51,16 +52,58 @@ func (mm *Memo) transfer(st Stage, m Model, t *nodeTable, scale float64, node st
 	if ok {
 		return r.clone(), nil
 	}
+	// With an output resistance, a single-ended stage's transfer to its
+	// output comes with its ports (for Chain.Loading) from the same
+	// factorisations.
+	if m.OutputResistanceOhm > 0 && !m.Ideal && !st.Differential() && node == st.Out && scale == 0 {
+		if r, z, y, err := st.nodeTransferPorts(m, t, scale, node, true); err == nil {
+			mm.mu.Lock()
+			if len(mm.m)+len(mm.p)+2 <= memoMax {
+				mm.m[key] = r.clone()
+				mm.p[memoKey(st, m, portsNode, 0)] = [2]Rational{z, y}
+			}
+			mm.mu.Unlock()
+			return r, nil
+		}
+	}
 	r, err := st.nodeTransfer(m, t, scale, node)
 	if err != nil {
 		return r, err
 	}
 	mm.mu.Lock()
-	if len(mm.m) < memoMax {
+	if len(mm.m)+len(mm.p) < memoMax {
 		mm.m[key] = r.clone()
 	}
 	mm.mu.Unlock()
 	return r, nil
+}
+
+// portsNode is the node of a memo key for a stage's port functions (see
+// Stage.ports): no node is named with a NUL.
+const portsNode = "\x00ports"
+
+// ports is Stage.ports through the memo (a nil memo computes).
+func (mm *Memo) ports(st Stage, m Model) (zout, yin Rational, err error) {
+	if mm == nil {
+		return st.ports(m)
+	}
+	key := memoKey(st, m, portsNode, 0)
+	mm.mu.Lock()
+	r, ok := mm.p[key]
+	mm.mu.Unlock()
+	if ok {
+		return r[0], r[1], nil // shared: Loading only reads them
+	}
+	zout, yin, err = st.ports(m)
+	if err != nil {
+		return zout, yin, err
+	}
+	mm.mu.Lock()
+	if len(mm.m)+len(mm.p) < memoMax {
+		mm.p[key] = [2]Rational{zout, yin}
+	}
+	mm.mu.Unlock()
+	return zout, yin, nil
 }
 
 // clone returns r with coefficient slices of its own.

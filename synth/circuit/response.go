@@ -11,9 +11,10 @@ import (
 type Cascade []Rational
 
 // TransferFunctions validates the chain and returns each stage's
-// [Stage.TransferFunction] with the chain's model, in stage order. The
-// chain's response is their product (every stage output is an op-amp
-// output, which no later stage loads).
+// [Stage.TransferFunction] with the chain's model, in stage order, each
+// with its output open. The chain's response is their product, times the
+// inter-stage loading of [Chain.Loading] when the op-amps have an output
+// resistance.
 func (c Chain) TransferFunctions() (Cascade, error) {
 	if len(c.Stages) == 0 {
 		return nil, invalidf("chain has no stages")
@@ -191,7 +192,8 @@ func checkFreqs(freqHz []float64) error {
 // Response returns the chain's voltage transfer V(out)/V(in) at each
 // frequency of freqHz (finite, ≥ 0), in dst as for [Cascade.Response]. It
 // computes every stage's rational transfer function once (see
-// [Chain.TransferFunctions]) and evaluates their product; callers that
+// [Chain.TransferFunctions]) and evaluates their product, times the
+// inter-stage loading (see [Chain.Loading]); callers that
 // sweep the same chain repeatedly can keep the [Cascade] instead. It
 // returns an error wrapping [ErrInvalid] for an invalid chain or
 // frequency, or one wrapping [ErrSingular].
@@ -203,7 +205,13 @@ func (c Chain) Response(dst []complex128, freqHz []float64) ([]complex128, error
 	if err != nil {
 		return nil, err
 	}
-	return tfs.Response(dst, freqHz), nil
+	load, err := c.Loading()
+	if err != nil {
+		return nil, err
+	}
+	dst = tfs.Response(dst, freqHz)
+	load.Apply(dst, freqHz)
+	return dst, nil
 }
 
 // MagnitudeDB returns 20·log10|V(out)/V(in)| at each frequency of freqHz,
@@ -216,5 +224,11 @@ func (c Chain) MagnitudeDB(dst []float64, freqHz []float64) ([]float64, error) {
 	if err != nil {
 		return nil, err
 	}
-	return tfs.MagnitudeDB(dst, freqHz), nil
+	load, err := c.Loading()
+	if err != nil {
+		return nil, err
+	}
+	dst = tfs.MagnitudeDB(dst, freqHz)
+	load.ApplyDB(dst, freqHz)
+	return dst, nil
 }

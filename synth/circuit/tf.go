@@ -180,6 +180,15 @@ func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) 
 // (for a differential stage: both halves, the common-mode poles
 // cancelled by cancelCommon where they cancel).
 func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
+	r, _, _, err := st.nodeTransferPorts(m, t, scale, node, false)
+	return r, err
+}
+
+// nodeTransferPorts is nodeTransferFull that, with ports, also returns the
+// stage's output impedance and input admittance (see Stage.ports) from
+// the same interpolation: one factorisation per circle point serves the
+// three. ports needs a single-ended stage whose node is its output.
+func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node string, ports bool) (r, zout, yin Rational, err error) {
 	own := st
 	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)
@@ -187,14 +196,26 @@ func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node stri
 		scale = natural
 	}
 	if !finitePositive(scale) {
-		return Rational{}, invalidf("scale %v rad/s is not finite and > 0", scale)
+		return Rational{}, Rational{}, Rational{}, invalidf("scale %v rad/s is not finite and > 0", scale)
 	}
 	// Interpolate at the stage's natural scale, where the matrix entries
 	// are of order one on the unit circle, then change variable exactly:
 	// p_natural = p·(scale/natural).
 	sys := compile(st, m, t, natural)
 	sys.outCol = sys.col(t, node)
-	num, den := sys.interpolate()
+	var num, den []float64
+	if ports {
+		var nz, ny []float64
+		var perr error
+		num, den, nz, ny, perr = sys.interpolatePorts()
+		if perr != nil {
+			return Rational{}, Rational{}, Rational{}, perr
+		}
+		_, rn := stageScale(st, m)
+		zout, yin = portRationals(den, nz, ny, rn, natural)
+	} else {
+		num, den = sys.interpolate()
+	}
 	if k := scale / natural; k != 1 {
 		kj := 1.0
 		for j := range num {
@@ -205,17 +226,17 @@ func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node stri
 	}
 	lo := slices.IndexFunc(den, func(v float64) bool { return v != 0 })
 	if lo < 0 {
-		return Rational{}, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
+		return Rational{}, Rational{}, Rational{}, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
 	}
 	d := den[lo]
 	for i := range num {
 		num[i] /= d
 		den[i] /= d
 		if math.IsInf(num[i], 0) || math.IsNaN(num[i]) || math.IsInf(den[i], 0) || math.IsNaN(den[i]) {
-			return Rational{}, invalidf("scale %v rad/s is too far from the stage's natural scale %v rad/s", scale, natural)
+			return Rational{}, Rational{}, Rational{}, invalidf("scale %v rad/s is too far from the stage's natural scale %v rad/s", scale, natural)
 		}
 	}
-	r := Rational{Num: trimPoly(num), Den: trimPoly(den), ScaleRadPerSec: scale}
+	r = Rational{Num: trimPoly(num), Den: trimPoly(den), ScaleRadPerSec: scale}
 	if node == DiffOut {
 		// The common-mode poles of a differential stage's two halves
 		// are in det A; with matched halves the differential output
@@ -223,7 +244,7 @@ func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node stri
 		r = r.cancelCommon()
 	}
 	r.SectionOrder = own.SectionOrderOf(len(r.Den)-1, m)
-	return r, nil
+	return r, zout, yin, nil
 }
 
 // trimPoly drops trailing zero coefficients, keeping at least one.

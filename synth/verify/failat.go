@@ -58,6 +58,15 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 	if err != nil {
 		return nil, err
 	}
+	// The nominal inter-stage loading (circuit.Loading) rides on every
+	// board: a part's change moves it by far less than its own size.
+	load, err := ch.Loading()
+	if err != nil {
+		return nil, err
+	}
+	loadDB := make([]float64, len(freqHz))
+	load.ApplyDB(loadDB, freqHz)
+	loadAt := load.DBAt
 	slopes := make([]circuit.PartSlopes, len(ch.Stages))
 	for k, st := range ch.Stages {
 		if slopes[k], err = st.Slopes(ch.Model, tfs[k].ScaleRadPerSec); err != nil {
@@ -66,7 +75,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 	}
 	// Each stage's nominal response on the grid, and the chain's.
 	stageDB := make([][]float64, len(tfs))
-	total := make([]float64, len(freqHz))
+	total := append([]float64(nil), loadDB...)
 	for k, r := range tfs {
 		stageDB[k] = make([]float64, len(freqHz))
 		for i, f := range freqHz {
@@ -85,7 +94,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 	board := func(k, j int, a float64) float64 {
 		if k < 0 {
 			copy(db, total)
-			return finiteMargin(margin(db, func(f float64) float64 { return dbOfComplex(tfs.AtHz(f)) }))
+			return finiteMargin(margin(db, func(f float64) float64 { return dbOfComplex(tfs.AtHz(f)) + loadAt(f) }))
 		}
 		num, den = slopes[k].At(j, a, num, den)
 		r := circuit.Rational{Num: num, Den: den, ScaleRadPerSec: slopes[k].ScaleRadPerSec}
@@ -93,7 +102,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 			db[i] = others[i] + dbOfComplex(r.AtHz(f))
 		}
 		return finiteMargin(margin(db, func(f float64) float64 {
-			v := dbOfComplex(r.AtHz(f))
+			v := dbOfComplex(r.AtHz(f)) + loadAt(f)
 			for i, t := range tfs {
 				if i != k {
 					v += dbOfComplex(t.AtHz(f))
@@ -110,7 +119,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 			continue // the nominal board fails: every figure is 0
 		}
 		for i := range others {
-			others[i] = 0
+			others[i] = loadDB[i]
 			for m := range stageDB {
 				if m != k {
 					others[i] += stageDB[m][i]

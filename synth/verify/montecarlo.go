@@ -342,6 +342,19 @@ type chainModel struct {
 	// the response is computed in one pass over the grid as well
 	// (fused7Response).
 	fused7 bool
+	// load is the nominal board's inter-stage loading (see
+	// circuit.Loading), loadDB its 20·log10|L| on the grid: every trial's
+	// response carries it (part tolerances move it by far less than its
+	// own small size).
+	load   circuit.Loading
+	loadDB []float64
+}
+
+// addLoad adds the nominal inter-stage loading to a response on the grid.
+func (cm *chainModel) addLoad(db []float64) {
+	for i, v := range cm.loadDB {
+		db[i] += v
+	}
 }
 
 // newChainModel validates the run's inputs and prepares the stages.
@@ -396,6 +409,15 @@ func buildChainModel(ch circuit.Chain, tol Tolerance, opt MonteCarloOptions, mod
 	cm.grid = append(slices.Clip(opt.FreqHz), nil...)
 	for _, e := range opt.Edges {
 		cm.grid = append(cm.grid, e.FreqHz)
+	}
+	load, err := ch.Loading()
+	if err != nil {
+		return nil, fmt.Errorf("montecarlo: %w", err)
+	}
+	if !load.Empty() {
+		cm.load = load
+		cm.loadDB = make([]float64, len(cm.grid))
+		load.ApplyDB(cm.loadDB, cm.grid)
 	}
 	cache := expansionCache{}
 	for k, st := range ch.Stages {
@@ -518,8 +540,14 @@ func newWorker(cm *chainModel, trials int) *worker {
 }
 
 // responseDB returns the current board's magnitude response at fHz, in
-// dB: the product of its stages' rational forms, as analyse left them.
+// dB: the product of its stages' rational forms, as analyse left them,
+// with the nominal inter-stage loading.
 func (w *worker) responseDB(fHz float64) float64 {
+	return w.stagesDB(fHz) + w.cm.load.DBAt(fHz)
+}
+
+// stagesDB is responseDB without the loading.
+func (w *worker) stagesDB(fHz float64) float64 {
 	cm := w.cm
 	var l float64 // ln of the squared magnitude
 	if cm.fused {
@@ -689,21 +717,21 @@ func (w *worker) analyse() error {
 			rj *= rho
 		}
 	}
-	if cm.fused {
+	switch {
+	case cm.fused:
 		fusedResponse(w.db, cm.xr, cm.ur, w.coef)
-		return nil
-	}
-	if cm.fused7 {
+	case cm.fused7:
 		fused7Response(w.db, cm.xr, cm.ur, w.coef7)
-		return nil
-	}
-	copy(w.db, w.mag2)
-	dbInPlace(w.db)
-	for f, l := range w.lexp {
-		if l != 0 {
-			w.db[f] += 10 * l
+	default:
+		copy(w.db, w.mag2)
+		dbInPlace(w.db)
+		for f, l := range w.lexp {
+			if l != 0 {
+				w.db[f] += 10 * l
+			}
 		}
 	}
+	cm.addLoad(w.db)
 	return nil
 }
 

@@ -1,0 +1,81 @@
+package main
+
+import (
+	"context"
+	"math"
+	"math/cmplx"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/require"
+
+	"github.com/polewright/polewright/synth"
+	"github.com/polewright/polewright/synth/circuit/spicerun"
+)
+
+// loadingSpecs are chains where each stage's input loads the op-amp
+// output before it through a large open-loop output resistance (200 Ω)
+// and a slow op-amp (1–5 MHz), scenarios of our own. unloadedDB is how
+// far, at least, the product of the unloaded stages strays from ngspice
+// somewhere above −120 dB: the loading is not negligible there.
+var loadingSpecs = []struct {
+	name, spec string
+	unloadedDB float64
+}{
+	{"multiple-feedback highpass, 1 MHz", `{"response": "highpass", "approximation": "butterworth", "passband_hz": 1000, "stopband_hz": 300,
+	  "stopband_atten_db": 60, "topology": "multiple-feedback", "opamp": {"gbw_hz": 1e6, "output_resistance_ohm": 200}}`, 0.05},
+	{"Chebyshev Sallen-Key lowpass, 2 MHz", `{"approximation": "chebyshev1", "passband_hz": 10000, "stopband_hz": 30000, "stopband_atten_db": 60,
+	  "topology": "sallen-key", "opamp": {"gbw_hz": 2e6, "output_resistance_ohm": 200}}`, 0.005},
+	{"elliptic with notch stages, 5 MHz", `{"approximation": "elliptic", "passband_hz": 10000, "stopband_hz": 15000, "stopband_atten_db": 60,
+	  "opamp": {"gbw_hz": 5e6, "output_resistance_ohm": 200}}`, 0.02},
+	{"Butterworth bandpass, 3 MHz", `{"response": "bandpass", "approximation": "butterworth", "passband_hz": [9000, 11000], "stopband_hz": [7000, 14000],
+	  "stopband_atten_db": 40, "opamp": {"gbw_hz": 3e6, "output_resistance_ohm": 100}}`, 0.002},
+}
+
+// TestLoadingAgainstNgspice runs each exported deck's .ac in ngspice
+// (Debian's ngspice, the outside reference; the deck has every op-amp's
+// output resistance inside its subcircuit, so each stage loads the one
+// before as on the board) and requires the design's as-built response
+// within 0.001 dB of it wherever it is above −120 dB, and the unloaded
+// stages' product to miss by at least unloadedDB somewhere (the check
+// would catch the loading being left out).
+func TestLoadingAgainstNgspice(t *testing.T) {
+	t.Parallel()
+	spicerun.Require(t)
+	for _, tc := range loadingSpecs {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			code, deck, errOut := runCLI(t, tc.spec, "export", "-spec", "-", "-as", "spice")
+			require.Equal(t, exitOK, code, errOut)
+			ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+			defer cancel()
+			freq, v, err := spicerun.RunAll(ctx, t.TempDir(), []byte(deck))
+			require.NoError(t, err)
+			s, err := synth.ParseSpecBytes([]byte(tc.spec))
+			require.NoError(t, err)
+			d, err := synth.Synthesize(context.Background(), s)
+			require.NoError(t, err)
+			ch, err := d.Chain()
+			require.NoError(t, err)
+			own, err := ch.MagnitudeDB(nil, freq)
+			require.NoError(t, err)
+			tfs, err := ch.TransferFunctions()
+			require.NoError(t, err)
+			plain := tfs.MagnitudeDB(nil, freq)
+			worst, at, miss := 0.0, 0.0, 0.0
+			for i, f := range freq {
+				if own[i] < -120 {
+					continue
+				}
+				sp := 20 * math.Log10(cmplx.Abs(v[0][i]))
+				if e := math.Abs(own[i] - sp); e > worst {
+					worst, at = e, f
+				}
+				miss = math.Max(miss, math.Abs(plain[i]-sp))
+			}
+			t.Logf("%s: as built vs ngspice %.2g dB at worst (%.4g Hz); unloaded stages %.4f dB", tc.name, worst, at, miss)
+			require.Less(t, worst, 0.001)
+			require.Greater(t, miss, tc.unloadedDB)
+		})
+	}
+}
