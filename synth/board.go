@@ -210,8 +210,18 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	// factored once (nil when one cannot be: the exact state space then).
 	modal, _ := step.NewModal(nil)
 	dcUp := 1.0
+	// stable: no stage so far has a pole in the right half-plane (the
+	// op-amps' gain-bandwidth can put one there). Past an unstable stage
+	// the step grows without bound: its extremes are left out (StepV
+	// nil), as the settling and built-mask checks already say why.
+	stable := true
 	for k, st := range ch.Stages {
 		stage := k + 1
+		for _, p := range tfs[k].Poles() {
+			if !(real(p) < 0) {
+				stable = false
+			}
+		}
 		sw := &Swing{Nodes: []SwingNode{}}
 		// The stage's listed nodes, and their transfers from its input in
 		// one nodal interpolation (the output's is tfs[k]).
@@ -254,7 +264,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			mid := ref + n.DCV // the node's DC level: the reference and its offset
 			n.SineV = [2]float64{mid - amp*n.GainMax, mid + amp*n.GainMax}
 			n.PeakV = n.SineV
-			if len(t) > 1 {
+			if len(t) > 1 && stable {
 				last := step.FromRational(r)
 				var y []float64
 				err := errors.New("no modal model")
@@ -278,8 +288,10 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 					}
 					lo = math.Min(lo, mid-amp*h0+2*amp*ymin)
 					hi = math.Max(hi, mid-amp*h0+2*amp*ymax)
-					n.StepV = &[2]float64{lo, hi}
-					n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
+					if isFinite(lo) && isFinite(hi) {
+						n.StepV = &[2]float64{lo, hi}
+						n.PeakV = [2]float64{math.Min(n.PeakV[0], lo), math.Max(n.PeakV[1], hi)}
+					}
 				}
 			}
 			if p := s.Supply; p != nil {
