@@ -117,6 +117,10 @@ func FuzzDesignFinite(f *testing.F) {
 		`{"response": "bandpass", "approximation": "butterworth", "order": 20, "passband_hz": [1e4, 1.001e4], ` + wide + `}`,
 		`{"passband_hz": 1000, "order": 20, "approximation": "elliptic", "stopband_atten_db": 120, "passband_ripple_db": 0.01, "montecarlo": {"trials": 20, "seed": 3}}`,
 		`{"response": "highpass", "approximation": "bessel", "order": 1, "passband_hz": 0.01, "opamp": {"ideal": true}, ` + wide + `}`,
+		// Output resistance on slow op-amps: every boundary loaded
+		// (circuit.Loading), through the Monte Carlo too, stable and not.
+		`{"passband_hz": 1000, "stopband_hz": 3000, "topology": "multiple-feedback", "opamp": {"gbw_hz": 1e5, "output_resistance_ohm": 500, "input_capacitance_farad": 1e-11}, "supply": {"positive_v": 5}, "montecarlo": {"trials": 20, "seed": 2}}`,
+		`{"response": "bandstop", "approximation": "elliptic", "passband_hz": [500, 2000], "stopband_hz": [800, 1250], "stopband_atten_db": 60, "opamp": {"gbw_hz": 2e5, "output_resistance_ohm": 1000}, "montecarlo": {"trials": 20, "seed": 2}, ` + wide + `}`,
 		// The new approximations at their extremes: order 20, the widest
 		// and narrowest phase ripple, a tiny and a large Amax.
 		`{"approximation": "linear-phase", "order": 20, "passband_hz": 1000, "phase_error_deg": 2}`,
