@@ -205,6 +205,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	for i := range up2 {
 		up2[i] = 1
 	}
+	var mag2 []float64 // scratch: one rational's |H|² on the grid
 	var upSteps []step.Stage
 	// The partial fractions of the stages before the current one, each
 	// factored once (nil when one cannot be: the exact state space then).
@@ -253,9 +254,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			// At DC first: the response grid starts above it.
 			n.GainMax = math.Abs(real(r.At(0)) * dcUp)
 			g2 := n.GainMax * n.GainMax
+			mag2 = r.Mag2Hz(mag2, freq)
 			for i, f := range freq {
-				h := r.AtHz(f)
-				if v := up2[i] * (real(h)*real(h) + imag(h)*imag(h)); v > g2 {
+				if v := up2[i] * mag2[i]; v > g2 {
 					g2, n.PeakHz = v, f
 				}
 			}
@@ -309,9 +310,9 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			sw.Nodes = append(sw.Nodes, n)
 		}
 		d.Sections[k].Swing = sw
-		for i, f := range freq {
-			h := tfs[k].AtHz(f)
-			up2[i] *= real(h)*real(h) + imag(h)*imag(h)
+		mag2 = tfs[k].Mag2Hz(mag2, freq)
+		for i := range up2 {
+			up2[i] *= mag2[i]
 		}
 		upSteps = append(upSteps, step.FromRational(tfs[k]))
 		if modal != nil && modal.Extend(upSteps[k]) != nil {

@@ -432,3 +432,40 @@ func fromRoots(roots []complex128) []float64 {
 	}
 	return out
 }
+
+// Mag2Hz returns |H(j2πf)|² for each f in freqHz, in dst (a new slice if
+// dst is shorter than freqHz): N and D split into even and odd powers
+// once, two real Horner evaluations each per frequency, and |N|²/|D|²
+// with no complex division. Where |D|² or |N|² leaves the range in which
+// that quotient is safe it falls back on [Rational.AtHz].
+func (r Rational) Mag2Hz(dst []float64, freqHz []float64) []float64 {
+	if len(dst) < len(freqHz) {
+		dst = make([]float64, len(freqHz))
+	}
+	dst = dst[:len(freqHz)]
+	if len(r.Num) > maxSplit || len(r.Den) > maxSplit {
+		for i, f := range freqHz {
+			h := r.AtHz(f)
+			dst[i] = real(h)*real(h) + imag(h)*imag(h)
+		}
+		return dst
+	}
+	var buf [4][maxSplit / 2]float64
+	ne, no := evenOdd(r.Num, buf[0][:0], buf[1][:0])
+	de, do := evenOdd(r.Den, buf[2][:0], buf[3][:0])
+	k := 2 * math.Pi / r.ScaleRadPerSec
+	for i, f := range freqHz {
+		x := k * f
+		u := -x * x
+		a, b := hornerU(ne, u), hornerU(no, u)*x
+		c, e := hornerU(de, u), hornerU(do, u)*x
+		n2, d2 := a*a+b*b, c*c+e*e
+		if d2 > 1e-300 && d2 < 1e300 && n2 < 1e300 {
+			dst[i] = n2 / d2
+		} else {
+			h := r.AtHz(f)
+			dst[i] = real(h)*real(h) + imag(h)*imag(h)
+		}
+	}
+	return dst
+}
