@@ -11,8 +11,9 @@ import (
 	"github.com/polewright/polewright/web"
 )
 
-// FuzzRequests sends arbitrary bodies to the JSON API and arbitrary
-// queries to the result page (a permalink): whatever arrives, the answer
+// FuzzRequests sends arbitrary bodies to the JSON API (the design, and
+// the export as an arbitrary KIND) and arbitrary queries to the result
+// page (a permalink): whatever arrives, the answer
 // is a design (200), a refusal with the reason beside a field (400, JSON
 // with "error" and "field" for the API), a body too large (413) or a
 // busy server (503), and for the page a redirect (303) from a form's
@@ -32,13 +33,15 @@ func FuzzRequests(f *testing.F) {
 		`{"passband_hz": -1}`, `{"passband_hz": 1e400}`, `{"order": 99, "passband_hz": 1000}`, `[]`, `{`, ``, `null`,
 		`{"passband_hz": 1000, "stopband_hz": 3000, "montecarlo": {"trials": 50, "seed": 3}}`,
 	} {
-		f.Add(s, "passband_hz=1000&stopband_hz=3000")
+		for _, kind := range []string{"spice", "bom", "json", "bode-svg", "delay-svg", "step-svg", "report", "nope"} {
+			f.Add(s, "passband_hz=1000&stopband_hz=3000", kind)
+		}
 	}
-	f.Add(`{}`, "response=bandpass&passband_hz=900,1100&stopband_hz=700,1400&approximation=chebyshev2")
-	f.Add(`{}`, "passband_hz=1000&order=3&opamp_gbw_hz=1e5&topology=multiple-feedback")
-	f.Add(`{}`, "passband_hz=1000,&order=%zz&gain_db=NaN")
+	f.Add(`{}`, "response=bandpass&passband_hz=900,1100&stopband_hz=700,1400&approximation=chebyshev2", "spice")
+	f.Add(`{}`, "passband_hz=1000&order=3&opamp_gbw_hz=1e5&topology=multiple-feedback", "bom")
+	f.Add(`{}`, "passband_hz=1000,&order=%zz&gain_db=NaN", "")
 	h := web.New(nil, web.Deps{MaxCostMs: 200})
-	f.Fuzz(func(t *testing.T, body, query string) {
+	f.Fuzz(func(t *testing.T, body, query, kind string) {
 		ok := map[int]bool{http.StatusOK: true, http.StatusBadRequest: true, http.StatusRequestEntityTooLarge: true, http.StatusServiceUnavailable: true}
 		req := httptest.NewRequest(http.MethodPost, "/api/v1/design", strings.NewReader(body))
 		req.Host = "localhost"
@@ -59,6 +62,24 @@ func FuzzRequests(f *testing.F) {
 		}
 		if rec.Code == http.StatusOK && !json.Valid(rec.Body.Bytes()) {
 			t.Fatalf("POST %q: the design is not JSON", body)
+		}
+		// The export of the same body, as KIND.
+		req = httptest.NewRequest(http.MethodPost, "/api/v1/export?"+url.Values{"as": {kind}}.Encode(), strings.NewReader(body))
+		req.Host = "localhost"
+		req.Header.Set("Content-Type", "application/json")
+		rec = httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		if !ok[rec.Code] {
+			t.Fatalf("POST export as %q %q: status %d: %s", kind, body, rec.Code, rec.Body.String())
+		}
+		if rec.Code == http.StatusBadRequest {
+			var e struct {
+				Error *string `json:"error"`
+				Field *string `json:"field"`
+			}
+			if err := json.Unmarshal(rec.Body.Bytes(), &e); err != nil || e.Error == nil || e.Field == nil || *e.Error == "" {
+				t.Fatalf("POST export as %q %q: a 400 without error and field: %s", kind, body, rec.Body.String())
+			}
 		}
 		vals, err := url.ParseQuery(query)
 		if err != nil {
