@@ -91,7 +91,7 @@ type boardDesign struct {
 //     sweep against gain_max within 2 % (the sine extremes are the
 //     reference ± signal_vpp/2 times it);
 //   - .ac of v(out) with the parasitics against the design's as-built
-//     response within 0.001 dB wherever it is above −120 dB, the largest
+//     response within 1e-6 dB wherever it is above −120 dB, the largest
 //     difference logged (the design analyses each stage with its
 //     op-amp's output resistance inside its own loop, and each stage's
 //     input loading the output of the one before: circuit.Loading);
@@ -186,7 +186,7 @@ func TestBoardAgainstNgspice(t *testing.T) {
 				}
 			}
 			t.Logf("%s: .op offset %.6g V (design %.6g V); as-built response vs ngspice: worst %.2g dB at %.4g Hz", tc.name, opOut-ref, d.DC.OutputOffsetV, worst, at)
-			require.Less(t, worst, 0.001)
+			require.Less(t, worst, 1e-6)
 
 			// .tran of the full-scale step, clipped by the limiter.
 			tmin, tmax := readTranExtremes(t, filepath.Join(dir, circuit.DefaultTranDataFile))

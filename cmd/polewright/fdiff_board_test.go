@@ -34,8 +34,8 @@ import (
 //     against gain_max within 2 % plus 1e-3 (a thousandth of the full
 //     scale: the inputs of a differentially driven FDA carry only
 //     microvolts per volt, which the deck's stage-to-stage loading through
-//     the output resistance, left out of the design as for single-ended
-//     chains, raises to about 2e-4).
+//     the output resistance, which the swing leaves out (it takes each
+//     stage unloaded), raises to about 2e-4).
 func TestDifferentialBoardAgainstNgspice(t *testing.T) {
 	t.Parallel()
 	spicerun.Require(t)

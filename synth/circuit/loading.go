@@ -13,44 +13,104 @@ import (
 // a stage is not a perfect voltage source: seen from the next stage it
 // has the Thévenin impedance Zout(s), which the stage's feedback holds
 // small while its loop gain is large and which approaches Ro (and, with
-// some networks, rises above it) where the loop gain falls. The next
-// stage's input admittance Yin(s) loads it, and the voltage passed on is
-// the stage's unloaded output times
+// some networks, rises above it) where the loop gain falls.
 //
-//	L(s) = 1 / (1 + Zout(s)·Yin(s)).
+// Each stage is a two-port between its input and its output:
 //
-// [Chain.TransferFunctions] gives each stage unloaded (its output open);
-// the chain's response as built is their product times every boundary's
-// L. Yin is the next stage's own, with its output open: the correction
-// that the stage after it makes to that admittance passes back through
-// the next stage's feedback and output impedance and is of second order
-// in Ro (the tests compare the result with the whole chain in ngspice).
-// Boundaries into or out of a differential pair are not corrected, nor is
-// any boundary when Ro is zero or the op-amp ideal (Zout is then zero).
+//	V(out) = H·V(in) + Zout·I,   I(in) = Yin·V(in) + T·I,
+//
+// with I the current injected into its output from outside and I(in) the
+// current its input draws; all four are rational functions with the
+// stage's nodal determinant as denominator. The last stage's output is
+// open; a stage loaded by the admittance YL (the next stage's input, as
+// loaded in turn) passes on G = H/(1 + Zout·YL) and draws
+// Yin − T·YL·G. The chain's response as built is the product of the
+// unloaded stages ([Chain.TransferFunctions]) times every loaded stage's
+// 1/(1 + Zout·YL): exact, boundary by boundary from the output back.
+// Matched fully differential stages are taken by their half circuits
+// (bisection), a single-ended-to-differential stage's input by the whole
+// stage; a boundary between stages of other forms is left uncorrected,
+// as is every boundary when Ro is zero or the op-amp ideal (Zout is then
+// zero).
 type Loading struct {
-	bounds []boundary
+	stages []stagePorts
+	joined []bool // joined[k]: the boundary after stage k is corrected
 }
 
-// boundary is the loading between two stages: Zout of the driving stage
-// in Ω, Yin of the driven one in S, each a rational function on its own
-// stage's scale.
-type boundary struct {
-	zout, yin Rational
+// stagePorts are a stage's two-port functions: the output side (Zout in
+// Ω, T, H over den, p = s/outScale) and the input side (Yin in S over
+// inDen, p = s/inScale), which differ only for a stage whose input is
+// taken whole and its output by its half.
+type stagePorts struct {
+	outOK, inOK       bool
+	outScale, inScale float64
+	den, zout, tr, h  []float64
+	inDen, yin        []float64
+	sameDen           bool // both sides from one nodal system: inDen is den
+}
+
+// portPolys are the four two-port numerators of one nodal system over its
+// determinant, at scale rad/s per unit p.
+type portPolys struct {
+	scale                 float64
+	den, h, zout, tr, yin []float64
 }
 
 // Empty reports whether no boundary is corrected (L = 1 everywhere).
-func (l Loading) Empty() bool { return len(l.bounds) == 0 }
+func (l Loading) Empty() bool {
+	for _, j := range l.joined {
+		if j {
+			return false
+		}
+	}
+	return true
+}
 
-// AtHz returns the product of the boundaries' factors L at fHz.
+// step visits stage k in the recursion at angular frequency w: yl is the
+// load of its output (0 when the boundary after it is not corrected). It
+// returns its factor's numerator and denominator, d and d + zout·yl
+// (both 1 when the stage is not loaded), and the load it puts on the
+// stage before, Yin − T·yl·H/(d·(d + zout·yl)) (0 when that boundary is
+// not corrected).
+func (l *Loading) step(k int, w float64, yl complex128) (num, den, ylPrev complex128) {
+	sp := &l.stages[k]
+	num, den = 1, 1
+	loaded := k < len(l.joined) && l.joined[k]
+	needIn := k > 0 && l.joined[k-1]
+	var tail complex128 // T·yl·G: the output's pull on the input current
+	var d complex128
+	if loaded {
+		x := w / sp.outScale
+		d = axisPoly(sp.den, x)
+		num, den = d, d+axisPoly(sp.zout, x)*yl
+		if needIn {
+			tail = div(axisPoly(sp.tr, x)*yl*axisPoly(sp.h, x), d*den)
+		}
+	}
+	if needIn {
+		x := w / sp.inScale
+		di := d
+		if !loaded || !sp.sameDen {
+			di = axisPoly(sp.inDen, x)
+		}
+		ylPrev = div(axisPoly(sp.yin, x), di) - tail
+	}
+	return num, den, ylPrev
+}
+
+// AtHz returns the loading's factor L, the product of every corrected
+// stage's 1/(1 + Zout·YL), at fHz.
 func (l Loading) AtHz(fHz float64) complex128 {
 	h := complex(1, 0)
+	if l.Empty() {
+		return h
+	}
 	w := 2 * math.Pi * fHz
-	for _, b := range l.bounds {
-		zn, zd := b.zout.axis(w / b.zout.ScaleRadPerSec)
-		yn, yd := b.yin.axis(w / b.yin.ScaleRadPerSec)
-		// 1/(1 + (zn/zd)(yn/yd)) = zd·yd / (zd·yd + zn·yn)
-		d := zd * yd
-		h = div(h*d, d+zn*yn)
+	var yl complex128
+	for k := len(l.stages) - 1; k >= 0; k-- {
+		var num, den complex128
+		num, den, yl = l.step(k, w, yl)
+		h = div(h*num, den)
 	}
 	return h
 }
@@ -65,86 +125,129 @@ func (l Loading) Apply(dst []complex128, freqHz []float64) {
 	}
 }
 
-// DBAt returns 20·log10|L| at fHz, the product of the boundaries'
-// factors, with one logarithm: |L|² = Π |zd·yd|² / |zd·yd + zn·yn|².
+// DBAt returns 20·log10|L| at fHz, from |num|²/|den|² of the stages'
+// factors with one logarithm while the products stay in range.
 func (l Loading) DBAt(fHz float64) float64 {
 	if l.Empty() {
 		return 0
 	}
 	w := 2 * math.Pi * fHz
-	num, den := 1.0, 1.0
-	for _, b := range l.bounds {
-		zn, zd := b.zout.axis(w / b.zout.ScaleRadPerSec)
-		yn, yd := b.yin.axis(w / b.yin.ScaleRadPerSec)
-		d := zd * yd
-		e := d + zn*yn
-		num *= real(d)*real(d) + imag(d)*imag(d)
-		den *= real(e)*real(e) + imag(e)*imag(e)
+	n2, d2, acc := 1.0, 1.0, 0.0
+	var yl complex128
+	for k := len(l.stages) - 1; k >= 0; k-- {
+		var num, den complex128
+		num, den, yl = l.step(k, w, yl)
+		n2 *= real(num)*real(num) + imag(num)*imag(num)
+		d2 *= real(den)*real(den) + imag(den)*imag(den)
+		if !(n2 > 1e-200 && n2 < 1e200 && d2 > 1e-200 && d2 < 1e200) {
+			acc += math.Log(n2) - math.Log(d2)
+			n2, d2 = 1, 1
+		}
 	}
-	if num > 1e-300 && num < 1e300 && den > 1e-300 && den < 1e300 {
-		return dbPerLn10 * lnRatio(num, den)
+	if acc == 0 {
+		return dbPerLn10 * lnRatio(n2, d2)
 	}
-	// Out of range (a determinant's zero on the axis, or huge values):
-	// the factors one by one.
-	return 20 * math.Log10(cmplx.Abs(l.AtHz(fHz)))
+	v := dbPerLn10 * (acc + math.Log(n2/d2))
+	if math.IsNaN(v) {
+		return 20 * math.Log10(cmplx.Abs(l.AtHz(fHz)))
+	}
+	return v
 }
 
 // dbPerLn10 is 10/ln 10: 10·log10(v) = dbPerLn10·ln(v).
 const dbPerLn10 = 10 / math.Ln10
 
-// ApplyDB adds the loading's 20·log10|L| at freqHz[i] to dst[i], as
-// [Loading.DBAt] does one frequency at a time, but boundary by boundary
-// over the whole grid (each polynomial split into even and odd powers
-// once, as sweepStage does) with one logarithm per frequency.
+// ApplyDB adds the loading's 20·log10|L| at freqHz[i] to dst[i]: the
+// recursion of [Loading.DBAt], stage by stage over the whole grid, each
+// polynomial split into even and odd powers once (as sweepStage does).
 func (l Loading) ApplyDB(dst []float64, freqHz []float64) {
 	if l.Empty() {
 		return
 	}
 	n := len(freqHz)
-	buf := make([]float64, 2*n)
-	num, den := buf[:n], buf[n:]
-	for i := range num {
-		num[i], den[i] = 1, 1
+	yl := make([]complex128, n)
+	buf := make([]float64, 3*n)
+	n2, d2, lacc := buf[:n], buf[n:2*n], buf[2*n:]
+	for i := range n2 {
+		n2[i], d2[i] = 1, 1
 	}
-	var split [8][maxSplit / 2]float64
-	for _, b := range l.bounds {
-		if len(b.zout.Num) > maxSplit || len(b.zout.Den) > maxSplit || len(b.yin.Num) > maxSplit || len(b.yin.Den) > maxSplit {
-			for i, f := range freqHz {
-				w := 2 * math.Pi * f
-				zn, zd := b.zout.axis(w / b.zout.ScaleRadPerSec)
-				yn, yd := b.yin.axis(w / b.yin.ScaleRadPerSec)
-				d := zd * yd
-				e := d + zn*yn
-				num[i] *= real(d)*real(d) + imag(d)*imag(d)
-				den[i] *= real(e)*real(e) + imag(e)*imag(e)
-			}
+	for k := len(l.stages) - 1; k >= 0; k-- {
+		sp := &l.stages[k]
+		loaded := k < len(l.joined) && l.joined[k]
+		needIn := k > 0 && l.joined[k-1]
+		if !loaded && !needIn {
+			clear(yl)
 			continue
 		}
-		zne, zno := evenOdd(b.zout.Num, split[0][:0], split[1][:0])
-		zde, zdo := evenOdd(b.zout.Den, split[2][:0], split[3][:0])
-		yne, yno := evenOdd(b.yin.Num, split[4][:0], split[5][:0])
-		yde, ydo := evenOdd(b.yin.Den, split[6][:0], split[7][:0])
-		kz, ky := 2*math.Pi/b.zout.ScaleRadPerSec, 2*math.Pi/b.yin.ScaleRadPerSec
+		var den, zout, tr, h, inDen, yin evenOddPoly
+		var ko, ki float64
+		if loaded {
+			den, zout = newEvenOddPoly(sp.den), newEvenOddPoly(sp.zout)
+			if needIn {
+				tr, h = newEvenOddPoly(sp.tr), newEvenOddPoly(sp.h)
+			}
+			ko = 2 * math.Pi / sp.outScale
+		}
+		shared := loaded && sp.sameDen
+		if needIn {
+			yin = newEvenOddPoly(sp.yin)
+			if !shared {
+				inDen = newEvenOddPoly(sp.inDen)
+			}
+			ki = 2 * math.Pi / sp.inScale
+		}
 		for i, f := range freqHz {
-			xz, xy := kz*f, ky*f
-			uz, uy := -xz*xz, -xy*xy
-			znr, zni := hornerU(zne, uz), hornerU(zno, uz)*xz
-			zdr, zdi := hornerU(zde, uz), hornerU(zdo, uz)*xz
-			ynr, yni := hornerU(yne, uy), hornerU(yno, uy)*xy
-			ydr, ydi := hornerU(yde, uy), hornerU(ydo, uy)*xy
-			dr, di := zdr*ydr-zdi*ydi, zdr*ydi+zdi*ydr
-			er, ei := dr+znr*ynr-zni*yni, di+znr*yni+zni*ynr
-			num[i] *= dr*dr + di*di
-			den[i] *= er*er + ei*ei
+			var tail, d complex128
+			if loaded {
+				x := ko * f
+				u := -x * x
+				d = den.at(x, u)
+				e := d + zout.at(x, u)*yl[i]
+				n2[i] *= real(d)*real(d) + imag(d)*imag(d)
+				d2[i] *= real(e)*real(e) + imag(e)*imag(e)
+				if !(n2[i] > 1e-200 && n2[i] < 1e200 && d2[i] > 1e-200 && d2[i] < 1e200) {
+					lacc[i] += math.Log(n2[i]) - math.Log(d2[i])
+					n2[i], d2[i] = 1, 1
+				}
+				if needIn {
+					tail = div(tr.at(x, u)*yl[i]*h.at(x, u), d*e)
+				}
+			}
+			if needIn {
+				x := ki * f
+				u := -x * x
+				di := d
+				if !shared {
+					di = inDen.at(x, u)
+				}
+				yl[i] = div(yin.at(x, u), di) - tail
+			} else {
+				yl[i] = 0
+			}
 		}
 	}
 	for i, f := range freqHz {
-		if a, b := num[i], den[i]; a > 1e-300 && a < 1e300 && b > 1e-300 && b < 1e300 {
-			dst[i] += dbPerLn10 * lnRatio(a, b)
-		} else {
-			dst[i] += 20 * math.Log10(cmplx.Abs(l.AtHz(f)))
+		v := dbPerLn10 * (lacc[i] + lnRatio(n2[i], d2[i]))
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			v = 20 * math.Log10(cmplx.Abs(l.AtHz(f)))
 		}
+		dst[i] += v
 	}
+}
+
+// evenOddPoly is a real polynomial split into its even and odd powers'
+// coefficients, for evaluation on the jω axis.
+type evenOddPoly struct{ even, odd []float64 }
+
+func newEvenOddPoly(c []float64) evenOddPoly {
+	var p evenOddPoly
+	p.even, p.odd = evenOdd(c, make([]float64, 0, (len(c)+1)/2), make([]float64, 0, len(c)/2))
+	return p
+}
+
+// at returns the polynomial at p = jx, with u = −x².
+func (p evenOddPoly) at(x, u float64) complex128 {
+	return complex(hornerU(p.even, u), hornerU(p.odd, u)*x)
 }
 
 // lnRatio returns ln(a/b) for positive a and b. The loading is mostly a
@@ -192,69 +295,103 @@ func (c Chain) Loading() (Loading, error) {
 	if err := m.Validate(); err != nil {
 		return Loading{}, err
 	}
-	// Each stage's ports once (a middle stage is both driven and driving).
-	type port struct {
-		zout, yin Rational
-		done      bool
+	n := len(c.Stages)
+	l := Loading{stages: make([]stagePorts, n), joined: make([]bool, n-1)}
+	for k := 0; k+1 < n; k++ {
+		from, to := c.Stages[k], c.Stages[k+1]
+		l.joined[k] = from.Differential() == to.DiffIn
 	}
-	ports := make([]port, len(c.Stages))
-	get := func(k int) (port, error) {
-		if !ports[k].done {
-			z, y, err := c.Memo.ports(c.Stages[k], m)
-			if err != nil {
-				return port{}, fmt.Errorf("stage %d (%s): ports: %w", k+1, c.Stages[k].Topology, err)
-			}
-			ports[k] = port{zout: z, yin: y, done: true}
-		}
-		return ports[k], nil
-	}
-	var l Loading
-	for k := 0; k+1 < len(c.Stages); k++ {
-		if c.Stages[k].Differential() || c.Stages[k+1].DiffIn {
+	for k, st := range c.Stages {
+		needOut := k < n-1 && l.joined[k]
+		needIn := k > 0 && l.joined[k-1]
+		if !needOut && !needIn {
 			continue
 		}
-		from, err := get(k)
+		sp, err := c.Memo.stagePorts(st, m, needOut, needIn)
 		if err != nil {
-			return Loading{}, err
+			return Loading{}, fmt.Errorf("stage %d (%s): ports: %w", k+1, st.Topology, err)
 		}
-		to, err := get(k + 1)
-		if err != nil {
-			return Loading{}, err
-		}
-		l.bounds = append(l.bounds, boundary{zout: from.zout, yin: to.yin})
+		l.stages[k] = sp
+	}
+	for k := range l.joined {
+		l.joined[k] = l.joined[k] && l.stages[k].outOK && l.stages[k+1].inOK
 	}
 	return l, nil
 }
 
-// ports returns a single-ended stage's output impedance Zout(s) in Ω (its
-// input held at 0 V) and input admittance Yin(s) in S (its output open),
-// with the model's parasitics, as rational functions sharing the nodal
-// determinant as denominator.
-func (st Stage) ports(m Model) (zout, yin Rational, err error) {
-	t, err := st.check()
-	if err != nil {
-		return Rational{}, Rational{}, err
+// stagePorts returns st's two-port functions for the sides asked for: a
+// single-ended stage's from its own nodal system, a matched differential
+// stage's output side (and, with a differential input, its input side)
+// from its half circuit, a single-ended-to-differential stage's input
+// side from the whole stage. A side that cannot be had is left not OK.
+func (mm *Memo) stagePorts(st Stage, m Model, out, in bool) (stagePorts, error) {
+	var sp stagePorts
+	whole := !st.Differential()
+	var half Stage
+	if !whole {
+		h, _, ok := st.matchedHalf()
+		if !ok {
+			out, in = false, in && !st.DiffIn
+		}
+		half = h
 	}
-	_, zout, yin, err = st.nodeTransferPorts(m, t, 0, st.Out, true)
-	return zout, yin, err
+	if out {
+		src := st
+		if !whole {
+			src = half
+		}
+		pp, err := mm.ports(src, m)
+		if err != nil {
+			return sp, err
+		}
+		sp.outOK, sp.outScale = true, pp.scale
+		sp.den, sp.zout, sp.tr, sp.h = pp.den, pp.zout, pp.tr, pp.h
+	}
+	if in {
+		src := st
+		if !whole && st.DiffIn {
+			src = half
+		}
+		pp, err := mm.ports(src, m)
+		if err != nil {
+			return sp, err
+		}
+		sp.inOK, sp.inScale = true, pp.scale
+		sp.inDen, sp.yin = pp.den, pp.yin
+		sp.sameDen = out && (whole || st.DiffIn)
+	}
+	return sp, nil
 }
 
-// interpolatePorts is interpolate with two more polynomials from the same
-// factorisations: the numerators of V(Out) with 1 injected into Out's
-// balance and the input at 0 (nz), and of the source's current unknown
-// under the unit drive (ny). It returns an error wrapping [ErrSingular]
-// when A is exactly singular at a sample point (interpolate alone then
-// falls back on Cramer's rule).
-func (sys *system) interpolatePorts() (num, den, nz, ny []float64, err error) {
+// ports returns a stage's two-port functions with the model's parasitics
+// (see [Loading]): its transfer from the input to Out, with Out open, and
+// Zout, T with the input at 0 V, all over the nodal determinant at the
+// stage's natural scale.
+func (st Stage) ports(m Model) (portPolys, error) {
+	t, err := st.check()
+	if err != nil {
+		return portPolys{}, err
+	}
+	_, pp, err := st.nodeTransferPorts(m, t, 0, st.Out, true)
+	return pp, err
+}
+
+// interpolatePorts is interpolate with three more polynomials from the
+// same factorisations: the numerators of the source's current unknown
+// under the unit drive (ny), and of V(Out) and the source's current
+// unknown with 1 in Out's balance and the input at 0 (nz, nt). It returns
+// an error wrapping [ErrSingular] when A is exactly singular at a sample
+// point (interpolate alone then falls back on Cramer's rule).
+func (sys *system) interpolatePorts() (num, den, nz, ny, nt []float64, err error) {
 	out := sys.outCol
 	src := sys.srcRow // the source's current unknown has the source row's index
 	var singular bool
-	c := sys.interpolateAll(4, func(p complex128, v []complex128) {
+	c := sys.interpolateAll(5, func(p complex128, v []complex128) {
 		sys.fill(p)
 		det := lu.Factor(sys.a, sys.n, sys.piv)
 		if det == 0 {
 			singular = true
-			v[0], v[1], v[2], v[3] = 0, 0, 0, 0
+			clear(v)
 			return
 		}
 		clear(sys.x)
@@ -264,28 +401,34 @@ func (sys *system) interpolatePorts() (num, den, nz, ny []float64, err error) {
 		clear(sys.x)
 		sys.x[out] = 1
 		lu.Solve(sys.a, sys.n, sys.piv, sys.x)
-		v[0], v[1], v[2], v[3] = det*h, det, det*sys.x[out], det*y
+		v[0], v[1], v[2], v[3], v[4] = det*h, det, det*sys.x[out], det*y, det*sys.x[src]
 	})
 	if singular {
-		return nil, nil, nil, nil, fmt.Errorf("%w: nodal matrix is singular on an interpolation circle", ErrSingular)
+		return nil, nil, nil, nil, nil, fmt.Errorf("%w: nodal matrix is singular on an interpolation circle", ErrSingular)
 	}
-	return c[0], c[1], c[2], c[3], nil
+	return c[0], c[1], c[2], c[3], c[4], nil
 }
 
-// portRationals forms Zout = rn·nz/den (Ω) and Yin = −ny/(rn·den) (S) at
+// newPortPolys forms the two-port numerators from interpolatePorts'
+// polynomials of a system whose admittances are normalised by rn, at
 // scale rad/s per unit p: the source's current unknown is −rn times the
 // current into the stage's input, and a unit entry in Out's balance
-// injects 1/rn A. den is copied (the caller goes on to scale its own).
-func portRationals(den, nz, ny []float64, rn, scale float64) (zout, yin Rational) {
-	d := trimPoly(append([]float64(nil), den...))
-	z := make([]float64, len(nz))
-	y := make([]float64, len(ny))
-	for i := range nz {
-		z[i] = nz[i] * rn
+// injects 1/rn A, so Zout = rn·nz, Yin = −ny/rn and T = −nt over den.
+// Every slice is a copy (the caller goes on to scale its own).
+func newPortPolys(num, den, nz, ny, nt []float64, rn, scale float64) portPolys {
+	pp := portPolys{scale: scale, den: trimPoly(append([]float64(nil), den...)), h: trimPoly(append([]float64(nil), num...))}
+	pp.zout = make([]float64, len(nz))
+	for i, v := range nz {
+		pp.zout[i] = v * rn
 	}
-	for i := range ny {
-		y[i] = -ny[i] / rn
+	pp.yin = make([]float64, len(ny))
+	for i, v := range ny {
+		pp.yin[i] = -v / rn
 	}
-	return Rational{Num: trimPoly(z), Den: d, ScaleRadPerSec: scale},
-		Rational{Num: trimPoly(y), Den: d, ScaleRadPerSec: scale}
+	pp.tr = make([]float64, len(nt))
+	for i, v := range nt {
+		pp.tr[i] = -v
+	}
+	pp.zout, pp.yin, pp.tr = trimPoly(pp.zout), trimPoly(pp.yin), trimPoly(pp.tr)
+	return pp
 }

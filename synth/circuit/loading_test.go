@@ -13,27 +13,26 @@ import (
 	ct "github.com/polewright/polewright/synth/circuit/circuittest"
 )
 
-// merged returns stages a and b as one stage, a's output driving b's
-// input at node "mid": the reference for two-stage loading, solved by one
-// nodal analysis of the whole circuit.
-func merged(t *testing.T, a, b circuit.Stage) circuit.Stage {
+// merged returns the stages as one stage, each stage's output driving
+// the next one's input (nodes "m1", "m2", …): the reference for the
+// loading, solved by one nodal analysis of the whole circuit.
+func merged(t *testing.T, stages ...circuit.Stage) circuit.Stage {
 	t.Helper()
-	node := func(prefix, n string) string {
-		switch n {
-		case "0":
+	last := len(stages) - 1
+	node := func(k int, n string) string {
+		switch {
+		case n == "0":
 			return n
-		case "in":
-			if prefix == "b" {
-				return "mid"
-			}
+		case n == "in" && k > 0:
+			return "m" + strconv.Itoa(k)
+		case n == "in":
 			return n
-		case "out":
-			if prefix == "a" {
-				return "mid"
-			}
+		case n == "out" && k < last:
+			return "m" + strconv.Itoa(k+1)
+		case n == "out":
 			return n
 		}
-		return prefix + n
+		return "s" + strconv.Itoa(k) + n
 	}
 	renumber := func(ref string, by int) string {
 		k, err := strconv.Atoi(ref[1:])
@@ -42,16 +41,15 @@ func merged(t *testing.T, a, b circuit.Stage) circuit.Stage {
 	}
 	var st circuit.Stage
 	st.Topology, st.Out = "merged", "out"
-	for i, s := range []circuit.Stage{a, b} {
-		prefix := []string{"a", "b"}[i]
+	for k, s := range stages {
 		for _, p := range s.Parts {
-			p.Ref = renumber(p.Ref, 40*i)
-			p.A, p.B = node(prefix, p.A), node(prefix, p.B)
+			p.Ref = renumber(p.Ref, 20*k)
+			p.A, p.B = node(k, p.A), node(k, p.B)
 			st.Parts = append(st.Parts, p)
 		}
 		for _, u := range s.OpAmps {
-			u.Ref = renumber(u.Ref, 40*i)
-			u.Plus, u.Minus, u.Out = node(prefix, u.Plus), node(prefix, u.Minus), node(prefix, u.Out)
+			u.Ref = renumber(u.Ref, 20*k)
+			u.Plus, u.Minus, u.Out = node(k, u.Plus), node(k, u.Minus), node(k, u.Out)
 			st.OpAmps = append(st.OpAmps, u)
 		}
 	}
@@ -194,4 +192,53 @@ func TestMag2HzSameAsAtHz(t *testing.T) {
 			require.InEpsilon(t, want, got[i], 1e-12, "rational %d at %g Hz", k, f)
 		}
 	}
+}
+
+// TestLoadingChainExact checks [circuit.Chain.Loading] on chains of three
+// and four stages against the whole chain solved as one circuit: the
+// recursion from the output back (each stage's input admittance as
+// loaded by the stages after it, through its reverse transmission T) is
+// exact, so the response must equal the merged circuit's to rounding. A
+// slow op-amp with 500 Ω of output resistance makes the loading large
+// (the test requires more than 0.5 dB somewhere in each chain) and the
+// stages' reverse transmission matter (the first-order correction alone,
+// each stage's input taken with its output open, misses by more than
+// 0.01 dB in one chain).
+func TestLoadingChainExact(t *testing.T) {
+	t.Parallel()
+	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 500, InputCapacitanceFarad: 3e-12}
+	chains := [][]circuit.Stage{
+		{ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
+		{ct.Inverting(1e3, 2.2e3), ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.MFBLP(1e3, 1e3, 1e3, 10e-9, 1e-9), ct.RCBuffer(1e3, 10e-9)},
+	}
+	freqs := []float64{100, 3e3, 2e4, 6e4, 2e5, 5e5}
+	firstMost := 0.0
+	for i, stages := range chains {
+		ch := circuit.Chain{Stages: stages, Model: m}
+		got, err := ch.Response(nil, freqs)
+		require.NoError(t, err)
+		tfs, err := ch.TransferFunctions()
+		require.NoError(t, err)
+		whole := merged(t, stages...)
+		most, first := 0.0, 0.0
+		for j, f := range freqs {
+			want, err := whole.SolveAt(m, complex(0, 2*math.Pi*f))
+			require.NoError(t, err)
+			require.InDelta(t, 0, cmplx.Abs(got[j]-want)/cmplx.Abs(want), 1e-9, "chain %d at %g Hz: %v against %v", i, f, got[j], want)
+			most = math.Max(most, math.Abs(20*math.Log10(cmplx.Abs(tfs.AtHz(f))/cmplx.Abs(want))))
+			// First order: each boundary with the driven stage's own
+			// input, its output open.
+			firstOrder := tfs.AtHz(f)
+			for k := 0; k+1 < len(stages); k++ {
+				l, err := circuit.Chain{Stages: stages[k : k+2], Model: m}.Loading()
+				require.NoError(t, err)
+				firstOrder *= l.AtHz(f)
+			}
+			first = math.Max(first, math.Abs(20*math.Log10(cmplx.Abs(firstOrder)/cmplx.Abs(want))))
+		}
+		require.Greater(t, most, 0.5, "chain %d: the loading should be large", i)
+		t.Logf("chain %d: loading up to %.3f dB; first order alone off by %.6f dB", i, most, first)
+		firstMost = math.Max(firstMost, first)
+	}
+	require.Greater(t, firstMost, 0.01, "the reverse transmission should matter in one chain")
 }

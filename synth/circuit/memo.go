@@ -18,7 +18,7 @@ import (
 type Memo struct {
 	mu sync.Mutex
 	m  map[string]Rational
-	p  map[string][2]Rational // Stage.ports: Zout and Yin
+	p  map[string]portPolys // Stage.ports
 }
 
 // memoMax bounds a Memo (one design has a few dozen distinct stage
@@ -26,7 +26,7 @@ type Memo struct {
 const memoMax = 256
 
 // NewMemo returns an empty memo.
-func NewMemo() *Memo { return &Memo{m: map[string]Rational{}, p: map[string][2]Rational{}} }
+func NewMemo() *Memo { return &Memo{m: map[string]Rational{}, p: map[string]portPolys{}} }
 
 // TransferFunction is [Stage.TransferFunction] through the memo.
 func (mm *Memo) TransferFunction(st Stage, m Model) (Rational, error) {
@@ -56,11 +56,11 @@ func (mm *Memo) transfer(st Stage, m Model, t *nodeTable, scale float64, node st
 	// output comes with its ports (for Chain.Loading) from the same
 	// factorisations.
 	if m.OutputResistanceOhm > 0 && !m.Ideal && !st.Differential() && node == st.Out && scale == 0 {
-		if r, z, y, err := st.nodeTransferPorts(m, t, scale, node, true); err == nil {
+		if r, pp, err := st.nodeTransferPorts(m, t, scale, node, true); err == nil {
 			mm.mu.Lock()
 			if len(mm.m)+len(mm.p)+2 <= memoMax {
 				mm.m[key] = r.clone()
-				mm.p[memoKey(st, m, portsNode, 0)] = [2]Rational{z, y}
+				mm.p[memoKey(st, m, portsNode, 0)] = pp
 			}
 			mm.mu.Unlock()
 			return r, nil
@@ -82,28 +82,29 @@ func (mm *Memo) transfer(st Stage, m Model, t *nodeTable, scale float64, node st
 // Stage.ports): no node is named with a NUL.
 const portsNode = "\x00ports"
 
-// ports is Stage.ports through the memo (a nil memo computes).
-func (mm *Memo) ports(st Stage, m Model) (zout, yin Rational, err error) {
+// ports is Stage.ports through the memo (a nil memo computes). The
+// polynomials are shared: callers only read them.
+func (mm *Memo) ports(st Stage, m Model) (portPolys, error) {
 	if mm == nil {
 		return st.ports(m)
 	}
 	key := memoKey(st, m, portsNode, 0)
 	mm.mu.Lock()
-	r, ok := mm.p[key]
+	pp, ok := mm.p[key]
 	mm.mu.Unlock()
 	if ok {
-		return r[0], r[1], nil // shared: Loading only reads them
+		return pp, nil
 	}
-	zout, yin, err = st.ports(m)
+	pp, err := st.ports(m)
 	if err != nil {
-		return zout, yin, err
+		return pp, err
 	}
 	mm.mu.Lock()
 	if len(mm.m)+len(mm.p) < memoMax {
-		mm.p[key] = [2]Rational{zout, yin}
+		mm.p[key] = pp
 	}
 	mm.mu.Unlock()
-	return zout, yin, nil
+	return pp, nil
 }
 
 // clone returns r with coefficient slices of its own.

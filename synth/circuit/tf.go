@@ -180,15 +180,15 @@ func (st Stage) nodeTransfer(m Model, t *nodeTable, scale float64, node string) 
 // (for a differential stage: both halves, the common-mode poles
 // cancelled by cancelCommon where they cancel).
 func (st Stage) nodeTransferFull(m Model, t *nodeTable, scale float64, node string) (Rational, error) {
-	r, _, _, err := st.nodeTransferPorts(m, t, scale, node, false)
+	r, _, err := st.nodeTransferPorts(m, t, scale, node, false)
 	return r, err
 }
 
 // nodeTransferPorts is nodeTransferFull that, with ports, also returns the
-// stage's output impedance and input admittance (see Stage.ports) from
-// the same interpolation: one factorisation per circle point serves the
-// three. ports needs a single-ended stage whose node is its output.
-func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node string, ports bool) (r, zout, yin Rational, err error) {
+// stage's two-port functions (see Stage.ports) from the same
+// interpolation: one factorisation per circle point serves them all.
+// ports needs node to be the stage's Out.
+func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node string, ports bool) (r Rational, pp portPolys, err error) {
 	own := st
 	st, t = st.withParasitics(m, t)
 	natural, _ := stageScale(st, m)
@@ -196,7 +196,7 @@ func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node str
 		scale = natural
 	}
 	if !finitePositive(scale) {
-		return Rational{}, Rational{}, Rational{}, invalidf("scale %v rad/s is not finite and > 0", scale)
+		return Rational{}, portPolys{}, invalidf("scale %v rad/s is not finite and > 0", scale)
 	}
 	// Interpolate at the stage's natural scale, where the matrix entries
 	// are of order one on the unit circle, then change variable exactly:
@@ -205,14 +205,14 @@ func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node str
 	sys.outCol = sys.col(t, node)
 	var num, den []float64
 	if ports {
-		var nz, ny []float64
+		var nz, ny, nt []float64
 		var perr error
-		num, den, nz, ny, perr = sys.interpolatePorts()
+		num, den, nz, ny, nt, perr = sys.interpolatePorts()
 		if perr != nil {
-			return Rational{}, Rational{}, Rational{}, perr
+			return Rational{}, portPolys{}, perr
 		}
 		_, rn := stageScale(st, m)
-		zout, yin = portRationals(den, nz, ny, rn, natural)
+		pp = newPortPolys(num, den, nz, ny, nt, rn, natural)
 	} else {
 		num, den = sys.interpolate()
 	}
@@ -226,14 +226,14 @@ func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node str
 	}
 	lo := slices.IndexFunc(den, func(v float64) bool { return v != 0 })
 	if lo < 0 {
-		return Rational{}, Rational{}, Rational{}, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
+		return Rational{}, portPolys{}, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
 	}
 	d := den[lo]
 	for i := range num {
 		num[i] /= d
 		den[i] /= d
 		if math.IsInf(num[i], 0) || math.IsNaN(num[i]) || math.IsInf(den[i], 0) || math.IsNaN(den[i]) {
-			return Rational{}, Rational{}, Rational{}, invalidf("scale %v rad/s is too far from the stage's natural scale %v rad/s", scale, natural)
+			return Rational{}, portPolys{}, invalidf("scale %v rad/s is too far from the stage's natural scale %v rad/s", scale, natural)
 		}
 	}
 	r = Rational{Num: trimPoly(num), Den: trimPoly(den), ScaleRadPerSec: scale}
@@ -244,7 +244,7 @@ func (st Stage) nodeTransferPorts(m Model, t *nodeTable, scale float64, node str
 		r = r.cancelCommon()
 	}
 	r.SectionOrder = own.SectionOrderOf(len(r.Den)-1, m)
-	return r, zout, yin, nil
+	return r, pp, nil
 }
 
 // trimPoly drops trailing zero coefficients, keeping at least one.
