@@ -51,15 +51,7 @@ func FuzzRequests(f *testing.F) {
 		if !ok[rec.Code] {
 			t.Fatalf("POST %q: status %d: %s", body, rec.Code, rec.Body.String())
 		}
-		if rec.Code == http.StatusBadRequest {
-			var e struct {
-				Error *string `json:"error"`
-				Field *string `json:"field"`
-			}
-			if err := json.Unmarshal(rec.Body.Bytes(), &e); err != nil || e.Error == nil || e.Field == nil || *e.Error == "" {
-				t.Fatalf("POST %q: a 400 without error and field: %s", body, rec.Body.String())
-			}
-		}
+		refusal(t, "POST "+body, rec)
 		if rec.Code == http.StatusOK && !json.Valid(rec.Body.Bytes()) {
 			t.Fatalf("POST %q: the design is not JSON", body)
 		}
@@ -72,15 +64,7 @@ func FuzzRequests(f *testing.F) {
 		if !ok[rec.Code] {
 			t.Fatalf("POST export as %q %q: status %d: %s", kind, body, rec.Code, rec.Body.String())
 		}
-		if rec.Code == http.StatusBadRequest {
-			var e struct {
-				Error *string `json:"error"`
-				Field *string `json:"field"`
-			}
-			if err := json.Unmarshal(rec.Body.Bytes(), &e); err != nil || e.Error == nil || e.Field == nil || *e.Error == "" {
-				t.Fatalf("POST export as %q %q: a 400 without error and field: %s", kind, body, rec.Body.String())
-			}
-		}
+		refusal(t, "POST export as "+kind+" "+body, rec)
 		vals, err := url.ParseQuery(query)
 		if err != nil {
 			return // not a query a browser sends
@@ -106,4 +90,20 @@ func FuzzRequests(f *testing.F) {
 			t.Fatalf("GET /design?%s: status %d", query, rec.Code)
 		}
 	})
+}
+
+// refusal fails the test when rec is a 400 without the JSON error and
+// field the API promises.
+func refusal(t *testing.T, what string, rec *httptest.ResponseRecorder) {
+	t.Helper()
+	if rec.Code != http.StatusBadRequest {
+		return
+	}
+	var e struct {
+		Error *string `json:"error"`
+		Field *string `json:"field"`
+	}
+	if err := json.Unmarshal(rec.Body.Bytes(), &e); err != nil || e.Error == nil || e.Field == nil || *e.Error == "" {
+		t.Fatalf("%q: a 400 without error and field: %s", what, rec.Body.String())
+	}
 }

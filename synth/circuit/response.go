@@ -87,20 +87,9 @@ func sweepStage(dst []complex128, freqHz []float64, r Rational) {
 		return
 	}
 	var buf [4 * maxSplit / 2]float64
-	split := func(c []float64, even, odd []float64) ([]float64, []float64) {
-		even, odd = even[:0], odd[:0]
-		for i, v := range c {
-			if i%2 == 0 {
-				even = append(even, v)
-			} else {
-				odd = append(odd, v)
-			}
-		}
-		return even, odd
-	}
 	const h = maxSplit / 2
-	ne, no := split(r.Num, buf[0:h:h], buf[h:2*h:2*h])
-	de, do := split(r.Den, buf[2*h:3*h:3*h], buf[3*h:4*h:4*h])
+	ne, no := evenOdd(r.Num, buf[0:0:h], buf[h:h:2*h])
+	de, do := evenOdd(r.Den, buf[2*h:2*h:3*h], buf[3*h:3*h:4*h])
 	k := 2 * math.Pi / r.ScaleRadPerSec
 	dst = dst[:len(freqHz)]
 	for i, f := range freqHz {
