@@ -344,8 +344,8 @@ type chainModel struct {
 	fused7 bool
 	// load is the nominal board's inter-stage loading (see
 	// circuit.Loading), loadDB its 20·log10|L| on the grid: every trial's
-	// response carries it (part tolerances move it by far less than its
-	// own small size).
+	// response carries it (the parts' tolerances move the loading itself
+	// by about as many percent of its size, which the trials leave out).
 	load   circuit.Loading
 	loadDB []float64
 }
