@@ -12,8 +12,8 @@ import (
 // the stage it drives. With an op-amp output resistance Ro the output of
 // a stage is not a perfect voltage source: seen from the next stage it
 // has the Thévenin impedance Zout(s), which the stage's feedback holds
-// small while its loop gain is large and which approaches Ro (and, with
-// some networks, rises above it) where the loop gain falls.
+// small while its loop gain is large and which approaches Ro where the
+// loop gain falls.
 //
 // Each stage is a two-port between its input and its output:
 //
