@@ -267,26 +267,25 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			n.PeakV = n.SineV
 			if len(t) > 1 && stable {
 				last := step.FromRational(r)
-				var y []float64
-				err := errors.New("no modal model")
-				if modal != nil {
-					y, err = modal.With(last, t)
+				respond := func(ts []float64) ([]float64, error) {
+					err := errors.New("no modal model")
+					var y []float64
+					if modal != nil {
+						y, err = modal.With(last, ts)
+					}
+					if err != nil {
+						// Exact where partial fractions are not.
+						y, err = step.Response(append(slices.Clone(upSteps), last), ts)
+					}
+					if err == nil && !allFinite(y) {
+						err = errors.New("not finite")
+					}
+					return y, err
 				}
-				if err != nil {
-					// Exact where partial fractions are not.
-					y, err = step.Response(append(slices.Clone(upSteps), last), t)
-				}
-				if err == nil && allFinite(y) {
+				ymin, ymax, err := stepExtremes(respond, t)
+				if err == nil {
 					h0 := dcUp * real(r.At(0))
 					lo, hi := mid-amp*h0, mid-amp*h0
-					ymin, ymax := y[0], y[0]
-					for _, v := range y {
-						if v < ymin {
-							ymin = v
-						} else if v > ymax {
-							ymax = v
-						}
-					}
 					lo = math.Min(lo, mid-amp*h0+2*amp*ymin)
 					hi = math.Max(hi, mid-amp*h0+2*amp*ymax)
 					if isFinite(lo) && isFinite(hi) {
@@ -321,6 +320,69 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 		dcUp *= real(tfs[k].At(0))
 	}
 	return nil
+}
+
+// stepExtremes returns the least and greatest values of a step response
+// that respond evaluates at any non-decreasing times, from the grid t and
+// refined where a grid misses them: the first interval on a logarithmic
+// grid (behind a highpass, a step's edge passes through to the op-amps'
+// own fast response, which peaks within about 1/GBW, long before the
+// grid's first point) and the intervals on either side of the grid's
+// extremes on a fine linear one, then once more round the extremes of
+// those samples.
+func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin, ymax float64, err error) {
+	y, err := respond(t)
+	if err != nil {
+		return 0, 0, err
+	}
+	kmin, kmax := 0, 0
+	for i, v := range y {
+		if v < y[kmin] {
+			kmin = i
+		}
+		if v > y[kmax] {
+			kmax = i
+		}
+	}
+	ymin, ymax = y[kmin], y[kmax]
+	const fine = 24
+	extra := make([]float64, 0, 3*fine)
+	for i := range fine { // t[1]·1e-5 … t[1]
+		extra = append(extra, t[1]*math.Pow(10, -5+5*float64(i)/(fine-1)))
+	}
+	for _, k := range []int{kmin, kmax} {
+		a, b := t[max(k-1, 0)], t[min(k+1, len(t)-1)]
+		for i := range fine {
+			extra = append(extra, a+(b-a)*float64(i)/(fine-1))
+		}
+	}
+	// Twice: the second pass round the first pass's extremes.
+	for range 2 {
+		slices.Sort(extra)
+		ye, err := respond(extra)
+		if err != nil {
+			return ymin, ymax, nil // the extremes so far stand
+		}
+		jmin, jmax := 0, 0
+		for j, v := range ye {
+			if v < ye[jmin] {
+				jmin = j
+			}
+			if v > ye[jmax] {
+				jmax = j
+			}
+		}
+		ymin, ymax = math.Min(ymin, ye[jmin]), math.Max(ymax, ye[jmax])
+		next := extra[len(extra):]
+		for _, j := range []int{jmin, jmax} {
+			a, b := extra[max(j-1, 0)], extra[min(j+1, len(extra)-1)]
+			for i := range fine {
+				next = append(next, a+(b-a)*float64(i)/(fine-1))
+			}
+		}
+		extra = next
+	}
+	return ymin, ymax, nil
 }
 
 func allFinite(y []float64) bool {
