@@ -323,13 +323,16 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 }
 
 // stepExtremes returns the least and greatest values of a step response
-// that respond evaluates at any non-decreasing times, from the grid t and
-// refined where a grid misses them: the first interval on a logarithmic
-// grid (behind a highpass, a step's edge passes through to the op-amps'
-// own fast response, which peaks within about 1/GBW, long before the
-// grid's first point) and the intervals on either side of the grid's
-// extremes on a fine linear one, then once more round the extremes of
-// those samples.
+// that respond evaluates at non-decreasing times. It reads the grid t,
+// then finer round the grid's extremes (their error on the grid alone is
+// of the order of (Δt/T)² for a peak of width T). And where the response
+// has already moved within the grid's first interval (by more than
+// stepEarlyMove of its span on the grid) it searches that interval on a
+// logarithmic grid from t[1]·1e-5: behind a highpass, a step's edge
+// reaches the op-amps' own fast response, which peaks within about 1/GBW,
+// long before the grid's first point. A response that has barely moved
+// by t[1] (a lowpass's) has no such peak to find; that test is a rule of
+// this program, not a bound.
 func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin, ymax float64, err error) {
 	y, err := respond(t)
 	if err != nil {
@@ -345,23 +348,14 @@ func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin
 		}
 	}
 	ymin, ymax = y[kmin], y[kmax]
-	const fine = 24
-	extra := make([]float64, 0, 3*fine)
-	for i := range fine { // t[1]·1e-5 … t[1]
-		extra = append(extra, t[1]*math.Pow(10, -5+5*float64(i)/(fine-1)))
-	}
-	for _, k := range []int{kmin, kmax} {
-		a, b := t[max(k-1, 0)], t[min(k+1, len(t)-1)]
-		for i := range fine {
-			extra = append(extra, a+(b-a)*float64(i)/(fine-1))
-		}
-	}
-	// Twice: the second pass round the first pass's extremes.
-	for range 2 {
-		slices.Sort(extra)
-		ye, err := respond(extra)
+	span := ymax - ymin
+	// respondFine evaluates ts and widens the extremes; on an error the
+	// extremes so far stand. It returns the times of the extremes found.
+	respondFine := func(ts []float64) (tmin, tmax float64, ok bool) {
+		slices.Sort(ts)
+		ye, err := respond(ts)
 		if err != nil {
-			return ymin, ymax, nil // the extremes so far stand
+			return 0, 0, false
 		}
 		jmin, jmax := 0, 0
 		for j, v := range ye {
@@ -373,17 +367,48 @@ func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin
 			}
 		}
 		ymin, ymax = math.Min(ymin, ye[jmin]), math.Max(ymax, ye[jmax])
-		next := extra[len(extra):]
-		for _, j := range []int{jmin, jmax} {
-			a, b := extra[max(j-1, 0)], extra[min(j+1, len(extra)-1)]
-			for i := range fine {
-				next = append(next, a+(b-a)*float64(i)/(fine-1))
-			}
+		return ts[jmin], ts[jmax], true
+	}
+	around := func(ts []float64, a, b float64) []float64 {
+		for i := range stepFinePoints {
+			ts = append(ts, a+(b-a)*float64(i)/(stepFinePoints-1))
 		}
-		extra = next
+		return ts
+	}
+	fine := make([]float64, 0, 2*stepFinePoints)
+	for _, k := range []int{kmin, kmax} {
+		if k > 0 { // t = 0 is exact: the step has not begun
+			fine = around(fine, t[k-1], t[min(k+1, len(t)-1)])
+		}
+	}
+	if len(fine) > 0 {
+		respondFine(fine)
+	}
+	if math.Abs(y[1]-y[0]) > stepEarlyMove*span {
+		fine = fine[:0]
+		for i := range 2 * stepFinePoints { // t[1]·1e-5 … t[1]
+			fine = append(fine, t[1]*math.Pow(10, -5+5*float64(i)/(2*stepFinePoints-1)))
+		}
+		if tmin, tmax, ok := respondFine(fine); ok {
+			// Once more, between the neighbours of what was found.
+			r := math.Pow(10, 5.0/(2*stepFinePoints-1))
+			fine = fine[:0]
+			fine = around(fine, tmin/r, math.Min(tmin*r, t[1]))
+			fine = around(fine, tmax/r, math.Min(tmax*r, t[1]))
+			respondFine(fine)
+		}
 	}
 	return ymin, ymax, nil
 }
+
+// stepFinePoints is the number of times of each finer search of the step's
+// extremes (twice that on the logarithmic grid of the first interval).
+const stepFinePoints = 24
+
+// stepEarlyMove is the share of its span on the grid by which a step
+// response must have moved within the grid's first interval for that
+// interval to be searched finer (a rule of this program).
+const stepEarlyMove = 1e-3
 
 func allFinite(y []float64) bool {
 	for _, v := range y {
