@@ -282,7 +282,21 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 					}
 					return y, err
 				}
-				ymin, ymax, err := stepExtremes(respond, t)
+				// The finer searches take the partial fractions only: where
+				// they are ill-conditioned (early times in a long chain) the
+				// exact state space would cost more than the whole grid did,
+				// and the grid's extremes stand.
+				refine := func(ts []float64) ([]float64, error) {
+					if modal == nil {
+						return nil, errors.New("no modal model")
+					}
+					y, err := modal.With(last, ts)
+					if err == nil && !allFinite(y) {
+						err = errors.New("not finite")
+					}
+					return y, err
+				}
+				ymin, ymax, err := stepExtremes(respond, refine, t)
 				if err == nil {
 					h0 := dcUp * real(r.At(0))
 					lo, hi := mid-amp*h0, mid-amp*h0
@@ -324,7 +338,8 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 
 // stepExtremes returns the least and greatest values of a step response
 // that respond evaluates at non-decreasing times. It reads the grid t,
-// then finer round the grid's extremes (their error on the grid alone is
+// then, through refine (a cheaper evaluation that may decline: the
+// extremes found so far then stand), finer round the grid's extremes (their error on the grid alone is
 // of the order of (Δt/T)² for a peak of width T). And where the response
 // has already moved within the grid's first interval (by more than
 // stepEarlyMove of its span on the grid) it searches that interval on a
@@ -333,7 +348,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 // long before the grid's first point. A response that has barely moved
 // by t[1] (a lowpass's) has no such peak to find; that test is a rule of
 // this program, not a bound.
-func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin, ymax float64, err error) {
+func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float64) (ymin, ymax float64, err error) {
 	y, err := respond(t)
 	if err != nil {
 		return 0, 0, err
@@ -353,7 +368,7 @@ func stepExtremes(respond func([]float64) ([]float64, error), t []float64) (ymin
 	// extremes so far stand. It returns the times of the extremes found.
 	respondFine := func(ts []float64) (tmin, tmax float64, ok bool) {
 		slices.Sort(ts)
-		ye, err := respond(ts)
+		ye, err := refine(ts)
 		if err != nil {
 			return 0, 0, false
 		}
