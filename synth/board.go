@@ -337,17 +337,18 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 }
 
 // stepExtremes returns the least and greatest values of a step response
-// that respond evaluates at non-decreasing times. It reads the grid t,
-// then, through refine (a cheaper evaluation that may decline: the
-// extremes found so far then stand), finer round the grid's extremes (their error on the grid alone is
-// of the order of (Δt/T)² for a peak of width T). And where the response
-// has already moved within the grid's first interval (by more than
-// stepEarlyMove of its span on the grid) it searches that interval on a
-// logarithmic grid from t[1]·1e-5: behind a highpass, a step's edge
-// reaches the op-amps' own fast response, which peaks within about 1/GBW,
-// long before the grid's first point. A response that has barely moved
-// by t[1] (a lowpass's) has no such peak to find; that test is a rule of
-// this program, not a bound.
+// that respond evaluates at non-decreasing times, from the grid t. Where
+// the response has already moved within the grid's first interval (by
+// more than stepEarlyMove of its span on the grid) it also searches,
+// through refine (a cheaper evaluation that may decline: the extremes
+// found so far then stand), finer round the grid's extremes and inside
+// that first interval on a logarithmic grid from t[1]·1e-5: behind a
+// highpass, a step's edge reaches the op-amps' own fast response, which
+// peaks within about 1/GBW, long before the grid's first point, and the
+// response's later features are fast too. A response that has barely
+// moved by t[1] (a lowpass's) moves on the filter's own time scale, where
+// a peak of width T is read on the grid to about (Δt/T)²; that test is a
+// rule of this program, not a bound.
 func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float64) (ymin, ymax float64, err error) {
 	y, err := respond(t)
 	if err != nil {
@@ -363,10 +364,14 @@ func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float6
 		}
 	}
 	ymin, ymax = y[kmin], y[kmax]
-	span := ymax - ymin
-	// respondFine evaluates ts and widens the extremes; on an error the
-	// extremes so far stand. It returns the times of the extremes found.
-	respondFine := func(ts []float64) (tmin, tmax float64, ok bool) {
+	if !(math.Abs(y[1]-y[0]) > stepEarlyMove*(ymax-ymin)) {
+		// Not moved by the grid's first point: the response moves on the
+		// filter's own time scale, which the grid resolves.
+		return ymin, ymax, nil
+	}
+	// search evaluates ts and widens the extremes; when refine declines,
+	// the extremes so far stand. It returns the times of the extremes found.
+	search := func(ts []float64) (tmin, tmax float64, ok bool) {
 		slices.Sort(ts)
 		ye, err := refine(ts)
 		if err != nil {
@@ -384,34 +389,34 @@ func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float6
 		ymin, ymax = math.Min(ymin, ye[jmin]), math.Max(ymax, ye[jmax])
 		return ts[jmin], ts[jmax], true
 	}
-	around := func(ts []float64, a, b float64) []float64 {
+	// linear appends stepFinePoints times evenly from a to b.
+	linear := func(ts []float64, a, b float64) []float64 {
 		for i := range stepFinePoints {
 			ts = append(ts, a+(b-a)*float64(i)/(stepFinePoints-1))
 		}
 		return ts
 	}
+	// Round the grid's extremes (t = 0 is exact: the step has not begun).
 	fine := make([]float64, 0, 2*stepFinePoints)
 	for _, k := range []int{kmin, kmax} {
-		if k > 0 { // t = 0 is exact: the step has not begun
-			fine = around(fine, t[k-1], t[min(k+1, len(t)-1)])
+		if k > 0 {
+			fine = linear(fine, t[k-1], t[min(k+1, len(t)-1)])
 		}
 	}
 	if len(fine) > 0 {
-		respondFine(fine)
+		search(fine)
 	}
-	if math.Abs(y[1]-y[0]) > stepEarlyMove*span {
-		fine = fine[:0]
-		for i := range 2 * stepFinePoints { // t[1]·1e-5 … t[1]
-			fine = append(fine, t[1]*math.Pow(10, -5+5*float64(i)/(2*stepFinePoints-1)))
-		}
-		if tmin, tmax, ok := respondFine(fine); ok {
-			// Once more, between the neighbours of what was found.
-			r := math.Pow(10, 5.0/(2*stepFinePoints-1))
-			fine = fine[:0]
-			fine = around(fine, tmin/r, math.Min(tmin*r, t[1]))
-			fine = around(fine, tmax/r, math.Min(tmax*r, t[1]))
-			respondFine(fine)
-		}
+	// The first interval, t[1]·1e-5 … t[1] on a logarithmic grid, then
+	// once more between the neighbours of what was found there.
+	fine = fine[:0]
+	for i := range 2 * stepFinePoints {
+		fine = append(fine, t[1]*math.Pow(10, -5+5*float64(i)/(2*stepFinePoints-1)))
+	}
+	if tmin, tmax, ok := search(fine); ok {
+		r := math.Pow(10, 5.0/(2*stepFinePoints-1))
+		fine = linear(fine[:0], tmin/r, math.Min(tmin*r, t[1]))
+		fine = linear(fine, tmax/r, math.Min(tmax*r, t[1]))
+		search(fine)
 	}
 	return ymin, ymax, nil
 }
