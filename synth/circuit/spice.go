@@ -595,6 +595,12 @@ func (c Chain) WriteSPICE(w io.Writer, opt SpiceOptions) error {
 		b.WriteString("* The source is differential: Einp and Einn drive inp and inn with +1/2 and\n")
 		b.WriteString("* -1/2 of v(in).\n")
 	}
+	if tr != nil && !c.Model.Ideal {
+		// The deck's time step follows the filter; the op-amps' own response
+		// to the step's edge (a highpass passes it) is far faster.
+		fmt.Fprintf(b, "* tran's largest time step is the filter's; to resolve the op-amps' fast response to\n")
+		fmt.Fprintf(b, "* the step's edge (which a highpass passes), use one near 1/(20*GBW) = %s s.\n", spiceNum(1/(20*c.Model.GBWHz)))
+	}
 	switch {
 	case tr != nil && sup != nil && (sup.StepLowV != 0 || sup.StepHighV != 0):
 		fmt.Fprintf(b, "Vin in %s DC 0 AC 1 PWL(0 %s %s %s)\n", gnd, spiceNum(sup.StepLowV), spiceNum(tr.rise), spiceNum(sup.StepHighV))
