@@ -176,15 +176,7 @@ func TestBoardAgainstNgspice(t *testing.T) {
 			require.NoError(t, err)
 			own, err := ch.MagnitudeDB(nil, freq)
 			require.NoError(t, err)
-			worst, at := 0.0, 0.0
-			for i, f := range freq {
-				if own[i] < -120 {
-					continue
-				}
-				if e := math.Abs(own[i] - 20*math.Log10(cmplx.Abs(v[0][i]))); e > worst {
-					worst, at = e, f
-				}
-			}
+			worst, at := worstDB(own, own, v[0], freq)
 			t.Logf("%s: .op offset %.6g V (design %.6g V); as-built response vs ngspice: worst %.2g dB at %.4g Hz", tc.name, opOut-ref, d.DC.OutputOffsetV, worst, at)
 			require.Less(t, worst, 1e-6)
 

@@ -235,21 +235,6 @@ func (l Loading) ApplyDB(dst []float64, freqHz []float64) {
 	}
 }
 
-// evenOddPoly is a real polynomial split into its even and odd powers'
-// coefficients, for evaluation on the jω axis.
-type evenOddPoly struct{ even, odd []float64 }
-
-func newEvenOddPoly(c []float64) evenOddPoly {
-	var p evenOddPoly
-	p.even, p.odd = evenOdd(c, make([]float64, 0, (len(c)+1)/2), make([]float64, 0, len(c)/2))
-	return p
-}
-
-// at returns the polynomial at p = jx, with u = −x².
-func (p evenOddPoly) at(x, u float64) complex128 {
-	return complex(hornerU(p.even, u), hornerU(p.odd, u)*x)
-}
-
 // lnRatio returns ln(a/b) for positive a and b. The loading is mostly a
 // factor within a part in a thousand of 1, where the series of ln(1+x) to
 // x⁶ is exact to rounding (its remainder is below x⁷/7 < 1.5e-22) and
@@ -260,27 +245,6 @@ func lnRatio(a, b float64) float64 {
 		return x * (1 - x*(1.0/2-x*(1.0/3-x*(1.0/4-x*(1.0/5-x*(1.0/6))))))
 	}
 	return math.Log(a / b)
-}
-
-// evenOdd splits c (ascending) into its even and odd powers' coefficients.
-func evenOdd(c, even, odd []float64) ([]float64, []float64) {
-	for i, v := range c {
-		if i%2 == 0 {
-			even = append(even, v)
-		} else {
-			odd = append(odd, v)
-		}
-	}
-	return even, odd
-}
-
-// hornerU evaluates Σ c_m·u^m.
-func hornerU(c []float64, u float64) float64 {
-	var v float64
-	for j := len(c) - 1; j >= 0; j-- {
-		v = v*u + c[j]
-	}
-	return v
 }
 
 // Loading returns the chain's inter-stage loading (see [Loading]); it is

@@ -72,6 +72,43 @@ func axisPoly(c []float64, x float64) complex128 {
 	return complex(re, im*x)
 }
 
+// evenOdd splits c (ascending) into its even and odd powers' coefficients.
+func evenOdd(c, even, odd []float64) ([]float64, []float64) {
+	for i, v := range c {
+		if i%2 == 0 {
+			even = append(even, v)
+		} else {
+			odd = append(odd, v)
+		}
+	}
+	return even, odd
+}
+
+// hornerU evaluates Σ c_m·u^m.
+func hornerU(c []float64, u float64) float64 {
+	var v float64
+	for j := len(c) - 1; j >= 0; j-- {
+		v = v*u + c[j]
+	}
+	return v
+}
+
+// evenOddPoly is a real polynomial split into its even and odd powers'
+// coefficients, for evaluation on the jω axis.
+type evenOddPoly struct{ even, odd []float64 }
+
+// newEvenOddPoly splits c (ascending).
+func newEvenOddPoly(c []float64) evenOddPoly {
+	var p evenOddPoly
+	p.even, p.odd = evenOdd(c, make([]float64, 0, (len(c)+1)/2), make([]float64, 0, len(c)/2))
+	return p
+}
+
+// at returns the polynomial at p = jx, with u = −x².
+func (p evenOddPoly) at(x, u float64) complex128 {
+	return complex(hornerU(p.even, u), hornerU(p.odd, u)*x)
+}
+
 // axis returns N(jx) and D(jx).
 func (r Rational) axis(x float64) (complex128, complex128) {
 	return axisPoly(r.Num, x), axisPoly(r.Den, x)

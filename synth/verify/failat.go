@@ -66,7 +66,6 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 	}
 	loadDB := make([]float64, len(freqHz))
 	load.ApplyDB(loadDB, freqHz)
-	loadAt := load.DBAt
 	slopes := make([]circuit.PartSlopes, len(ch.Stages))
 	for k, st := range ch.Stages {
 		if slopes[k], err = st.Slopes(ch.Model, tfs[k].ScaleRadPerSec); err != nil {
@@ -94,7 +93,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 	board := func(k, j int, a float64) float64 {
 		if k < 0 {
 			copy(db, total)
-			return finiteMargin(margin(db, func(f float64) float64 { return dbOfComplex(tfs.AtHz(f)) + loadAt(f) }))
+			return finiteMargin(margin(db, func(f float64) float64 { return dbOfComplex(tfs.AtHz(f)) + load.DBAt(f) }))
 		}
 		num, den = slopes[k].At(j, a, num, den)
 		r := circuit.Rational{Num: num, Den: den, ScaleRadPerSec: slopes[k].ScaleRadPerSec}
@@ -102,7 +101,7 @@ func FailAt(ch circuit.Chain, freqHz []float64, margin func(db []float64, eval f
 			db[i] = others[i] + dbOfComplex(r.AtHz(f))
 		}
 		return finiteMargin(margin(db, func(f float64) float64 {
-			v := dbOfComplex(r.AtHz(f)) + loadAt(f)
+			v := dbOfComplex(r.AtHz(f)) + load.DBAt(f)
 			for i, t := range tfs {
 				if i != k {
 					v += dbOfComplex(t.AtHz(f))
