@@ -200,12 +200,27 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	if d.Step != nil {
 		t = d.Step.TimeS
 	}
-	// up2[f] is the squared magnitude of the stages before the current one.
-	up2 := make([]float64, len(freq))
+	// The gains are read at DC and on the response grid, each stage's
+	// output loaded by the stages after it (circuit.Loading: exact), which
+	// with an op-amp output resistance moves a node's gain by up to a
+	// percent or two where the op-amps' loop gain runs out. The step
+	// extremes are the unloaded stages'.
+	load, err := ch.Loading()
+	if err != nil {
+		return fmt.Errorf("synth: swing: %w", err)
+	}
+	grid := append([]float64{0}, freq...)
+	yl, fac := load.Sweep(grid)
+	// up2[i] is the squared magnitude at grid[i] of the stages before the
+	// current one, as loaded.
+	up2 := make([]float64, len(grid))
 	for i := range up2 {
 		up2[i] = 1
 	}
-	var mag2 []float64 // scratch: one rational's |H|² on the grid
+	var mag2 []float64      // scratch: one rational's |H|² on the grid
+	var loaded2 [][]float64 // scratch: the loaded nodes' |V/V(In)|²
+	var port []complex128   // scratch: a loaded output port's voltage
+	var outMag2 []float64   // scratch: its |·|² at a single-ended Out
 	var upSteps []step.Stage
 	// The partial fractions of the stages before the current one, each
 	// factored once (nil when one cannot be: the exact state space then).
@@ -236,8 +251,41 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			}
 		}
 		nodeTF := map[string]circuit.Rational{}
+		nodeMag2 := map[string][]float64{}
 		if !st.Differential() {
 			nodeTF[st.Out] = tfs[k]
+		}
+		if load.Loaded(k) {
+			// The output port's voltage as loaded, per unit input: a
+			// single-ended stage's Out is that (its |·|² is the stage's
+			// share of up2 below); the other nodes from their
+			// transimpedances.
+			if cap(port) < len(grid) {
+				port = make([]complex128, len(grid))
+			}
+			port = port[:len(grid)]
+			half := complex(1, 0)
+			if st.Differential() {
+				half = 0.5
+			}
+			for i, f := range grid {
+				port[i] = tfs[k].AtHz(f) * fac[k][i] * half
+			}
+			m2, rs, err := st.LoadedNodeMag2(ch.Model, others, grid, yl[k], port, loaded2)
+			if err == nil {
+				loaded2 = m2
+				for i, n := range others {
+					nodeTF[n], nodeMag2[n] = rs[i], m2[i]
+				}
+				if !st.Differential() {
+					outMag2 = outMag2[:0]
+					for _, v := range port {
+						outMag2 = append(outMag2, real(v)*real(v)+imag(v)*imag(v))
+					}
+					nodeMag2[st.Out] = outMag2
+				}
+				others = nil
+			}
 		}
 		if len(others) > 0 {
 			rs, err := st.NodeTransferFunctions(ch.Model, others)
@@ -252,12 +300,15 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			r := nodeTF[p.local]
 			n := SwingNode{Node: ch.Node(stage, p.local), Ref: ch.Ref(stage, p.ref), Pin: p.pin}
 			// At DC first: the response grid starts above it.
-			n.GainMax = math.Abs(real(r.At(0)) * dcUp)
-			g2 := n.GainMax * n.GainMax
-			mag2 = r.Mag2Hz(mag2, freq)
-			for i, f := range freq {
-				if v := up2[i] * mag2[i]; v > g2 {
-					g2, n.PeakHz = v, f
+			m2 := nodeMag2[p.local]
+			if m2 == nil {
+				mag2 = r.Mag2Hz(mag2, grid)
+				m2 = mag2
+			}
+			g2 := up2[0] * m2[0]
+			for i := 1; i < len(grid); i++ {
+				if v := up2[i] * m2[i]; v > g2 {
+					g2, n.PeakHz = v, grid[i]
 				}
 			}
 			n.GainMax = math.Sqrt(g2)
@@ -323,9 +374,13 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			sw.Nodes = append(sw.Nodes, n)
 		}
 		d.Sections[k].Swing = sw
-		mag2 = tfs[k].Mag2Hz(mag2, freq)
+		mag2 = tfs[k].Mag2Hz(mag2, grid)
 		for i := range up2 {
 			up2[i] *= mag2[i]
+			if fac != nil {
+				f := fac[k][i]
+				up2[i] *= real(f)*real(f) + imag(f)*imag(f)
+			}
 		}
 		upSteps = append(upSteps, step.FromRational(tfs[k]))
 		if modal != nil && modal.Extend(upSteps[k]) != nil {

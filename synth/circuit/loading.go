@@ -115,6 +115,41 @@ func (l Loading) AtHz(fHz float64) complex128 {
 	return h
 }
 
+// Loaded reports whether the loading corrects the boundary after stage k
+// (the next stage's input loads its output).
+func (l Loading) Loaded(k int) bool {
+	return k >= 0 && k < len(l.joined) && l.joined[k]
+}
+
+// Sweep returns, for every stage k of the chain and every freqHz[i], the
+// admittance yl[k][i] in S that the stages after it put on its output port
+// (per side for a differential stage; 0 where that boundary is not
+// corrected), and the factor fac[k][i] = 1/(1 + Zout·YL) the loading puts
+// on its transfer. With an empty loading both are nil.
+func (l Loading) Sweep(freqHz []float64) (yl, fac [][]complex128) {
+	if l.Empty() {
+		return nil, nil
+	}
+	n, m := len(l.stages), len(freqHz)
+	back := make([]complex128, 2*n*m)
+	yl, fac = make([][]complex128, n), make([][]complex128, n)
+	for k := range n {
+		yl[k] = back[2*k*m : (2*k+1)*m : (2*k+1)*m]
+		fac[k] = back[(2*k+1)*m : (2*k+2)*m : (2*k+2)*m]
+	}
+	for i, f := range freqHz {
+		w := 2 * math.Pi * f
+		var y complex128
+		for k := n - 1; k >= 0; k-- {
+			yl[k][i] = y
+			var num, den complex128
+			num, den, y = l.step(k, w, y)
+			fac[k][i] = div(num, den)
+		}
+	}
+	return yl, fac
+}
+
 // Apply multiplies dst[i] by the loading at freqHz[i].
 func (l Loading) Apply(dst []complex128, freqHz []float64) {
 	if l.Empty() {

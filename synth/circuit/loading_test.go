@@ -242,3 +242,99 @@ func TestLoadingChainExact(t *testing.T) {
 	}
 	require.Greater(t, firstMost, 0.01, "the reverse transmission should matter in one chain")
 }
+
+// TestLoadedNodeGainsExact checks [circuit.Loading.Sweep] and
+// [circuit.Stage.LoadedNodeMag2] against the whole chain solved as one
+// circuit: every node of every stage (op-amp inputs, outputs and the
+// networks' inner nodes), with the gains of the stages before it as
+// loaded, must equal the merged circuit's node voltage to rounding (1e-9
+// relative; out among them, from its own transimpedance, where the
+// caller knows it as the port's voltage), and the sweep's factors must
+// multiply to [Loading.AtHz]. The chains are those of
+// TestLoadingChainExact; the test also requires the loading to move
+// some inner node by more than 1 % (the unloaded node
+// transfers, [Stage.NodeTransferFunctions], times the unloaded stages
+// before), so that it cannot pass by the correction being negligible.
+func TestLoadedNodeGainsExact(t *testing.T) {
+	t.Parallel()
+	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 500, InputCapacitanceFarad: 3e-12}
+	chains := [][]circuit.Stage{
+		{ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
+		{ct.Inverting(1e3, 2.2e3), ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.MFBLP(1e3, 1e3, 1e3, 10e-9, 1e-9), ct.RCBuffer(1e3, 10e-9)},
+	}
+	freqs := []float64{0, 100, 3e3, 2e4, 6e4, 2e5, 5e5}
+	most := 0.0
+	for c, stages := range chains {
+		ch := circuit.Chain{Stages: stages, Model: m}
+		tfs, err := ch.TransferFunctions()
+		require.NoError(t, err)
+		load, err := ch.Loading()
+		require.NoError(t, err)
+		yl, fac := load.Sweep(freqs)
+		require.Len(t, yl, len(stages))
+		whole := merged(t, stages...)
+		for i, f := range freqs {
+			prod := complex(1, 0)
+			for k := range stages {
+				prod *= fac[k][i]
+			}
+			require.InDelta(t, 0, cmplx.Abs(prod-load.AtHz(f)), 1e-12*cmplx.Abs(prod), "chain %d at %g Hz", c, f)
+		}
+		up := make([]complex128, len(freqs))      // the stages before, as loaded
+		upPlain := make([]complex128, len(freqs)) // and unloaded
+		for i := range up {
+			up[i], upPlain[i] = 1, 1
+		}
+		for k, st := range stages {
+			var nodes, names []string
+			seen := map[string]bool{"0": true, "in": true}
+			for _, p := range st.Parts {
+				for _, n := range []string{p.A, p.B} {
+					if !seen[n] {
+						seen[n] = true
+						nodes = append(nodes, n)
+					}
+				}
+			}
+			for _, n := range nodes {
+				switch {
+				case n == "out" && k < len(stages)-1:
+					names = append(names, "m"+strconv.Itoa(k+1))
+				case n == "out":
+					names = append(names, "out")
+				default:
+					names = append(names, "s"+strconv.Itoa(k)+n)
+				}
+			}
+			require.Equal(t, load.Loaded(k), k < len(stages)-1, "chain %d stage %d", c, k)
+			port := make([]complex128, len(freqs)) // V(out) per unit input, loaded
+			for i, f := range freqs {
+				port[i] = tfs[k].AtHz(f) * fac[k][i]
+			}
+			m2, plain, err := st.LoadedNodeMag2(m, nodes, freqs, yl[k], port, nil)
+			require.NoError(t, err)
+			require.Len(t, m2, len(nodes))
+			for j, n := range nodes {
+				ref, err := whole.NodeTransferFunction(m, names[j], 1e4)
+				require.NoError(t, err)
+				for i, f := range freqs {
+					want := cmplx.Abs(ref.AtHz(f))
+					got := cmplx.Abs(up[i]) * math.Sqrt(m2[j][i])
+					if want == 0 { // behind a highpass at DC
+						require.Less(t, got, 1e-12, "chain %d stage %d node %s at %g Hz", c, k, n, f)
+						continue
+					}
+					require.InDelta(t, 1, got/want, 1e-9, "chain %d stage %d node %s at %g Hz", c, k, n, f)
+					unloaded := cmplx.Abs(upPlain[i] * plain[j].AtHz(f))
+					most = math.Max(most, math.Abs(unloaded/want-1))
+				}
+			}
+			for i, f := range freqs {
+				up[i] *= tfs[k].AtHz(f) * fac[k][i]
+				upPlain[i] *= tfs[k].AtHz(f)
+			}
+		}
+	}
+	require.Greater(t, most, 0.01, "the loading should move some node by more than 1 %%")
+	t.Logf("the unloaded node gains miss by up to %.1f %%", 100*most)
+}

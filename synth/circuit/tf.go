@@ -82,27 +82,56 @@ func (st Stage) NodeTransferFunction(m Model, node string, scaleRadPerSec float6
 // node's numerator, a cofactor), so the cost is about that of one
 // transfer function. The rationals share the denominator.
 func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, error) {
+	rs, _, err := st.nodeTransfers(m, nodes, false)
+	return rs, err
+}
+
+// NodePorts is [Stage.NodeTransferFunctions] with, for each node, also its
+// transimpedance in Ω from a current injected into the stage's output port
+// with the input at 0 V: into Out of a single-ended stage; into Out and
+// out of OutN, equally, for a differential stage (the half circuit's
+// output current). With the next stage drawing the current YL·P from the
+// port, P the port's voltage (V(Out), or (V(Out) − V(OutN))/2), every
+// node's voltage as loaded is vin·V(In) − z·YL·P (see [Loading]). The
+// rationals share the denominator. Unlike NodeTransferFunctions it does
+// not fall back on Cramer's rule: it returns an error wrapping
+// [ErrSingular] when the nodal matrix is singular at a sample point.
+func (st Stage) NodePorts(m Model, nodes []string) (vin, z []Rational, err error) {
+	return st.nodeTransfers(m, nodes, true)
+}
+
+// nodeTransfers is NodeTransferFunctions and, with inject, NodePorts.
+func (st Stage) nodeTransfers(m Model, nodes []string, inject bool) (vin, z []Rational, err error) {
 	if err := m.Validate(); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	t, err := st.check()
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	for _, node := range nodes {
 		if !st.hasNode(t, node) {
-			return nil, invalidf("no node %q", node)
+			return nil, nil, invalidf("no node %q", node)
 		}
 	}
 	own := st
 	st, t = st.withParasitics(m, t)
-	scale, _ := stageScale(st, m)
+	scale, rn := stageScale(st, m)
 	sys := compile(st, m, t, scale)
 	cols := make([]int, len(nodes))
 	for i, node := range nodes {
 		cols[i] = sys.col(t, node)
 	}
-	coef := sys.interpolateAll(1+len(nodes), func(p complex128, v []complex128) {
+	outRow, outNRow := t.unknown(st.Out), -1
+	if st.Differential() {
+		outNRow = t.unknown(st.OutN)
+	}
+	q := 1 + len(nodes)
+	if inject {
+		q += len(nodes)
+	}
+	var singular bool
+	coef := sys.interpolateAll(q, func(p complex128, v []complex128) {
 		sys.fill(p)
 		det := lu.Factor(sys.a, sys.n, sys.piv)
 		v[0] = det
@@ -113,6 +142,21 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 			for i, c := range cols {
 				v[1+i] = det * sys.x[c]
 			}
+			if inject {
+				clear(sys.x)
+				sys.x[outRow] = 1
+				if outNRow >= 0 {
+					sys.x[outNRow] = -1
+				}
+				lu.Solve(sys.a, sys.n, sys.piv, sys.x)
+				for i, c := range cols {
+					v[1+len(cols)+i] = det * sys.x[c]
+				}
+			}
+			return
+		}
+		if inject {
+			singular = true
 			return
 		}
 		for i, c := range cols { // Cramer's rule directly: A is singular here
@@ -120,10 +164,13 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 			_, v[1+i] = sys.detNum(p)
 		}
 	})
+	if singular {
+		return nil, nil, fmt.Errorf("%w: nodal matrix is singular on an interpolation circle", ErrSingular)
+	}
 	den := coef[0]
 	lo := slices.IndexFunc(den, func(v float64) bool { return v != 0 })
 	if lo < 0 {
-		return nil, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
+		return nil, nil, fmt.Errorf("%w: the nodal determinant is identically zero", ErrSingular)
 	}
 	d := den[lo]
 	for _, c := range coef {
@@ -132,11 +179,23 @@ func (st Stage) NodeTransferFunctions(m Model, nodes []string) ([]Rational, erro
 		}
 	}
 	order := own.SectionOrderOf(len(trimPoly(den))-1, m)
-	out := make([]Rational, len(nodes))
+	vin = make([]Rational, len(nodes))
 	for i := range nodes {
-		out[i] = Rational{Num: trimPoly(coef[1+i]), Den: trimPoly(slices.Clone(den)), ScaleRadPerSec: scale, SectionOrder: order}
+		vin[i] = Rational{Num: trimPoly(coef[1+i]), Den: trimPoly(slices.Clone(den)), ScaleRadPerSec: scale, SectionOrder: order}
 	}
-	return out, nil
+	if inject {
+		// A unit entry in a node's balance injects 1/rn A (the system's
+		// currents are rn times the currents): z = rn·V.
+		z = make([]Rational, len(nodes))
+		for i := range nodes {
+			num := coef[1+len(nodes)+i]
+			for j := range num {
+				num[j] *= rn
+			}
+			z[i] = Rational{Num: trimPoly(num), Den: trimPoly(slices.Clone(den)), ScaleRadPerSec: scale, SectionOrder: order}
+		}
+	}
+	return vin, z, nil
 }
 
 // transferFunction is TransferFunctionScaled for a valid stage with node
