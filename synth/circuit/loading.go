@@ -121,6 +121,28 @@ func (l Loading) Loaded(k int) bool {
 	return k >= 0 && k < len(l.joined) && l.joined[k]
 }
 
+// Factor2At writes |1/(1 + Zout·YL)|², the squared magnitude of the
+// factor the loading puts on each stage's transfer, at fHz into dst
+// (grown to the chain's length; 1 where a stage's output is not loaded)
+// and returns it. An output-referred source inside stage k reaches the
+// port through the same factor (Thévenin), so the noise takes it too.
+func (l Loading) Factor2At(fHz float64, dst []float64) []float64 {
+	n := len(l.stages)
+	if cap(dst) < n {
+		dst = make([]float64, n)
+	}
+	dst = dst[:n]
+	w := 2 * math.Pi * fHz
+	var y complex128
+	for k := n - 1; k >= 0; k-- {
+		var num, den complex128
+		num, den, y = l.step(k, w, y)
+		f := div(num, den)
+		dst[k] = real(f)*real(f) + imag(f)*imag(f)
+	}
+	return dst
+}
+
 // Sweep returns, for every stage k of the chain and every freqHz[i], the
 // admittance yl[k][i] in S that the stages after it put on its output port
 // (per side for a differential stage; 0 where that boundary is not

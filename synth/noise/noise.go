@@ -211,7 +211,9 @@ type analysis struct {
 	stages  []*stageNoise
 	tfs     circuit.Cascade
 	refs    []string
-	gain    []float64    // |H_k|² per stage
+	gain    []float64 // |H_k|² per stage, as loaded
+	load    circuit.Loading
+	fac2    []float64    // the loading's |factor|² per stage (circuit.Loading.Factor2At)
 	scratch []float64    // per-contributor work
 	poleHz  []float64    // pole magnitudes, breakpoints of the quadrature
 	poles   []complex128 // the stages' poles in rad/s
@@ -241,7 +243,11 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 	if err != nil {
 		return nil, err
 	}
-	a := &analysis{tfs: tfs, gain: make([]float64, len(ch.Stages)), flickerFrom: on.flickerFrom()}
+	load, err := ch.Loading()
+	if err != nil {
+		return nil, err
+	}
+	a := &analysis{tfs: tfs, gain: make([]float64, len(ch.Stages)), load: load, flickerFrom: on.flickerFrom()}
 	fourKT := 4 * BoltzmannJPerK * tempK
 	for k := range ch.Stages {
 		sn, err := newStageNoise(ch, k+1, on, fourKT, &a.refs)
@@ -266,16 +272,29 @@ func newAnalysis(ch circuit.Chain, on OpAmpNoise, tempK float64) (*analysis, err
 // each contributor's part to perWho.
 func (a *analysis) psd(fHz float64, perWho []float64) (float64, error) {
 	n := len(a.stages)
+	loaded := !a.load.Empty()
+	if loaded {
+		a.fac2 = a.load.Factor2At(fHz, a.fac2)
+	}
 	for k := range n {
 		h := a.tfs[k : k+1].AtHz(fHz)
 		a.gain[k] = real(h)*real(h) + imag(h)*imag(h)
+		if loaded {
+			a.gain[k] *= a.fac2[k]
+		}
 	}
 	w := 2 * math.Pi * fHz
 	later := 1.0
 	var total float64
 	for k := n - 1; k >= 0; k-- {
 		if later != 0 {
-			v, err := a.stages[k].accumulate(w, later, perWho)
+			// A source inside stage k reaches its output port through the
+			// loading's factor, as the stage's input does (Thévenin).
+			g := later
+			if loaded {
+				g *= a.fac2[k]
+			}
+			v, err := a.stages[k].accumulate(w, g, perWho)
 			if err != nil {
 				return 0, fmt.Errorf("stage %d: %w", k+1, err)
 			}
