@@ -129,13 +129,14 @@ type BalanceSuggestion struct {
 const dcBudgetLSB = 0.5
 
 // board fills every section's Swing and the design's DC report. It needs
-// the as-built stages' transfer functions tfs and the step report's time
-// grid (d.Step).
-func (d *Design) board(ch circuit.Chain, tfs circuit.Cascade) error {
+// the as-built stages' transfer functions tfs, the same with each stage's
+// output loaded by the next stage's input for the step (stepTFs:
+// circuit.Loading.FirstOrder) and the step report's time grid (d.Step).
+func (d *Design) board(ch circuit.Chain, tfs, stepTFs circuit.Cascade) error {
 	if err := d.dcReport(ch); err != nil {
 		return err
 	}
-	return d.swing(ch, tfs)
+	return d.swing(ch, tfs, stepTFs)
 }
 
 // pinAt is a node the swing lists: its stage-local name, its kind and
@@ -190,8 +191,9 @@ func (d *Design) reference() float64 {
 	return 0
 }
 
-// swing computes each section's Swing.
-func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
+// swing computes each section's Swing: the gains from tfs and the
+// loading, the step extremes from stepTFs (see board).
+func (d *Design) swing(ch circuit.Chain, tfs, stepTFs circuit.Cascade) error {
 	s := d.Spec
 	ref := d.reference()
 	amp := s.SignalVppV() / 2
@@ -233,7 +235,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 	stable := true
 	for k, st := range ch.Stages {
 		stage := k + 1
-		for _, p := range tfs[k].Poles() {
+		for _, p := range stepTFs[k].Poles() {
 			if !(real(p) < 0) {
 				stable = false
 			}
@@ -317,7 +319,14 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 			n.SineV = [2]float64{mid - amp*n.GainMax, mid + amp*n.GainMax}
 			n.PeakV = n.SineV
 			if len(t) > 1 && stable {
-				last := step.FromRational(r)
+				// A single-ended stage's output takes the stage as loaded
+				// by the next one's input (circuit.Loading.FirstOrder);
+				// its other nodes the stage with its output open.
+				rs := r
+				if p.local == st.Out && !st.Differential() {
+					rs = stepTFs[k]
+				}
+				last := step.FromRational(rs)
 				respond := func(ts []float64) ([]float64, error) {
 					err := errors.New("no modal model")
 					var y []float64
@@ -349,7 +358,7 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 				}
 				ymin, ymax, err := stepExtremes(respond, refine, t)
 				if err == nil {
-					h0 := dcUp * real(r.At(0))
+					h0 := dcUp * real(rs.At(0))
 					lo, hi := mid-amp*h0, mid-amp*h0
 					lo = math.Min(lo, mid-amp*h0+2*amp*ymin)
 					hi = math.Max(hi, mid-amp*h0+2*amp*ymax)
@@ -382,11 +391,11 @@ func (d *Design) swing(ch circuit.Chain, tfs circuit.Cascade) error {
 				up2[i] *= real(f)*real(f) + imag(f)*imag(f)
 			}
 		}
-		upSteps = append(upSteps, step.FromRational(tfs[k]))
+		upSteps = append(upSteps, step.FromRational(stepTFs[k]))
 		if modal != nil && modal.Extend(upSteps[k]) != nil {
 			modal = nil
 		}
-		dcUp *= real(tfs[k].At(0))
+		dcUp *= real(stepTFs[k].At(0))
 	}
 	return nil
 }

@@ -21,6 +21,10 @@ const (
 	NoisePoints = 200
 	// StepPoints is the number of points of the step responses.
 	StepPoints = 500
+	// stepLoadingFrac: the step takes the stages' loading of each other
+	// where it may move the unit step by more than this (a rule of this
+	// program, against circuit.Loading.StepShift's estimate).
+	stepLoadingFrac = 1e-4
 	// DefaultSettlingFrac is the settling band without a converter: ±0.1 %.
 	DefaultSettlingFrac = 0.001
 	// assumedFullScaleVpp is the output swing assumed for the slew-rate
@@ -83,9 +87,25 @@ func (d *Design) verifyDesign(ctx context.Context, level Level) error {
 			return fmt.Errorf("synth: step: %w", err)
 		}
 	}
-	d.stepResponse(tfs)
+	// The step sees each stage's output loaded by the next stage's input
+	// where the loading can move it by more than stepLoadingFrac of the
+	// step (circuit.Loading.StepShift): each loaded stage's rational has
+	// the next stage's input poles too, which cost a step response about
+	// a sixth more.
+	stepTFs := tfs
+	if load, err := ch.Loading(); err == nil && !load.Empty() {
+		lo, hi := math.Inf(1), ch.Model.GBWHz
+		for _, r := range tfs {
+			f := r.ScaleRadPerSec / (2 * math.Pi)
+			lo, hi = math.Min(lo, f), math.Max(hi, f)
+		}
+		if load.StepShift(tfs, lo*1e-3, hi*1e3, 8) > stepLoadingFrac {
+			stepTFs = load.FirstOrder(tfs)
+		}
+	}
+	d.stepResponse(stepTFs)
 	if perPart {
-		if err := d.board(ch, tfs); err != nil {
+		if err := d.board(ch, tfs, stepTFs); err != nil {
 			return err
 		}
 	}

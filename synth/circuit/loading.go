@@ -47,6 +47,7 @@ type stagePorts struct {
 	den, zout, tr, h  []float64
 	inDen, yin        []float64
 	sameDen           bool // both sides from one nodal system: inDen is den
+	outWhole          bool // the output side from the whole (single-ended) stage
 }
 
 // portPolys are the four two-port numerators of one nodal system over its
@@ -365,7 +366,7 @@ func (mm *Memo) stagePorts(st Stage, m Model, out, in bool) (stagePorts, error) 
 		if err != nil {
 			return sp, err
 		}
-		sp.outOK, sp.outScale = true, pp.scale
+		sp.outOK, sp.outScale, sp.outWhole = true, pp.scale, whole
 		sp.den, sp.zout, sp.tr, sp.h = pp.den, pp.zout, pp.tr, pp.h
 	}
 	if in {

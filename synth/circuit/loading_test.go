@@ -338,3 +338,56 @@ func TestLoadedNodeGainsExact(t *testing.T) {
 	require.Greater(t, most, 0.01, "the loading should move some node by more than 1 %%")
 	t.Logf("the unloaded node gains miss by up to %.1f %%", 100*most)
 }
+
+// TestFirstOrderLoading checks [circuit.Loading.FirstOrder]: in a chain
+// of two stages the second's output is open, so the first stage loaded
+// by the second's input to first order is exact, and its rational times
+// the second's must equal the two solved as one circuit to rounding (1e-9
+// relative) at every frequency, where the unloaded product misses by
+// more than 0.01 dB somewhere; the last stage, which nothing loads, is
+// returned as it is. The cases are TestLoadingTwoStagesExact's.
+func TestFirstOrderLoading(t *testing.T) {
+	t.Parallel()
+	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200, InputCapacitanceFarad: 3e-12}
+	cases := []struct {
+		name string
+		a, b circuit.Stage
+	}{
+		{"sallen-key into sallen-key", ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.SallenKeyLP(1.5e3, 1e3, 47e-9, 4.7e-9)},
+		{"highpass into highpass", ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.SallenKeyHP(100e-9, 100e-9, 330, 680)},
+		{"multiple-feedback into follower RC", ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.RCBuffer(1e3, 10e-9)},
+		{"inverting into sallen-key", ct.Inverting(1e3, 2.2e3), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
+	}
+	freqs := []float64{0, 100, 3e3, 2e4, 6e4, 2e5, 5e5, 2e6}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
+			ch := circuit.Chain{Stages: []circuit.Stage{tc.a, tc.b}, Model: m}
+			tfs, err := ch.TransferFunctions()
+			require.NoError(t, err)
+			load, err := ch.Loading()
+			require.NoError(t, err)
+			fo := load.FirstOrder(tfs)
+			require.Len(t, fo, 2)
+			require.Equal(t, tfs[1], fo[1], "the last stage is not loaded")
+			require.Greater(t, len(fo[0].Den), len(tfs[0].Den), "the loaded stage has the next stage's input poles too")
+			whole := merged(t, tc.a, tc.b)
+			most := 0.0
+			for _, f := range freqs {
+				want, err := whole.SolveAt(m, complex(0, 2*math.Pi*f))
+				require.NoError(t, err)
+				got := fo.AtHz(f)
+				if want == 0 { // a highpass at DC
+					require.Zero(t, got, "at %g Hz", f)
+					continue
+				}
+				require.InDelta(t, 0, cmplx.Abs(got-want)/cmplx.Abs(want), 1e-9, "at %g Hz: %v against %v", f, got, want)
+				most = math.Max(most, math.Abs(20*math.Log10(cmplx.Abs(tfs.AtHz(f))/cmplx.Abs(want))))
+			}
+			for _, p := range fo[0].Poles() {
+				require.Less(t, real(p), 0.0, "a stable chain's loaded stage is stable")
+			}
+			require.Greater(t, most, 0.01, "the loading should matter somewhere")
+		})
+	}
+}
