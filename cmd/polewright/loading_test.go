@@ -328,7 +328,7 @@ func TestStepLoadingAgainstNgspice(t *testing.T) {
 			require.NotNil(t, n.StepV)
 			frac, ok := tolVpp[tc.name]
 			if !ok {
-				frac = 0.005
+				frac = 0.001
 			}
 			tol := frac * d.Spec.SignalVppV()
 			t.Logf("%s: step extremes ngspice (20 ns) [%.5f, %.5f] V, design [%.5f, %.5f] V", tc.name, lo, hi, n.StepV[0], n.StepV[1])
