@@ -206,7 +206,9 @@ func (d *Design) swing(ch circuit.Chain, tfs, stepTFs circuit.Cascade) error {
 	// output loaded by the stages after it (circuit.Loading: exact), which
 	// with an op-amp output resistance moves a node's gain by up to a
 	// percent or two where the op-amps' loop gain runs out. The step
-	// extremes are the unloaded stages'.
+	// extremes take stepTFs: a single-ended stage's output as loaded by
+	// the next stage's input where that matters (see verifyDesign), its
+	// other nodes with its output open.
 	load, err := ch.Loading()
 	if err != nil {
 		return fmt.Errorf("synth: swing: %w", err)

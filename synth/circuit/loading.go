@@ -160,17 +160,86 @@ func (l Loading) Sweep(freqHz []float64) (yl, fac [][]complex128) {
 		yl[k] = back[2*k*m : (2*k+1)*m : (2*k+1)*m]
 		fac[k] = back[(2*k+1)*m : (2*k+2)*m : (2*k+2)*m]
 	}
-	for i, f := range freqHz {
-		w := 2 * math.Pi * f
-		var y complex128
-		for k := n - 1; k >= 0; k-- {
-			yl[k][i] = y
-			var num, den complex128
-			num, den, y = l.step(k, w, y)
-			fac[k][i] = div(num, den)
+	l.sweep(freqHz, yl, fac)
+	return yl, fac
+}
+
+// sweep is the recursion of [Loading.step] stage by stage over the whole
+// grid, each polynomial split into even and odd powers once (as
+// sweepStage does): it fills fac[k] and, when yl is not nil, yl[k]. The
+// load on the stage being visited is carried in the next stage's yl row,
+// or in scratch when yl is nil.
+func (l Loading) sweep(freqHz []float64, yl, fac [][]complex128) {
+	var cur, next []complex128 // the load on stage k's output, and on k−1's
+	if yl == nil {
+		buf := make([]complex128, 2*len(freqHz))
+		cur, next = buf[:len(freqHz)], buf[len(freqHz):]
+	}
+	for k := len(l.stages) - 1; k >= 0; k-- {
+		if yl != nil {
+			cur = yl[k]
+			if k > 0 {
+				next = yl[k-1]
+			}
+		}
+		sp := &l.stages[k]
+		loaded := k < len(l.joined) && l.joined[k]
+		needIn := k > 0 && l.joined[k-1]
+		if !loaded {
+			for i := range fac[k] {
+				fac[k][i] = 1
+			}
+		}
+		if !loaded && !needIn {
+			if k > 0 {
+				clear(next)
+			}
+			cur, next = next, cur
+			continue
+		}
+		var den, zout, tr, h, inDen, yin evenOddPoly
+		var ko, ki float64
+		if loaded {
+			den, zout = newEvenOddPoly(sp.den), newEvenOddPoly(sp.zout)
+			if needIn {
+				tr, h = newEvenOddPoly(sp.tr), newEvenOddPoly(sp.h)
+			}
+			ko = 2 * math.Pi / sp.outScale
+		}
+		shared := loaded && sp.sameDen
+		if needIn {
+			yin = newEvenOddPoly(sp.yin)
+			if !shared {
+				inDen = newEvenOddPoly(sp.inDen)
+			}
+			ki = 2 * math.Pi / sp.inScale
+		}
+		for i, f := range freqHz {
+			var tail, d complex128
+			if loaded {
+				x := ko * f
+				u := -x * x
+				d = den.at(x, u)
+				e := d + zout.at(x, u)*cur[i]
+				fac[k][i] = div(d, e)
+				if needIn {
+					tail = div(tr.at(x, u)*cur[i]*h.at(x, u), d*e)
+				}
+			}
+			if needIn {
+				x := ki * f
+				u := -x * x
+				di := d
+				if !shared {
+					di = inDen.at(x, u)
+				}
+				next[i] = div(yin.at(x, u), di) - tail
+			}
+		}
+		if yl == nil {
+			cur, next = next, cur
 		}
 	}
-	return yl, fac
 }
 
 // Apply multiplies dst[i] by the loading at freqHz[i].
@@ -216,77 +285,28 @@ func (l Loading) DBAt(fHz float64) float64 {
 const dbPerLn10 = 10 / math.Ln10
 
 // ApplyDB adds the loading's 20·log10|L| at freqHz[i] to dst[i]: the
-// recursion of [Loading.DBAt], stage by stage over the whole grid, each
-// polynomial split into even and odd powers once (as sweepStage does).
+// recursion of [Loading.DBAt] over the whole grid ([Loading.Sweep]'s),
+// with one logarithm per frequency while the product of the factors'
+// squared magnitudes stays in range.
 func (l Loading) ApplyDB(dst []float64, freqHz []float64) {
 	if l.Empty() {
 		return
 	}
-	n := len(freqHz)
-	yl := make([]complex128, n)
-	buf := make([]float64, 3*n)
-	n2, d2, lacc := buf[:n], buf[n:2*n], buf[2*n:]
-	for i := range n2 {
-		n2[i], d2[i] = 1, 1
+	n, m := len(l.stages), len(freqHz)
+	back := make([]complex128, n*m)
+	fac := make([][]complex128, n)
+	for k := range n {
+		fac[k] = back[k*m : (k+1)*m : (k+1)*m]
 	}
-	for k := len(l.stages) - 1; k >= 0; k-- {
-		sp := &l.stages[k]
-		loaded := k < len(l.joined) && l.joined[k]
-		needIn := k > 0 && l.joined[k-1]
-		if !loaded && !needIn {
-			clear(yl)
-			continue
-		}
-		var den, zout, tr, h, inDen, yin evenOddPoly
-		var ko, ki float64
-		if loaded {
-			den, zout = newEvenOddPoly(sp.den), newEvenOddPoly(sp.zout)
-			if needIn {
-				tr, h = newEvenOddPoly(sp.tr), newEvenOddPoly(sp.h)
-			}
-			ko = 2 * math.Pi / sp.outScale
-		}
-		shared := loaded && sp.sameDen
-		if needIn {
-			yin = newEvenOddPoly(sp.yin)
-			if !shared {
-				inDen = newEvenOddPoly(sp.inDen)
-			}
-			ki = 2 * math.Pi / sp.inScale
-		}
-		for i, f := range freqHz {
-			var tail, d complex128
-			if loaded {
-				x := ko * f
-				u := -x * x
-				d = den.at(x, u)
-				e := d + zout.at(x, u)*yl[i]
-				n2[i] *= real(d)*real(d) + imag(d)*imag(d)
-				d2[i] *= real(e)*real(e) + imag(e)*imag(e)
-				if !(n2[i] > 1e-200 && n2[i] < 1e200 && d2[i] > 1e-200 && d2[i] < 1e200) {
-					lacc[i] += math.Log(n2[i]) - math.Log(d2[i])
-					n2[i], d2[i] = 1, 1
-				}
-				if needIn {
-					tail = div(tr.at(x, u)*yl[i]*h.at(x, u), d*e)
-				}
-			}
-			if needIn {
-				x := ki * f
-				u := -x * x
-				di := d
-				if !shared {
-					di = inDen.at(x, u)
-				}
-				yl[i] = div(yin.at(x, u), di) - tail
-			} else {
-				yl[i] = 0
-			}
-		}
-	}
+	l.sweep(freqHz, nil, fac)
 	for i, f := range freqHz {
-		v := dbPerLn10 * (lacc[i] + lnRatio(n2[i], d2[i]))
-		if math.IsNaN(v) || math.IsInf(v, 0) {
+		p2 := 1.0
+		for k := range n {
+			v := fac[k][i]
+			p2 *= real(v)*real(v) + imag(v)*imag(v)
+		}
+		v := dbPerLn10 * lnRatio(p2, 1)
+		if math.IsNaN(v) || math.IsInf(v, 0) || p2 == 0 {
 			v = 20 * math.Log10(cmplx.Abs(l.AtHz(f)))
 		}
 		dst[i] += v
