@@ -223,6 +223,49 @@ func readOp(t *testing.T, path string) float64 {
 	return v
 }
 
+// ngspiceNoise runs the deck in ngspice and returns its .noise: the
+// frequencies and the output noise density in V/√Hz.
+func ngspiceNoise(t *testing.T, deck string) (freqHz, vPerRtHz []float64) {
+	t.Helper()
+	dir := t.TempDir()
+	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+	defer cancel()
+	_, _, err := spicerun.RunDir(ctx, dir, []byte(deck))
+	require.NoError(t, err)
+	f, err := os.Open(filepath.Join(dir, circuit.DefaultNoiseDataFile))
+	require.NoError(t, err)
+	defer f.Close()
+	freq, vecs, err := spicerun.ReadData(f)
+	require.NoError(t, err)
+	require.NotEmpty(t, vecs)
+	for _, v := range vecs[0] {
+		vPerRtHz = append(vPerRtHz, real(v))
+	}
+	return freq, vPerRtHz
+}
+
+// fineTranExtremes runs the deck's .tran in ngspice over its own span
+// with a maximum time step of 20 ns (printed every 10 ns) and returns
+// v(out)'s extremes.
+func fineTranExtremes(t *testing.T, deck string) (lo, hi float64) {
+	t.Helper()
+	var tran string
+	for _, line := range strings.Split(deck, "\n") {
+		if strings.HasPrefix(line, "tran ") {
+			tran = line
+		}
+	}
+	f := strings.Fields(tran)
+	require.Len(t, f, 5, "the deck's tran line: %q", tran)
+	deck = strings.Replace(deck, tran, "tran 1e-8 "+f[2]+" 0 2e-8", 1)
+	dir := t.TempDir()
+	ctx, cancel := context.WithTimeout(context.Background(), 3*time.Minute)
+	defer cancel()
+	_, _, err := spicerun.RunAll(ctx, dir, []byte(deck))
+	require.NoError(t, err)
+	return readTranExtremes(t, filepath.Join(dir, circuit.DefaultTranDataFile))
+}
+
 // readTranExtremes returns the extremes of v(out) in the transient data
 // file (time, real, imaginary per row).
 func readTranExtremes(t *testing.T, path string) (lo, hi float64) {
@@ -262,16 +305,7 @@ func TestFlickerDeckAgainstNgspice(t *testing.T) {
 	code, deck, errOut := runCLI(t, spec, "export", "-spec", "-", "-as", "spice")
 	require.Equal(t, exitOK, code, errOut)
 	require.Contains(t, deck, "kf=")
-	dir := t.TempDir()
-	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
-	defer cancel()
-	_, _, err := spicerun.RunDir(ctx, dir, []byte(deck))
-	require.NoError(t, err)
-	f, err := os.Open(filepath.Join(dir, circuit.DefaultNoiseDataFile))
-	require.NoError(t, err)
-	freq, vecs, err := spicerun.ReadData(f)
-	f.Close()
-	require.NoError(t, err)
+	freq, density := ngspiceNoise(t, deck)
 	s, err := synth.ParseSpecBytes([]byte(spec))
 	require.NoError(t, err)
 	design, err := synth.Synthesize(context.Background(), s)
@@ -283,7 +317,7 @@ func TestFlickerDeckAgainstNgspice(t *testing.T) {
 	require.NoError(t, err)
 	worst := 0.0
 	for i, fr := range freq {
-		d := math.Abs(20*math.Log10(ours.OutputVPerRtHz[i]) - 20*math.Log10(real(vecs[0][i])))
+		d := math.Abs(20*math.Log10(ours.OutputVPerRtHz[i]) - 20*math.Log10(density[i]))
 		worst = math.Max(worst, d)
 		require.Less(t, d, 0.1, "noise at %g Hz", fr)
 	}
@@ -319,21 +353,7 @@ func TestStepSpikeAgainstFineNgspice(t *testing.T) {
 			require.NoError(t, json.Unmarshal([]byte(out), &d))
 			code, deck, errOut := runCLI(t, tc.spec, "export", "-spec", "-", "-as", "spice")
 			require.Equal(t, exitOK, code, errOut)
-			var tran string
-			for _, line := range strings.Split(deck, "\n") {
-				if strings.HasPrefix(line, "tran ") {
-					tran = line
-				}
-			}
-			f := strings.Fields(tran)
-			require.Len(t, f, 5, "the deck's tran line: %q", tran)
-			deck = strings.Replace(deck, tran, "tran 1e-8 "+f[2]+" 0 2e-8", 1)
-			dir := t.TempDir()
-			ctx, cancel := context.WithTimeout(context.Background(), 3*time.Minute)
-			defer cancel()
-			_, _, err := spicerun.RunAll(ctx, dir, []byte(deck))
-			require.NoError(t, err)
-			lo, hi := readTranExtremes(t, filepath.Join(dir, circuit.DefaultTranDataFile))
+			lo, hi := fineTranExtremes(t, deck)
 			last := d.Sections[len(d.Sections)-1].Swing.Nodes
 			n := last[len(last)-1]
 			require.Equal(t, "out", n.Node)

@@ -56,6 +56,18 @@ func merged(t *testing.T, stages ...circuit.Stage) circuit.Stage {
 	return st
 }
 
+// twoStages are pairs of stages where the loading is large with a slow
+// op-amp and a large output resistance: low-impedance inputs.
+var twoStages = []struct {
+	name string
+	a, b circuit.Stage
+}{
+	{"sallen-key into sallen-key", ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.SallenKeyLP(1.5e3, 1e3, 47e-9, 4.7e-9)},
+	{"highpass into highpass", ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.SallenKeyHP(100e-9, 100e-9, 330, 680)},
+	{"multiple-feedback into follower RC", ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.RCBuffer(1e3, 10e-9)},
+	{"inverting into sallen-key", ct.Inverting(1e3, 2.2e3), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
+}
+
 // TestLoadingTwoStagesExact checks [circuit.Chain.Loading] against the
 // two stages solved as one circuit: with two stages the driven stage's
 // output is open, so the Thévenin correction is exact and the chain's
@@ -68,15 +80,7 @@ func merged(t *testing.T, stages ...circuit.Stage) circuit.Stage {
 func TestLoadingTwoStagesExact(t *testing.T) {
 	t.Parallel()
 	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200, InputCapacitanceFarad: 3e-12}
-	cases := []struct {
-		name string
-		a, b circuit.Stage
-	}{
-		{"sallen-key into sallen-key", ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.SallenKeyLP(1.5e3, 1e3, 47e-9, 4.7e-9)},
-		{"highpass into highpass", ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.SallenKeyHP(100e-9, 100e-9, 330, 680)},
-		{"multiple-feedback into follower RC", ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.RCBuffer(1e3, 10e-9)},
-		{"inverting into sallen-key", ct.Inverting(1e3, 2.2e3), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
-	}
+	cases := twoStages
 	freqs := []float64{100, 3e3, 2e4, 6e4, 2e5, 5e5}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -194,6 +198,13 @@ func TestMag2HzSameAsAtHz(t *testing.T) {
 	}
 }
 
+// longChains are chains of three and four stages for the loading's
+// recursion through each stage's reverse transmission.
+var longChains = [][]circuit.Stage{
+	{ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
+	{ct.Inverting(1e3, 2.2e3), ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.MFBLP(1e3, 1e3, 1e3, 10e-9, 1e-9), ct.RCBuffer(1e3, 10e-9)},
+}
+
 // TestLoadingChainExact checks [circuit.Chain.Loading] on chains of three
 // and four stages against the whole chain solved as one circuit: the
 // recursion from the output back (each stage's input admittance as
@@ -207,10 +218,7 @@ func TestMag2HzSameAsAtHz(t *testing.T) {
 func TestLoadingChainExact(t *testing.T) {
 	t.Parallel()
 	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 500, InputCapacitanceFarad: 3e-12}
-	chains := [][]circuit.Stage{
-		{ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
-		{ct.Inverting(1e3, 2.2e3), ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.MFBLP(1e3, 1e3, 1e3, 10e-9, 1e-9), ct.RCBuffer(1e3, 10e-9)},
-	}
+	chains := longChains
 	freqs := []float64{100, 3e3, 2e4, 6e4, 2e5, 5e5}
 	firstMost := 0.0
 	for i, stages := range chains {
@@ -258,10 +266,7 @@ func TestLoadingChainExact(t *testing.T) {
 func TestLoadedNodeGainsExact(t *testing.T) {
 	t.Parallel()
 	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 500, InputCapacitanceFarad: 3e-12}
-	chains := [][]circuit.Stage{
-		{ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
-		{ct.Inverting(1e3, 2.2e3), ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.MFBLP(1e3, 1e3, 1e3, 10e-9, 1e-9), ct.RCBuffer(1e3, 10e-9)},
-	}
+	chains := longChains
 	freqs := []float64{0, 100, 3e3, 2e4, 6e4, 2e5, 5e5}
 	most := 0.0
 	for c, stages := range chains {
@@ -345,19 +350,11 @@ func TestLoadedNodeGainsExact(t *testing.T) {
 // the second's must equal the two solved as one circuit to rounding (1e-9
 // relative) at every frequency, where the unloaded product misses by
 // more than 0.01 dB somewhere; the last stage, which nothing loads, is
-// returned as it is. The cases are TestLoadingTwoStagesExact's.
+// returned as it is. The cases are twoStages.
 func TestFirstOrderLoading(t *testing.T) {
 	t.Parallel()
 	m := circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200, InputCapacitanceFarad: 3e-12}
-	cases := []struct {
-		name string
-		a, b circuit.Stage
-	}{
-		{"sallen-key into sallen-key", ct.SallenKeyLP(1e3, 1.2e3, 22e-9, 10e-9), ct.SallenKeyLP(1.5e3, 1e3, 47e-9, 4.7e-9)},
-		{"highpass into highpass", ct.SallenKeyHP(100e-9, 100e-9, 470, 1e3), ct.SallenKeyHP(100e-9, 100e-9, 330, 680)},
-		{"multiple-feedback into follower RC", ct.MFBLP(1e3, 2.2e3, 1e3, 47e-9, 4.7e-9), ct.RCBuffer(1e3, 10e-9)},
-		{"inverting into sallen-key", ct.Inverting(1e3, 2.2e3), ct.SallenKeyLP(1e3, 1e3, 10e-9, 4.7e-9)},
-	}
+	cases := twoStages
 	freqs := []float64{0, 100, 3e3, 2e4, 6e4, 2e5, 5e5, 2e6}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
