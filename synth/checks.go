@@ -46,6 +46,10 @@ const (
 	// common mode (the reference, where the FDAs hold it) with the
 	// common mode the converter's input wants.
 	CheckOutputCommonMode = "output-common-mode"
+	// CheckStepModel: present when the step takes the stages' loading of
+	// each other to first order only and what that leaves out may move
+	// the step by more than StepModelLimitPct of it.
+	CheckStepModel = "step-model"
 )
 
 // OutputCommonModeLimitV is how far the FDAs' output common mode may sit
@@ -139,6 +143,9 @@ func (d *Design) fillChecks() {
 	if c, ok := d.opAmpGBWCheck(); ok {
 		d.Checks = append(d.Checks, c)
 	}
+	if c, ok := d.stepModelCheck(); ok {
+		d.Checks = append(d.Checks, c)
+	}
 	for _, pin := range []string{PinOutput, PinInput} {
 		if c, ok := d.swingCheck(pin); ok {
 			d.Checks = append(d.Checks, c)
@@ -165,6 +172,29 @@ func (d *Design) fillChecks() {
 		d.Checks = append(d.Checks, c)
 	}
 	d.Checks = append(d.Checks, d.cautionChecks()...)
+}
+
+// StepModelLimitPct is the share of the step, in %, beyond which the
+// step-model check warns that the step's first-order loading may be off
+// (a rule of this program).
+const StepModelLimitPct = 1
+
+// stepModelCheck warns when the step takes the loading to first order
+// only (circuit.Loading.FirstOrder) and the estimate of what that leaves
+// out (circuit.Loading.FirstOrderShift) exceeds StepModelLimitPct of the
+// step: the step's figures and the swing's step extremes may be that far
+// from the board's.
+func (d *Design) stepModelCheck() (Check, bool) {
+	pct := 100 * d.stepLoadResidual
+	if !(pct > StepModelLimitPct) {
+		return Check{}, false
+	}
+	share := fmt.Sprintf("%.3g %% of the step", pct)
+	if pct >= 100 {
+		share = fmt.Sprintf("%.3g times the step", pct/100)
+	}
+	text := fmt.Sprintf("The step takes each stage loaded by the next stage's input only; what the stages beyond add through the op-amps' output resistance may move it by up to %s here (an estimate), so its overshoot, settling and the swing's step extremes may be that far off: check them with the deck's .tran.", share)
+	return newCheck(CheckStepModel, false, SeverityWarning, pct, StepModelLimitPct, "%", 0, text), true
 }
 
 // swingCheck judges the op-amp outputs (pin "output": the swing check)

@@ -105,6 +105,10 @@ type Design struct {
 	nodeDC   map[string]float64 // DC error of each swing node, by deck node name
 	chain    *circuit.Chain
 	chainTFs circuit.Cascade // the chain's stages' rational forms
+	// stepLoadResidual estimates how far the unit step may be from the
+	// board's where the step takes the loading to first order only
+	// (circuit.Loading.FirstOrderShift; 0 otherwise).
+	stepLoadResidual float64
 	// chainLoad is the chain's inter-stage loading, which the response as
 	// built carries beside chainTFs' product.
 	chainLoad circuit.Loading

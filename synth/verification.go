@@ -101,6 +101,8 @@ func (d *Design) verifyDesign(ctx context.Context, level Level) error {
 		}
 		if load.StepShift(tfs, lo*1e-3, hi*1e3, 8) > stepLoadingFrac {
 			stepTFs = load.FirstOrder(tfs)
+			// What first order leaves out, for the step-model check.
+			d.stepLoadResidual = load.FirstOrderShift(tfs, stepTFs, lo*1e-3, hi*1e3, 8)
 		}
 	}
 	d.stepResponse(stepTFs)

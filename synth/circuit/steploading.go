@@ -110,15 +110,38 @@ func (r Rational) finite() bool {
 // [loHz, hiHz]. It is an estimate, not a bound: the integral is truncated
 // at both ends and sampled.
 func (l Loading) StepShift(tfs Cascade, loHz, hiHz float64, perDecade int) float64 {
-	if l.Empty() || !(loHz > 0) || !(hiHz > loHz) || perDecade < 1 {
+	if l.Empty() {
+		return 0
+	}
+	return shiftEstimate(loHz, hiHz, perDecade, func(f float64) complex128 {
+		return tfs.AtHz(f) * (l.AtHz(f) - 1)
+	})
+}
+
+// FirstOrderShift is [Loading.StepShift] for what [Loading.FirstOrder]
+// leaves out: (1/π)·∫|T·L − F| dω/ω with F the product of the stages fo
+// (FirstOrder's result for tfs), how far the step of the stages fo may be
+// from the chain's, loaded exactly.
+func (l Loading) FirstOrderShift(tfs, fo Cascade, loHz, hiHz float64, perDecade int) float64 {
+	if l.Empty() {
+		return 0
+	}
+	return shiftEstimate(loHz, hiHz, perDecade, func(f float64) complex128 {
+		return tfs.AtHz(f)*l.AtHz(f) - fo.AtHz(f)
+	})
+}
+
+// shiftEstimate is (1/π)·∫|diff(f)| d(ln f) over [loHz, hiHz] by the
+// trapezoid rule at perDecade points per decade (0 for an empty range).
+func shiftEstimate(loHz, hiHz float64, perDecade int, diff func(fHz float64) complex128) float64 {
+	if !(loHz > 0) || !(hiHz > loHz) || perDecade < 1 {
 		return 0
 	}
 	n := int(math.Ceil(math.Log10(hiHz/loHz) * float64(perDecade)))
 	dln := math.Log(hiHz/loHz) / float64(n)
 	sum, prev := 0.0, 0.0
 	for i := 0; i <= n; i++ {
-		f := loHz * math.Exp(float64(i)*dln)
-		v := cmplxAbs(tfs.AtHz(f) * (l.AtHz(f) - 1))
+		v := cmplxAbs(diff(loHz * math.Exp(float64(i)*dln)))
 		if i > 0 {
 			sum += (v + prev) / 2 * dln
 		}
