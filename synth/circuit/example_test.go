@@ -125,3 +125,53 @@ func ExampleChain_Loading() {
 	// 1000 Hz: 0.00035 dB
 	// 100000 Hz: -0.10227 dB
 }
+
+// ExampleLoading_FirstOrder loads the first of two stages by the second's
+// input for a step response: the loaded stage's rational carries the
+// second stage's input poles too, its product with the second stage is
+// the chain's response as built, and StepShift says how far the loading
+// may move the unit step (the chain of ExampleChain_Loading).
+func ExampleLoading_FirstOrder() {
+	inv := circuit.Stage{
+		Topology: "inverting",
+		Parts: []circuit.Part{
+			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
+			{Ref: "R2", Kind: circuit.Resistor, A: "n1", B: "out", Value: 2.2e3},
+		},
+		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "0", Minus: "n1", Out: "out"}},
+		Out:    "out",
+	}
+	rc := circuit.Stage{
+		Topology: "rc-buffer",
+		Parts: []circuit.Part{
+			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
+			{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: "0", Value: 10e-9},
+		},
+		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n1", Minus: "out", Out: "out"}},
+		Out:    "out",
+	}
+	ch := circuit.Chain{Stages: []circuit.Stage{inv, rc}, Model: circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200}}
+	tfs, err := ch.TransferFunctions()
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	l, err := ch.Loading()
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fo := l.FirstOrder(tfs)
+	built, err := ch.Response(nil, []float64{1e5})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("poles: %d unloaded, %d loaded\n", len(tfs[0].Poles()), len(fo[0].Poles()))
+	fmt.Printf("at 100 kHz the first-order stages are the chain as built: %t\n", cmplx.Abs(fo.AtHz(1e5)-built[0]) < 1e-9*cmplx.Abs(built[0]))
+	fmt.Printf("the loading may move the unit step by %.1e\n", l.StepShift(tfs, 1, 1e9, 8))
+	// Output:
+	// poles: 1 unloaded, 3 loaded
+	// at 100 kHz the first-order stages are the chain as built: true
+	// the loading may move the unit step by 2.0e-02
+}
