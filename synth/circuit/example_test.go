@@ -94,25 +94,7 @@ func ExampleRational_DominantPair() {
 // follower's input loads the first op-amp's output, slightly at 1 kHz,
 // where its loop gain is large, and more at 100 kHz.
 func ExampleChain_Loading() {
-	inv := circuit.Stage{
-		Topology: "inverting",
-		Parts: []circuit.Part{
-			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
-			{Ref: "R2", Kind: circuit.Resistor, A: "n1", B: "out", Value: 2.2e3},
-		},
-		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "0", Minus: "n1", Out: "out"}},
-		Out:    "out",
-	}
-	rc := circuit.Stage{
-		Topology: "rc-buffer",
-		Parts: []circuit.Part{
-			{Ref: "R1", Kind: circuit.Resistor, A: "in", B: "n1", Value: 1e3},
-			{Ref: "C1", Kind: circuit.Capacitor, A: "n1", B: "0", Value: 10e-9},
-		},
-		OpAmps: []circuit.OpAmp{{Ref: "U1", Plus: "n1", Minus: "out", Out: "out"}},
-		Out:    "out",
-	}
-	ch := circuit.Chain{Stages: []circuit.Stage{inv, rc}, Model: circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200}}
+	ch := loadedPair()
 	l, err := ch.Loading()
 	if err != nil {
 		fmt.Println(err)
@@ -126,12 +108,9 @@ func ExampleChain_Loading() {
 	// 100000 Hz: -0.10227 dB
 }
 
-// ExampleLoading_FirstOrder loads the first of two stages by the second's
-// input for a step response: the loaded stage's rational carries the
-// second stage's input poles too, its product with the second stage is
-// the chain's response as built, and StepShift says how far the loading
-// may move the unit step (the chain of ExampleChain_Loading).
-func ExampleLoading_FirstOrder() {
+// loadedPair is an inverting stage driving a follower RC, both on a 1 MHz
+// op-amp with 200 Ω of open-loop output resistance.
+func loadedPair() circuit.Chain {
 	inv := circuit.Stage{
 		Topology: "inverting",
 		Parts: []circuit.Part{
@@ -151,6 +130,16 @@ func ExampleLoading_FirstOrder() {
 		Out:    "out",
 	}
 	ch := circuit.Chain{Stages: []circuit.Stage{inv, rc}, Model: circuit.Model{GBWHz: 1e6, DCGainDB: 100, OutputResistanceOhm: 200}}
+	return ch
+}
+
+// ExampleLoading_FirstOrder loads the first of two stages by the second's
+// input for a step response: the loaded stage's rational carries the
+// second stage's input poles too, its product with the second stage is
+// the chain's response as built, and StepShift says how far the loading
+// may move the unit step (the chain of ExampleChain_Loading).
+func ExampleLoading_FirstOrder() {
+	ch := loadedPair()
 	tfs, err := ch.TransferFunctions()
 	if err != nil {
 		fmt.Println(err)
