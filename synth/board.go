@@ -420,15 +420,7 @@ func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float6
 	if err != nil {
 		return 0, 0, err
 	}
-	kmin, kmax := 0, 0
-	for i, v := range y {
-		if v < y[kmin] {
-			kmin = i
-		}
-		if v > y[kmax] {
-			kmax = i
-		}
-	}
+	kmin, kmax := argExtremes(y)
 	ymin, ymax = y[kmin], y[kmax]
 	early := math.Abs(y[1]-y[0]) > stepEarlyMove*(ymax-ymin)
 	// search evaluates ts and widens the extremes; when refine declines,
@@ -439,15 +431,7 @@ func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float6
 		if err != nil {
 			return 0, 0, false
 		}
-		jmin, jmax := 0, 0
-		for j, v := range ye {
-			if v < ye[jmin] {
-				jmin = j
-			}
-			if v > ye[jmax] {
-				jmax = j
-			}
-		}
+		jmin, jmax := argExtremes(ye)
 		ymin, ymax = math.Min(ymin, ye[jmin]), math.Max(ymax, ye[jmax])
 		return ts[jmin], ts[jmax], true
 	}
@@ -485,6 +469,20 @@ func stepExtremes(respond, refine func([]float64) ([]float64, error), t []float6
 		search(fine)
 	}
 	return ymin, ymax, nil
+}
+
+// argExtremes returns the indices of the first least and the first
+// greatest value of y (0, 0 for an empty y).
+func argExtremes(y []float64) (kmin, kmax int) {
+	for i, v := range y {
+		if v < y[kmin] {
+			kmin = i
+		}
+		if v > y[kmax] {
+			kmax = i
+		}
+	}
+	return kmin, kmax
 }
 
 // stepFinePoints is the number of times of each finer search of the step's

@@ -41,17 +41,12 @@ func TestStepModelCheck(t *testing.T) {
 			require.NoError(t, err)
 			d, err := synth.Synthesize(context.Background(), s)
 			require.NoError(t, err)
-			var got *synth.Check
-			for i, c := range d.Checks {
-				if c.ID == synth.CheckStepModel {
-					got = &d.Checks[i]
-				}
-			}
+			got, ok := checkOf(d, synth.CheckStepModel)
 			if !tc.want {
-				require.Nil(t, got, "no step-model check")
+				require.False(t, ok, "no step-model check")
 				return
 			}
-			require.NotNil(t, got, "a step-model check")
+			require.True(t, ok, "a step-model check")
 			require.False(t, got.OK)
 			require.Equal(t, synth.SeverityWarning, got.Severity)
 			require.Equal(t, "%", got.Unit)

@@ -1,6 +1,9 @@
 package circuit
 
-import "math"
+import (
+	"math"
+	"math/cmplx"
+)
 
 // FirstOrder returns the chain's stages, as [Chain.TransferFunctions]
 // gives them in tfs, with each single-ended stage whose output the next
@@ -141,7 +144,7 @@ func shiftEstimate(loHz, hiHz float64, perDecade int, diff func(fHz float64) com
 	dln := math.Log(hiHz/loHz) / float64(n)
 	sum, prev := 0.0, 0.0
 	for i := 0; i <= n; i++ {
-		v := cmplxAbs(diff(loHz * math.Exp(float64(i)*dln)))
+		v := cmplx.Abs(diff(loHz * math.Exp(float64(i)*dln)))
 		if i > 0 {
 			sum += (v + prev) / 2 * dln
 		}
@@ -149,6 +152,3 @@ func shiftEstimate(loHz, hiHz float64, perDecade int, diff func(fHz float64) com
 	}
 	return sum / math.Pi
 }
-
-// cmplxAbs is |z|, NaN-safe as math.Hypot.
-func cmplxAbs(z complex128) float64 { return math.Hypot(real(z), imag(z)) }
